@@ -1,0 +1,103 @@
+//! `catoptric`: the command-line front end. Glue only: argument parsing,
+//! file reading and printing around library calls.
+
+mod bench;
+mod commands;
+mod design_cmd;
+mod serve;
+
+use clap::{Parser, Subcommand};
+use std::process::ExitCode;
+
+#[derive(Parser)]
+#[command(name = "catoptric", version, about = "Ray-optics workbench for curved mirrors")]
+struct Cli {
+    #[command(subcommand)]
+    cmd: Cmd,
+}
+
+#[derive(Subcommand)]
+enum Cmd {
+    /// Trace a layout file and report where the light lands.
+    Trace {
+        /// Layout file (.json).
+        layout: String,
+        /// Rays per source, instead of each source's own count.
+        #[arg(long)]
+        rays: Option<u64>,
+        /// Machine-readable output.
+        #[arg(long)]
+        json: bool,
+    },
+    /// Print the share-link fragment (#L=…) of a layout file.
+    Link {
+        layout: String,
+        #[arg(long)]
+        json: bool,
+    },
+    /// Print the layout JSON carried by a share-link fragment.
+    Unlink {
+        fragment: String,
+        #[arg(long)]
+        json: bool,
+    },
+    /// Closed-form designers (two-mirror telescopes, off-axis paraboloids).
+    Design {
+        #[command(subcommand)]
+        what: design_cmd::DesignCmd,
+    },
+    /// Compare conic constants for one vertex radius and aperture.
+    Compare(design_cmd::CompareArgs),
+    /// Knife-edge readings for a centre-of-curvature test.
+    Zones(design_cmd::ZonesArgs),
+    /// Serve the browser workbench from 127.0.0.1.
+    Serve(serve::ServeArgs),
+    /// Measure tracing speed on the standard scenes.
+    Bench {
+        /// Rays for the paraboloid scene.
+        #[arg(long, default_value_t = 1_000_000)]
+        rays: u64,
+        #[arg(long)]
+        json: bool,
+    },
+}
+
+/// A failed command: message for stderr and the exit code.
+pub struct Failure {
+    pub code: u8,
+    pub message: String,
+}
+
+impl Failure {
+    /// Bad input (exit code 2).
+    pub fn input(message: impl std::fmt::Display) -> Self {
+        Failure { code: 2, message: message.to_string() }
+    }
+}
+
+fn main() -> ExitCode {
+    let cli = Cli::parse();
+    let out = match cli.cmd {
+        Cmd::Trace { layout, rays, json } => commands::trace(&layout, rays, json),
+        Cmd::Link { layout, json } => commands::link(&layout, json),
+        Cmd::Unlink { fragment, json } => commands::unlink(&fragment, json),
+        Cmd::Design { what } => design_cmd::design(what),
+        Cmd::Compare(a) => design_cmd::compare(a),
+        Cmd::Zones(a) => design_cmd::zones(a),
+        Cmd::Serve(a) => serve::run(a),
+        Cmd::Bench { rays, json } => bench::run(rays, json),
+    };
+    match out {
+        Ok(text) => {
+            print!("{text}");
+            if !text.ends_with('\n') {
+                println!();
+            }
+            ExitCode::SUCCESS
+        }
+        Err(f) => {
+            eprintln!("catoptric: {}", f.message);
+            ExitCode::from(f.code)
+        }
+    }
+}

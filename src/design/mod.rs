@@ -1,0 +1,1 @@
+//! Closed-form designers and mirror-testing tables; each emits layouts.

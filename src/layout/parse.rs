@@ -1,0 +1,130 @@
+//! JSON → [`Layout`] with the path of the offending field in every error.
+//!
+//! `elements` and `sources` are tagged by `kind`. Serde's internally tagged
+//! enums buffer their content and lose the path inside the element, so the
+//! two enums deserialize through a `serde_json::Value` and carry the inner
+//! path out in the error text, which [`parse_layout`] splices back in.
+
+use super::{Beam, Element, Layout, Mirror, PointLamp, Screen, Source, FORMAT_TAG, FORMAT_VERSION};
+use crate::error::InputError;
+use serde::de::{DeserializeOwned, Error as _};
+use serde::{Deserialize, Deserializer};
+use serde_json::Value;
+
+/// Marks an error message that carries a nested path: `\u{1}path\u{1}message`.
+const NEST: char = '\u{1}';
+
+fn nested<T: DeserializeOwned, E: serde::de::Error>(mut v: Value) -> Result<T, E> {
+    if let Value::Object(map) = &mut v {
+        map.remove("kind");
+    }
+    serde_path_to_error::deserialize::<_, T>(v).map_err(|e| {
+        let path = e.path().to_string();
+        let inner = e.into_inner().to_string();
+        let (path, msg) = split_nested(&path, &inner);
+        E::custom(format!("{NEST}{path}{NEST}{msg}"))
+    })
+}
+
+/// Joins an outer path with a possibly nested message.
+fn split_nested(outer: &str, msg: &str) -> (String, String) {
+    let outer = if outer == "." { "" } else { outer };
+    if let Some(rest) = msg.strip_prefix(NEST) {
+        if let Some((inner, m)) = rest.split_once(NEST) {
+            let path = match (outer.is_empty(), inner.is_empty()) {
+                (true, _) => inner.to_string(),
+                (false, true) => outer.to_string(),
+                (false, false) => format!("{outer}.{inner}"),
+            };
+            return (path, m.to_string());
+        }
+    }
+    (outer.to_string(), msg.to_string())
+}
+
+fn kind_of<E: serde::de::Error>(v: &Value, allowed: &str) -> Result<String, E> {
+    match v {
+        Value::Object(map) => match map.get("kind") {
+            Some(Value::String(k)) => Ok(k.clone()),
+            Some(_) => Err(E::custom(format!("{NEST}kind{NEST}must be a string: {allowed}"))),
+            None => Err(E::custom(format!("missing field `kind` ({allowed})"))),
+        },
+        _ => Err(E::custom("must be an object")),
+    }
+}
+
+impl<'de> Deserialize<'de> for Element {
+    fn deserialize<D: Deserializer<'de>>(d: D) -> Result<Self, D::Error> {
+        let v = Value::deserialize(d)?;
+        match kind_of::<D::Error>(&v, "\"mirror\" or \"screen\"")?.as_str() {
+            "mirror" => nested::<Mirror, _>(v).map(Element::Mirror),
+            "screen" => nested::<Screen, _>(v).map(Element::Screen),
+            other => Err(D::Error::custom(format!(
+                "{NEST}kind{NEST}unknown element kind \"{other}\"; allowed: \"mirror\", \"screen\""
+            ))),
+        }
+    }
+}
+
+impl<'de> Deserialize<'de> for Source {
+    fn deserialize<D: Deserializer<'de>>(d: D) -> Result<Self, D::Error> {
+        let v = Value::deserialize(d)?;
+        match kind_of::<D::Error>(&v, "\"beam\" or \"point\"")?.as_str() {
+            "beam" => nested::<Beam, _>(v).map(Source::Beam),
+            "point" => nested::<PointLamp, _>(v).map(Source::Point),
+            other => Err(D::Error::custom(format!(
+                "{NEST}kind{NEST}unknown source kind \"{other}\"; allowed: \"beam\", \"point\""
+            ))),
+        }
+    }
+}
+
+/// Parses and validates a layout document.
+///
+/// Errors name the field (`elements[0].profile.conic`) and say what is
+/// allowed. Never panics, whatever the input.
+pub fn parse_layout(text: &str) -> Result<Layout, InputError> {
+    // Check the header first so an unknown version is reported as such and
+    // not as a stray field.
+    let value: Value = serde_json::from_str(text)
+        .map_err(|e| InputError::new("", format!("not valid JSON: {e}")))?;
+    let Value::Object(map) = &value else {
+        return Err(InputError::new("", "a layout must be a JSON object"));
+    };
+    match map.get("format") {
+        Some(Value::String(f)) if f == FORMAT_TAG => {}
+        Some(_) => {
+            return Err(InputError::new("format", format!("must be \"{FORMAT_TAG}\"")));
+        }
+        None => return Err(InputError::new("format", format!("missing; must be \"{FORMAT_TAG}\""))),
+    }
+    match map.get("version") {
+        Some(v) if v.as_u64() == Some(FORMAT_VERSION as u64) => {}
+        Some(v) => {
+            return Err(InputError::new(
+                "version",
+                format!("unsupported version {v}; this build reads version {FORMAT_VERSION}"),
+            ));
+        }
+        None => return Err(InputError::new("version", "missing; must be 1")),
+    }
+    let layout: Layout = serde_path_to_error::deserialize(value).map_err(|e| {
+        let path = e.path().to_string();
+        let msg = e.into_inner().to_string();
+        let (path, msg) = split_nested(&path, &msg);
+        InputError::new(path, msg)
+    })?;
+    super::validate(&layout)?;
+    Ok(layout)
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn nested_paths_are_joined() {
+        assert_eq!(split_nested("elements[0]", "\u{1}profile.conic\u{1}bad"), ("elements[0].profile.conic".into(), "bad".into()));
+        assert_eq!(split_nested(".", "plain"), ("".into(), "plain".into()));
+    }
+}

@@ -1,0 +1,153 @@
+//! Turning a layout source into rays.
+
+use super::sampling::{disk_points, halton_disk, rotation, seed_of};
+use crate::geometry::{Frame, Vec3};
+use crate::layout::Source;
+
+/// A ray `origin + t·dir` with `dir` unit length; `weight` is the power it
+/// carries (W); `opl` the optical path length so far (mm).
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct Ray {
+    pub origin: Vec3,
+    pub dir: Vec3,
+    pub weight: f64,
+    pub opl: f64,
+}
+
+/// A compiled source: its frame, its sample points and the power per ray.
+#[derive(Debug, Clone)]
+pub struct Emitter {
+    frame: Frame,
+    /// Propagation direction and the two axes of the launch disk (beam) or
+    /// of the cone's cross-section (lamp).
+    axis: Vec3,
+    e1: Vec3,
+    e2: Vec3,
+    points: Vec<[f64; 2]>,
+    kind: Kind,
+    /// Power carried by each ray, W.
+    pub ray_weight: f64,
+    /// Power the source puts out in all, W.
+    pub power_w: f64,
+    sun_rot: (f64, f64),
+}
+
+#[derive(Debug, Clone, Copy)]
+enum Kind {
+    Beam { radius: f64, sun_half: f64 },
+    Lamp { one_minus_cos: f64 },
+}
+
+impl Emitter {
+    /// Compiles `source`, launching about `rays` rays (the lattices keep the
+    /// points inside the disk, so the count can differ by a percent).
+    pub fn new(source: &Source, rays: usize) -> Self {
+        match source {
+            Source::Beam(b) => {
+                let frame = Frame::in_plane(b.center, b.direction_deg);
+                let (s, c) = b.out_of_plane_deg.to_radians().sin_cos();
+                let axis = frame.ez * c + frame.ex * s;
+                let e1 = frame.ex * c - frame.ez * s;
+                let points = disk_points(b.pattern, rays, seed_of(&b.id));
+                let radius = 0.5 * b.diameter;
+                let area_m2 = std::f64::consts::PI * radius * radius * 1e-6;
+                let power_w = b.irradiance_w_m2 * area_m2;
+                Emitter {
+                    frame,
+                    axis,
+                    e1,
+                    e2: frame.ey,
+                    ray_weight: power_w / points.len() as f64,
+                    power_w,
+                    points,
+                    kind: Kind::Beam { radius, sun_half: b.sun_half_angle_mrad * 1e-3 },
+                    sun_rot: rotation(seed_of(&b.id), 2),
+                }
+            }
+            Source::Point(p) => {
+                let frame = Frame::in_plane(p.center, p.direction_deg);
+                let points = disk_points(p.pattern, rays, seed_of(&p.id));
+                Emitter {
+                    frame,
+                    axis: frame.ez,
+                    e1: frame.ex,
+                    e2: frame.ey,
+                    ray_weight: p.power_w / points.len() as f64,
+                    power_w: p.power_w,
+                    points,
+                    kind: Kind::Lamp { one_minus_cos: 1.0 - p.cone_half_angle_deg.to_radians().cos() },
+                    sun_rot: (0.0, 0.0),
+                }
+            }
+        }
+    }
+
+    /// Number of rays this emitter launches.
+    pub fn len(&self) -> usize {
+        self.points.len()
+    }
+
+    pub fn is_empty(&self) -> bool {
+        self.points.is_empty()
+    }
+
+    /// Central direction of the emitted light.
+    pub fn axis(&self) -> Vec3 {
+        self.axis
+    }
+
+    /// Direction from a disk sample (a, b) inside a cone with 1 − cos(half
+    /// angle) = `omc`: equal-area map of the disk onto the spherical cap.
+    #[inline]
+    fn cone_dir(&self, a: f64, b: f64, omc: f64) -> Vec3 {
+        let r2 = a * a + b * b;
+        let cos_t = 1.0 - r2 * omc;
+        let sin_t = (1.0 - cos_t * cos_t).max(0.0).sqrt();
+        if r2 == 0.0 {
+            return self.axis;
+        }
+        let r = r2.sqrt();
+        self.axis * cos_t + (self.e1 * (a / r) + self.e2 * (b / r)) * sin_t
+    }
+
+    /// Ray number `i` (0 ≤ i < len()).
+    #[inline]
+    pub fn ray(&self, i: usize) -> Ray {
+        let [a, b] = self.points[i];
+        match self.kind {
+            Kind::Beam { radius, sun_half } => {
+                let origin = self.frame.origin + (self.e1 * a + self.e2 * b) * radius;
+                let dir = if sun_half > 0.0 {
+                    let [p, q] = halton_disk(i as u64, (5, 7), self.sun_rot);
+                    self.cone_dir(p, q, 1.0 - sun_half.cos())
+                } else {
+                    self.axis
+                };
+                Ray { origin, dir, weight: self.ray_weight, opl: 0.0 }
+            }
+            Kind::Lamp { one_minus_cos } => {
+                Ray { origin: self.frame.origin, dir: self.cone_dir(a, b, one_minus_cos), weight: self.ray_weight, opl: 0.0 }
+            }
+        }
+    }
+
+    /// `n` rays of the meridional fan (in the plane of the layout, x = 0):
+    /// evenly across the beam's diameter, or evenly in angle across the
+    /// lamp's cone. Solar disks contribute their central direction only.
+    pub fn fan_ray(&self, j: usize, n: usize) -> Ray {
+        let s = if n <= 1 { 0.0 } else { -1.0 + 2.0 * j as f64 / (n - 1) as f64 };
+        match self.kind {
+            Kind::Beam { radius, .. } => Ray {
+                origin: self.frame.origin + self.e2 * (s * radius),
+                dir: self.axis,
+                weight: self.ray_weight,
+                opl: 0.0,
+            },
+            Kind::Lamp { one_minus_cos } => {
+                let half = (1.0 - one_minus_cos).clamp(-1.0, 1.0).acos();
+                let (sn, cs) = (s * half).sin_cos();
+                Ray { origin: self.frame.origin, dir: self.axis * cs + self.e2 * sn, weight: self.ray_weight, opl: 0.0 }
+            }
+        }
+    }
+}

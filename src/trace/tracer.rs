@@ -1,0 +1,239 @@
+//! The non-sequential tracer: each ray meets the nearest element, reflects
+//! off mirror fronts, dies on mirror backs, and is recorded by screens.
+
+use super::source::{Emitter, Ray};
+use crate::geometry::{reflect, Vec3};
+use crate::scene::{Part, Scene};
+
+/// Rays are launched and traced in batches of this many.
+pub const BATCH: usize = 4096;
+
+/// Hits recorded on one screen, as parallel arrays (one entry per hit).
+/// Positions are screen coordinates (u along global x, v along the
+/// screen's local y) in mm; directions are in the screen frame (w along
+/// the screen axis, negative for light arriving on the sensitive face).
+#[derive(Debug, Clone, Default, PartialEq)]
+pub struct ScreenHits {
+    pub u: Vec<f64>,
+    pub v: Vec<f64>,
+    pub du: Vec<f64>,
+    pub dv: Vec<f64>,
+    pub dw: Vec<f64>,
+    /// Optical path length from the source's launch surface, mm.
+    pub opl: Vec<f64>,
+    /// Power carried, W.
+    pub weight: Vec<f64>,
+    /// Index into the layout's sources.
+    pub source: Vec<u32>,
+}
+
+impl ScreenHits {
+    pub fn len(&self) -> usize {
+        self.u.len()
+    }
+    pub fn is_empty(&self) -> bool {
+        self.u.is_empty()
+    }
+    fn push(&mut self, u: f64, v: f64, d: &Vec3, opl: f64, w: f64, src: u32) {
+        self.u.push(u);
+        self.v.push(v);
+        self.du.push(d.x);
+        self.dv.push(d.y);
+        self.dw.push(d.z);
+        self.opl.push(opl);
+        self.weight.push(w);
+        self.source.push(src);
+    }
+}
+
+/// Options of a full trace.
+#[derive(Debug, Clone, Copy, Default, PartialEq)]
+pub struct TraceOptions {
+    /// Rays per source instead of each source's own `rays`.
+    pub rays: Option<usize>,
+}
+
+/// Everything a trace produced.
+#[derive(Debug, Clone, Default, PartialEq)]
+pub struct TraceResult {
+    pub rays_launched: u64,
+    pub rays_escaped: u64,
+    pub rays_absorbed: u64,
+    /// Rays launched by each source.
+    pub launched_by_source: Vec<u64>,
+    /// Power each source put out, W.
+    pub power_by_source: Vec<f64>,
+    /// One record per screen, in `Scene::screen_ids` order.
+    pub screens: Vec<ScreenHits>,
+    /// Ray–surface intersections computed (mirror and screen hits).
+    pub surface_hits: u64,
+}
+
+/// What became of a ray.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum Fate {
+    Escaped,
+    Absorbed,
+}
+
+/// Path events reported to an observer (the fan drawer).
+pub trait Observer {
+    /// The ray moved from `a` to `b`.
+    fn segment(&mut self, a: &Vec3, b: &Vec3);
+}
+
+/// Observer that ignores everything (the fast path).
+pub struct Quiet;
+impl Observer for Quiet {
+    #[inline(always)]
+    fn segment(&mut self, _: &Vec3, _: &Vec3) {}
+}
+
+/// Nearest element hit by the ray: (element index, t, local hit data).
+struct Nearest {
+    index: usize,
+    t: f64,
+    /// Local hit point and normal (mirror) or local point (screen).
+    point: Vec3,
+    normal: Vec3,
+}
+
+#[inline]
+fn nearest(scene: &Scene, o: &Vec3, d: &Vec3) -> Option<Nearest> {
+    let mut best: Option<Nearest> = None;
+    let mut t_best = f64::INFINITY;
+    let eps = scene.t_eps;
+    for (i, e) in scene.elements.iter().enumerate() {
+        // Bounding sphere reject.
+        let oc = e.bound_center - o;
+        let tca = oc.dot(d);
+        let d2 = oc.norm_squared() - tca * tca;
+        let r2 = e.bound_radius * e.bound_radius;
+        if d2 > r2 {
+            continue;
+        }
+        let thc = (r2 - d2).sqrt();
+        if tca + thc <= eps || tca - thc >= t_best {
+            continue;
+        }
+        let lo = e.frame.to_local_point(o);
+        let ld = e.frame.to_local_dir(d);
+        match &e.part {
+            Part::Mirror { surface, .. } => {
+                if let Some(h) = surface.intersect(&lo, &ld, eps, t_best) {
+                    t_best = h.t;
+                    best = Some(Nearest { index: i, t: h.t, point: h.point, normal: h.normal });
+                }
+            }
+            Part::Screen { half, circle, .. } => {
+                if ld.z == 0.0 {
+                    continue;
+                }
+                let t = -lo.z / ld.z;
+                if !(t > eps && t < t_best) {
+                    continue;
+                }
+                let p = lo + ld * t;
+                let inside = if *circle { p.x * p.x + p.y * p.y <= half * half } else { p.x.abs() <= *half && p.y.abs() <= *half };
+                if inside {
+                    t_best = t;
+                    best = Some(Nearest { index: i, t, point: p, normal: Vec3::z() });
+                }
+            }
+        }
+    }
+    best
+}
+
+/// Follows one ray through the scene, recording screen hits.
+#[inline]
+pub(crate) fn propagate<O: Observer>(
+    scene: &Scene,
+    mut ray: Ray,
+    src: u32,
+    screens: &mut [ScreenHits],
+    hits: &mut u64,
+    obs: &mut O,
+) -> (Fate, Ray) {
+    let mut bounces = 0u32;
+    // Each event is a reflection or a screen crossing; a ray cannot cross
+    // more screens than exist between two reflections.
+    let max_events = (scene.max_bounces as usize + 1) * (scene.elements.len() + 1);
+    for _ in 0..max_events {
+        let Some(n) = nearest(scene, &ray.origin, &ray.dir) else {
+            return (Fate::Escaped, ray);
+        };
+        *hits += 1;
+        let e = &scene.elements[n.index];
+        let p = ray.origin + ray.dir * n.t;
+        obs.segment(&ray.origin, &p);
+        ray.origin = p;
+        ray.opl += n.t;
+        match &e.part {
+            Part::Mirror { reflectivity, .. } => {
+                let ld = e.frame.to_local_dir(&ray.dir);
+                if ld.dot(&n.normal) >= 0.0 {
+                    return (Fate::Absorbed, ray); // back face
+                }
+                bounces += 1;
+                ray.weight *= reflectivity;
+                if bounces > scene.max_bounces || ray.weight <= 0.0 {
+                    return (Fate::Absorbed, ray);
+                }
+                let r = reflect(&ld, &n.normal);
+                // Renormalise: keeps |dir| = 1 over many bounces.
+                ray.dir = e.frame.to_world_dir(&r).normalize();
+            }
+            Part::Screen { opaque, index, .. } => {
+                let ld = e.frame.to_local_dir(&ray.dir);
+                if ld.z < 0.0 {
+                    screens[*index].push(n.point.x, n.point.y, &ld, ray.opl, ray.weight, src);
+                }
+                if *opaque {
+                    return (Fate::Absorbed, ray);
+                }
+            }
+        }
+    }
+    (Fate::Absorbed, ray)
+}
+
+/// Traces every source of the scene.
+pub fn trace(scene: &Scene, opts: TraceOptions) -> TraceResult {
+    trace_with(scene, opts, &mut |_, _| {})
+}
+
+/// Traces every source, calling `progress(done, total)` after each batch.
+pub fn trace_with(scene: &Scene, opts: TraceOptions, progress: &mut dyn FnMut(u64, u64)) -> TraceResult {
+    let emitters: Vec<Emitter> =
+        scene.sources.iter().map(|s| Emitter::new(s, opts.rays.unwrap_or(s.rays() as usize))).collect();
+    let total: u64 = emitters.iter().map(|e| e.len() as u64).sum();
+    let mut res = TraceResult {
+        screens: vec![ScreenHits::default(); scene.screen_ids.len()],
+        ..Default::default()
+    };
+    let mut done = 0u64;
+    let mut batch: Vec<Ray> = Vec::with_capacity(BATCH);
+    for (si, em) in emitters.iter().enumerate() {
+        let n = em.len();
+        res.launched_by_source.push(n as u64);
+        res.power_by_source.push(em.power_w);
+        let mut start = 0;
+        while start < n {
+            let end = (start + BATCH).min(n);
+            batch.clear();
+            batch.extend((start..end).map(|i| em.ray(i)));
+            for r in &batch {
+                match propagate(scene, *r, si as u32, &mut res.screens, &mut res.surface_hits, &mut Quiet).0 {
+                    Fate::Escaped => res.rays_escaped += 1,
+                    Fate::Absorbed => res.rays_absorbed += 1,
+                }
+            }
+            done += (end - start) as u64;
+            start = end;
+            progress(done, total);
+        }
+    }
+    res.rays_launched = done;
+    res
+}
