@@ -1,0 +1,1 @@
+//! Throughput benchmark exported to JS (see `catoptric bench`).

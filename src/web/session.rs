@@ -1,0 +1,1 @@
+//! The page session: current layout, re-trace on edits, typed-array views.
