@@ -310,7 +310,7 @@ fn build_layout(
         let (s, c) = deg.to_radians().sin_cos();
         Source::Beam(Beam {
             id: id.to_string(),
-            center: [-launch * s, -launch * c],
+            center: [-launch * s + 0.0, -launch * c],
             direction_deg: deg,
             out_of_plane_deg: 0.0,
             diameter: d_prim,
