@@ -192,8 +192,11 @@ impl BestFitSphere {
     /// Depth of glass to remove at radius `rho` (≥ 0, mm), measured along
     /// the axis: sphere minus target, for a concave mirror whose glass lies
     /// behind its face.
+    /// (The sphere is placed from samples of the aperture; between them
+    /// the difference can dip below zero by rounding, which is clamped.)
     pub fn removal_mm(&self, rho: f64) -> f64 {
-        self.offset_mm + conic_sag(self.radius_mm, 0.0, rho) - conic_sag(self.conic_radius_mm, self.conic, rho)
+        let v = self.offset_mm + conic_sag(self.radius_mm, 0.0, rho) - conic_sag(self.conic_radius_mm, self.conic, rho);
+        v.max(0.0)
     }
 
     /// Signed departure of the target from the sphere at `rho`, mm, with

@@ -53,7 +53,7 @@ const RK_STEPS: usize = 4000;
 /// increasing. Returns knots (ρ, Δz) in mm. Errors name the line.
 pub fn parse_departure_csv(text: &str) -> Result<Vec<[f64; 2]>, InputError> {
     let text = text.strip_prefix('\u{feff}').unwrap_or(text);
-    let mut scale = 1e-3; // µm → mm
+    let mut per_mm = 1e3; // µm per mm unless a header says otherwise
     let mut rows: Vec<[f64; 2]> = Vec::new();
     let mut seen_data = false;
     for (i, raw) in text.lines().enumerate() {
@@ -74,12 +74,14 @@ pub fn parse_departure_csv(text: &str) -> Result<Vec<[f64; 2]>, InputError> {
         let (a, b) = (fields[0].trim(), fields[1].trim());
         if !seen_data && a.parse::<f64>().is_err() {
             // A header: the departure column names its unit.
+            // The unit ends the name: departure_nm, departure (µm), dz mm.
             let name = b.to_lowercase();
-            scale = if name.contains("nm") {
-                1e-6
-            } else if name.contains("um") || name.contains("µm") || name.contains("micron") {
-                1e-3
-            } else if name.contains("mm") {
+            let name = name.trim_end_matches(|c: char| !c.is_alphanumeric());
+            per_mm = if name.ends_with("nm") {
+                1e6
+            } else if name.ends_with("um") || name.ends_with("µm") || name.ends_with("micron") {
+                1e3
+            } else if name.ends_with("mm") {
                 1.0
             } else {
                 return Err(bad(
@@ -96,7 +98,7 @@ pub fn parse_departure_csv(text: &str) -> Result<Vec<[f64; 2]>, InputError> {
         if !r.is_finite() || !(0.0..=MAX_LENGTH_MM).contains(&r) {
             return Err(bad(&field("radius"), format!("must be a finite number of mm, at least 0 (got {a})")));
         }
-        let v = v * scale;
+        let v = v / per_mm;
         if !v.is_finite() || v.abs() > MAX_LENGTH_MM {
             return Err(bad(&field("departure"), format!("must be a finite number (got {b})")));
         }
