@@ -44,6 +44,8 @@ fn departure_csv_with_header_units_and_comments() {
     assert_eq!(k[1], [50.0, 1e-4]);
     let k = parse_departure_csv("r,departure_mm\n0,0\n50,0.001\n").unwrap();
     assert_eq!(k[1][1], 0.001);
+    let k = parse_departure_csv("radius (mm), departure (µm)\n0, 0\n50, 0.25\n").unwrap();
+    assert_eq!(k[1][1], 0.25e-3);
 }
 
 #[test]
@@ -53,6 +55,7 @@ fn departure_csv_errors_name_the_line() {
         ("0,0\nx1,2\n", "csv line 2 (radius)"),
         ("0,0\n10,1\n5,2\n", "csv line 3 (radius)"),
         ("0,0\n10,1,7\n", "csv line 2"),
+        ("0,0\n10,\n", "csv line 2 (departure)"),
         ("radius,height\n0,0\n", "csv line 1 (departure)"),
         ("0,0\n", "csv"),
         ("", "csv"),

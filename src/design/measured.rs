@@ -62,8 +62,13 @@ pub fn parse_departure_csv(text: &str) -> Result<Vec<[f64; 2]>, InputError> {
         if line.is_empty() || line.starts_with('#') {
             continue;
         }
-        let fields: Vec<&str> =
-            line.split(|c: char| c == ',' || c == ';' || c == '\t' || c == ' ').filter(|f| !f.trim().is_empty()).collect();
+        // Comma, semicolon or tab separate the columns when present;
+        // otherwise runs of spaces do.
+        let fields: Vec<&str> = if line.contains([',', ';', '\t']) {
+            line.split([',', ';', '\t']).map(str::trim).collect()
+        } else {
+            line.split_whitespace().collect()
+        };
         let field = |col: &str| format!("csv line {line_no} ({col})");
         if fields.len() != 2 {
             return Err(bad(
