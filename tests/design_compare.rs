@@ -31,7 +31,7 @@ fn paraboloid_departs_from_the_sphere_by_rho4_over_8r3() {
     // Third-order theory, REFERENCES.md row 5: surface difference ρ⁴/(8R³).
     let (r, d) = (2400.0, 150.0);
     let c = compare_conics(r, d, &[-1.0], 550.0).unwrap();
-    let want = (0.5 * d as f64).powi(4) / (8.0 * r * r * r) * 1e3;
+    let want = (0.5 * d).powi(4) / (8.0 * r * r * r) * 1e3;
     assert!(rel(c.conics[0].departure_pv_um, want) < 1e-3, "{} vs {want}", c.conics[0].departure_pv_um);
 }
 
