@@ -12,7 +12,7 @@ use crate::scene::Scene;
 use crate::trace::{trace_fan, Fan};
 
 /// Largest raster side accepted, pixels (keeps allocation bounded).
-pub const MAX_RASTER_SIDE: usize = 8192;
+pub const MAX_RASTER_SIDE: usize = 4096;
 
 /// Density raster of the fan's segments over the view `[y0, z0, y1, z1]`
 /// (mm) at `width` × `height` pixels. An empty or inverted view, a zero
@@ -23,7 +23,7 @@ pub fn caustic_raster(fan: &Fan, view: [f64; 4], width: usize, height: usize) ->
     if !ok || width == 0 || height == 0 || width > MAX_RASTER_SIDE || height > MAX_RASTER_SIDE {
         return Vec::new();
     }
-    let mut out = vec![0.0f64; width * height];
+    let mut out = vec![0.0f32; width * height];
     let (pz, py) = ((z1 - z0) / width as f64, (y1 - y0) / height as f64);
     let inv_area = 1.0 / (pz * py);
     for s in fan.segments.chunks_exact(4) {
@@ -37,11 +37,11 @@ pub fn caustic_raster(fan: &Fan, view: [f64; 4], width: usize, height: usize) ->
         let (dx, dy) = ((zb - za) / pz, (ya - yb) / py);
         walk(&mut out, width, height, [xa, ya_p], [dx, dy], len * inv_area);
     }
-    out.into_iter().map(|v| v as f32).collect()
+    out
 }
 
 /// Adds `k`·(parameter length) to each pixel along p + t·d, t in [0, 1].
-fn walk(out: &mut [f64], w: usize, h: usize, p: [f64; 2], d: [f64; 2], k: f64) {
+fn walk(out: &mut [f32], w: usize, h: usize, p: [f64; 2], d: [f64; 2], k: f64) {
     // Clip to the raster (Liang–Barsky).
     let (mut t0, mut t1) = (0.0f64, 1.0f64);
     for (pk, dk, hi) in [(p[0], d[0], w as f64), (p[1], d[1], h as f64)] {
@@ -82,7 +82,7 @@ fn walk(out: &mut [f64], w: usize, h: usize, p: [f64; 2], d: [f64; 2], k: f64) {
     for _ in 0..(w + h + 2) {
         let tn = tx.min(ty).min(t1);
         if (0..w as i64).contains(&ix) && (0..h as i64).contains(&iy) {
-            out[iy as usize * w + ix as usize] += k * (tn - t).max(0.0);
+            out[iy as usize * w + ix as usize] += (k * (tn - t).max(0.0)) as f32;
         }
         if tn >= t1 {
             break;

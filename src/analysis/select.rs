@@ -26,7 +26,7 @@ impl<'a> Subset<'a> {
                 w += wi;
             }
         }
-        s.equal = !(w > 0.0);
+        s.equal = w <= 0.0 || w.is_nan();
         s.w = if s.equal { s.n as f64 } else { w };
         s
     }
