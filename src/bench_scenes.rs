@@ -191,6 +191,26 @@ mod tests {
         assert!(rel(1.0 / t.q - 1.0 / t.p, 2.0 / t.r2) < 1e-12);
     }
 
+    #[test]
+    fn two_mirror_scene_agrees_with_the_designer() {
+        // The same system from `design::design_two_mirror` (Schroeder's
+        // closed forms, 2nd ed., ch. 6): two independent routes, one answer.
+        use crate::design::two_mirror::{design_two_mirror, TwoMirrorKind, TwoMirrorSpec};
+        let t = TwoMirror::design(800.0, 4.0, 200.0);
+        let d = design_two_mirror(&TwoMirrorSpec {
+            kind: TwoMirrorKind::Cassegrain,
+            diameter: 200.0,
+            primary_focal: 800.0,
+            focal: 3200.0,
+            back_focus: 200.0,
+            field_deg: 0.0,
+        })
+        .unwrap();
+        assert!(rel(t.separation, d.separation_mm) < 1e-9);
+        assert!(rel(t.r2, d.secondary.radius_mm) < 1e-9);
+        assert!(rel(t.k2, d.secondary.conic) < 1e-9);
+    }
+
     /// RMS radius (mm) of the hits about their centroid.
     fn rms(h: &crate::trace::ScreenHits) -> f64 {
         let n = h.len() as f64;
