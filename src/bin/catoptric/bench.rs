@@ -167,7 +167,12 @@ fn table(r: &Report) -> String {
     let mut s = String::new();
     let m = &r.machine;
     let _ = writeln!(s, "machine: {} ({} logical cores, {} {})", m.cpu, m.cores, m.os, m.arch);
-    let _ = writeln!(s, "single thread, best of {} runs; trace time only (scene compiled beforehand)\n", r.runs);
+    let _ = writeln!(s, "single thread, best of {} runs; trace time only (scene compiled beforehand)", r.runs);
+    let _ = writeln!(
+        s,
+        "native runs allocate fresh hit buffers each time (first-touch page faults count); \
+         wasm memory, once grown, is reused between runs\n"
+    );
     let _ = writeln!(
         s,
         "{:<36} {:>9} {:>10} {:>9} {:>12} {:>12} {:>9} {:>12} {:>8}",
