@@ -89,10 +89,11 @@ fn main() -> ExitCode {
     };
     match out {
         Ok(text) => {
-            print!("{text}");
-            if !text.ends_with('\n') {
-                println!();
-            }
+            // A closed pipe (`catoptric bench | head`) is not an error worth a panic.
+            use std::io::Write as _;
+            let mut out = std::io::stdout().lock();
+            let nl = if text.ends_with('\n') { "" } else { "\n" };
+            let _ = write!(out, "{text}{nl}").and_then(|_| out.flush());
             ExitCode::SUCCESS
         }
         Err(f) => {
