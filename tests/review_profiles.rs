@@ -107,7 +107,9 @@ fn parabola_drawn_as_a_departure_spline_focuses_like_the_paraboloid() {
 #[test]
 fn general_solver_traces_like_the_closed_form() {
     let pl = PLACES[1];
-    let cases: [(Option<f64>, f64, f64, f64, Option<f64>); 8] = [
+    // (radius, conic, diameter, offset, extruded length)
+    type Case = (Option<f64>, f64, f64, f64, Option<f64>);
+    let cases: [Case; 8] = [
         (Some(2000.0), -1.0, 200.0, 0.0, None),
         (Some(300.0), -0.5, 200.0, 60.0, None),
         (Some(300.0), 0.8, 150.0, 0.0, None),

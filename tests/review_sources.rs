@@ -203,7 +203,7 @@ fn screens_shape_face_and_opacity() {
     let b = beam("b", [0.0, 0.0], 0.0, 100.0, 40000, "random");
     for (shape, want) in [("square", 2500.0 / (PI * 2500.0)), ("circle", 0.25)] {
         let s = screen("s", [0.0, 100.0], 180.0, 50.0, shape, false);
-        let (_, res) = run(&layout(&[s], &[b.clone()]));
+        let (_, res) = run(&layout(&[s], std::slice::from_ref(&b)));
         let frac = res.screens[0].len() as f64 / res.rays_launched as f64;
         assert!(rel(frac, want) < 0.01, "{shape}: {frac} vs {want}");
     }
@@ -215,7 +215,7 @@ fn screens_shape_face_and_opacity() {
         screen("s2", [0.0, 250.0], 0.0, 200.0, "square", false),
         screen("s3", [0.0, 400.0], 180.0, 200.0, "square", false),
     ];
-    let (_, res) = run(&layout(&scr, &[b.clone()]));
+    let (_, res) = run(&layout(&scr, std::slice::from_ref(&b)));
     let n = res.rays_launched as usize;
     assert_eq!(res.screens[0].len(), n);
     assert_eq!(res.screens[1].len(), 0, "back face records nothing");
@@ -228,7 +228,7 @@ fn screens_shape_face_and_opacity() {
     // The middle one opaque: it stops the beam from behind; nothing reaches c.
     let mut scr2 = scr.to_vec();
     scr2[1]["opaque"] = json!(true);
-    let (_, res) = run(&layout(&scr2, &[b.clone()]));
+    let (_, res) = run(&layout(&scr2, std::slice::from_ref(&b)));
     assert_eq!(res.screens[0].len(), n);
     assert_eq!(res.screens[1].len(), 0);
     assert_eq!(res.screens[2].len(), 0);
