@@ -56,7 +56,14 @@ impl Scene {
                     let frame = Frame::in_plane(m.vertex, m.axis_deg);
                     let mut profile = Profile::conic(m.profile.radius, m.profile.conic);
                     profile.aspheric = m.profile.aspheric.clone();
-                    profile.departure = m.profile.departure.as_deref().and_then(NaturalSpline::new);
+                    // A revolved departure is a function of the radius: built
+                    // even (knots mirrored about the axis) so the surface is
+                    // smooth at the vertex.
+                    let spline = match m.form {
+                        Form::Revolved => NaturalSpline::even,
+                        Form::Extruded => NaturalSpline::new,
+                    };
+                    profile.departure = m.profile.departure.as_deref().and_then(spline);
                     let a = &m.aperture;
                     let (aperture, extruded, half_xy) = match m.form {
                         Form::Revolved => (

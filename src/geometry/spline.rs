@@ -51,6 +51,22 @@ impl NaturalSpline {
         Some(NaturalSpline { x, y, m })
     }
 
+    /// Even spline for a surface of revolution: the natural spline through
+    /// the knots (ρᵢ ≥ 0, increasing) and their mirror images (−ρᵢ), so it
+    /// is symmetric about ρ = 0 with zero slope there — the surface stays
+    /// smooth at the vertex instead of coming to a cone. Beyond the knots it
+    /// is the natural spline through all of them; at ρ ≥ 0 it passes through
+    /// every given knot. `None` under the conditions of [`Self::new`] or a
+    /// negative ρ.
+    pub fn even(knots: &[[f64; 2]]) -> Option<Self> {
+        if knots.first().is_none_or(|k| k[0].is_nan() || k[0] < 0.0) {
+            return None;
+        }
+        let mut all: Vec<[f64; 2]> = knots.iter().rev().filter(|k| k[0] > 0.0).map(|k| [-k[0], k[1]]).collect();
+        all.extend_from_slice(knots);
+        Self::new(&all)
+    }
+
     pub fn knots(&self) -> impl Iterator<Item = (f64, f64)> + '_ {
         self.x.iter().copied().zip(self.y.iter().copied())
     }
@@ -104,5 +120,28 @@ mod tests {
             assert!((s.eval(x).0 - y).abs() < 1e-12);
         }
         assert!(NaturalSpline::new(&[[0.0, 0.0], [0.0, 1.0]]).is_none());
+    }
+
+    #[test]
+    fn even_spline_is_smooth_at_the_axis() {
+        // Knots of ρ²: the mirrored natural spline is even, flat at 0 and
+        // close to the parabola near the axis (the plain natural spline has
+        // zero curvature at its first knot, so a slope there).
+        let k: Vec<[f64; 2]> = (0..=10).map(|i| [i as f64, (i * i) as f64]).collect();
+        let e = NaturalSpline::even(&k).unwrap();
+        assert_eq!(e.eval(0.0).1, 0.0);
+        for t in [0.3, 1.7, 4.2] {
+            assert!((e.eval(t).0 - e.eval(-t).0).abs() < 1e-12);
+            assert!((e.eval(t).0 - t * t).abs() < 1e-3, "{t}: {}", e.eval(t).0);
+        }
+        for &[x, y] in &k {
+            assert!((e.eval(x).0 - y).abs() < 1e-12);
+        }
+        let plain = NaturalSpline::new(&k).unwrap();
+        assert!(plain.eval(0.0).1.abs() > 0.1);
+        // A first knot off the axis is mirrored too; negative ρ is refused.
+        let e = NaturalSpline::even(&[[2.0, 1.0], [3.0, 1.0]]).unwrap();
+        assert!((e.eval(0.0).0 - 1.0).abs() < 1e-12);
+        assert!(NaturalSpline::even(&[[-1.0, 0.0], [1.0, 0.0]]).is_none());
     }
 }

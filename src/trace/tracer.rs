@@ -116,24 +116,30 @@ fn nearest(scene: &Scene, o: &Vec3, d: &Vec3) -> Option<Nearest> {
         if tca + thc <= eps || tca - thc >= t_best {
             continue;
         }
-        let lo = e.frame.to_local_point(o);
+        // Solve from where the ray enters the bounding sphere, not from its
+        // origin: a ray launched far away (a beam kilometres off) would
+        // otherwise lose precision quadratically with the distance in the
+        // intersection's cancellation. Distances are then t0 + t'.
+        let t0 = (tca - thc).max(0.0);
+        let lo = e.frame.to_local_point(&(o + d * t0));
         let ld = e.frame.to_local_dir(d);
         match &e.part {
             Part::Mirror { surface, .. } => {
-                if let Some(h) = surface.intersect(&lo, &ld, eps, t_best) {
-                    t_best = h.t;
-                    best = Some(Nearest { index: i, t: h.t, point: h.point, normal: h.normal });
+                if let Some(h) = surface.intersect(&lo, &ld, eps - t0, t_best - t0) {
+                    t_best = t0 + h.t;
+                    best = Some(Nearest { index: i, t: t_best, point: h.point, normal: h.normal });
                 }
             }
             Part::Screen { half, circle, .. } => {
                 if ld.z == 0.0 {
                     continue;
                 }
-                let t = -lo.z / ld.z;
+                let tl = -lo.z / ld.z;
+                let t = t0 + tl;
                 if !(t > eps && t < t_best) {
                     continue;
                 }
-                let p = lo + ld * t;
+                let p = lo + ld * tl;
                 let inside = if *circle { p.x * p.x + p.y * p.y <= half * half } else { p.x.abs() <= *half && p.y.abs() <= *half };
                 if inside {
                     t_best = t;
@@ -165,7 +171,9 @@ pub(crate) fn propagate<O: Observer>(
         };
         *hits += 1;
         let e = &scene.elements[n.index];
-        let p = ray.origin + ray.dir * n.t;
+        // The hit point from the element's own frame: as precise as the
+        // element's coordinates, however far the ray came.
+        let p = e.frame.to_world_point(&n.point);
         obs.segment(&ray.origin, &p);
         ray.origin = p;
         ray.opl += n.t;

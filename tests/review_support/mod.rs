@@ -1,0 +1,169 @@
+//! Builders and geometric helpers shared by the review tests.
+#![allow(dead_code)]
+
+use catoptric::geometry::{reflect, Frame, Vec3};
+use catoptric::scene::Part;
+use catoptric::{parse_layout, trace, Scene, TraceOptions, TraceResult};
+use serde_json::{json, Value};
+
+/// A mirror element. `length` Some(l) makes it extruded.
+#[allow(clippy::too_many_arguments)]
+pub fn mirror(
+    id: &str,
+    vertex: [f64; 2],
+    axis_deg: f64,
+    radius: Option<f64>,
+    conic: f64,
+    diameter: f64,
+    offset: f64,
+    hole: f64,
+    length: Option<f64>,
+) -> Value {
+    let mut m = json!({
+        "kind": "mirror", "id": id, "vertex": vertex, "axis_deg": axis_deg,
+        "form": if length.is_some() { "extruded" } else { "revolved" },
+        "profile": { "radius": radius, "conic": conic },
+        "aperture": { "diameter": diameter, "offset": offset, "hole": hole }
+    });
+    if let Some(l) = length {
+        m["length"] = json!(l);
+    }
+    m
+}
+
+pub fn screen(id: &str, center: [f64; 2], axis_deg: f64, size: f64, shape: &str, opaque: bool) -> Value {
+    json!({ "kind": "screen", "id": id, "center": center, "axis_deg": axis_deg, "size": size,
+            "shape": shape, "opaque": opaque })
+}
+
+pub fn lamp(id: &str, center: [f64; 2], direction_deg: f64, half_deg: f64, rays: u64, power_w: f64) -> Value {
+    json!({ "kind": "point", "id": id, "center": center, "direction_deg": direction_deg,
+            "cone_half_angle_deg": half_deg, "rays": rays, "pattern": "random", "power_w": power_w })
+}
+
+pub fn beam(id: &str, center: [f64; 2], direction_deg: f64, diameter: f64, rays: u64, pattern: &str) -> Value {
+    json!({ "kind": "beam", "id": id, "center": center, "direction_deg": direction_deg, "diameter": diameter,
+            "rays": rays, "pattern": pattern, "sun_half_angle_mrad": 0.0, "irradiance_w_m2": 1000.0 })
+}
+
+pub fn layout(elements: &[Value], sources: &[Value]) -> String {
+    json!({ "format": "catoptric-layout", "version": 1, "name": "review", "wavelength_nm": 550,
+            "max_bounces": 16, "elements": elements, "sources": sources })
+    .to_string()
+}
+
+pub fn scene(text: &str) -> Scene {
+    let l = parse_layout(text).unwrap_or_else(|e| panic!("test layout rejected: {e}"));
+    Scene::compile(&l)
+}
+
+pub fn run(text: &str) -> (Scene, TraceResult) {
+    let s = scene(text);
+    let r = trace(&s, TraceOptions::default());
+    (s, r)
+}
+
+/// A placement of a mirror's local frame in the layout plane.
+#[derive(Debug, Clone, Copy)]
+pub struct Place {
+    pub vertex: [f64; 2],
+    pub axis_deg: f64,
+}
+
+impl Place {
+    pub fn frame(&self) -> Frame {
+        Frame::in_plane(self.vertex, self.axis_deg)
+    }
+    /// Layout point [y, z] of the local meridian point (y, z).
+    pub fn pt(&self, ly: f64, lz: f64) -> [f64; 2] {
+        let p = self.frame().to_world_point(&Vec3::new(0.0, ly, lz));
+        [p.y, p.z]
+    }
+    /// World point of the local meridian point (y, z).
+    pub fn world(&self, ly: f64, lz: f64) -> Vec3 {
+        self.frame().to_world_point(&Vec3::new(0.0, ly, lz))
+    }
+    /// Layout angle (deg) of the local meridian direction (y, z).
+    pub fn angle(&self, ly: f64, lz: f64) -> f64 {
+        let d = self.frame().to_world_dir(&Vec3::new(0.0, ly, lz));
+        d.y.atan2(d.z).to_degrees()
+    }
+}
+
+/// Placements the focal tests run at: on the origin and far from it, at
+/// odd and quarter-turn angles.
+pub const PLACES: [Place; 5] = [
+    Place { vertex: [0.0, 0.0], axis_deg: 0.0 },
+    Place { vertex: [5000.0, -3000.0], axis_deg: 37.0 },
+    Place { vertex: [-250.0, 700.0], axis_deg: 180.0 },
+    Place { vertex: [1200.0, 40.0], axis_deg: -90.0 },
+    Place { vertex: [-4321.5, 987.25], axis_deg: 123.456 },
+];
+
+/// The recorded hits of screen `i` as world lines (point, unit direction).
+pub fn hit_lines(scene: &Scene, res: &TraceResult, i: usize) -> Vec<(Vec3, Vec3)> {
+    let e = scene.screen_element(&scene.screen_ids[i]).expect("screen");
+    let h = &res.screens[i];
+    (0..h.len())
+        .map(|k| {
+            let p = e.frame.to_world_point(&Vec3::new(h.u[k], h.v[k], 0.0));
+            let d = e.frame.to_world_dir(&Vec3::new(h.du[k], h.dv[k], h.dw[k]));
+            (p, d)
+        })
+        .collect()
+}
+
+/// Distance from `target` to the line through `p` along unit `d`.
+pub fn miss(p: &Vec3, d: &Vec3, target: &Vec3) -> f64 {
+    (target - p).cross(d).norm()
+}
+
+/// Same, for the projections on the layout plane (x dropped): the 2D
+/// focal property of an extruded mirror.
+pub fn miss_2d(p: &Vec3, d: &Vec3, target: &Vec3) -> f64 {
+    let q = Vec3::new(0.0, p.y, p.z);
+    let e = Vec3::new(0.0, d.y, d.z);
+    let n = e.norm();
+    assert!(n > 1e-6, "ray runs along x");
+    miss(&q, &(e / n), &Vec3::new(0.0, target.y, target.z))
+}
+
+/// One reflection of a world ray off mirror element `index` of the scene
+/// (through the element's frame and surface, as the tracer does):
+/// (hit point, reflected direction), or None when it misses or meets the
+/// back face.
+pub fn bounce(scene: &Scene, index: usize, o: &Vec3, d: &Vec3) -> Option<(Vec3, Vec3)> {
+    let e = &scene.elements[index];
+    let Part::Mirror { surface, .. } = &e.part else { panic!("not a mirror") };
+    let lo = e.frame.to_local_point(o);
+    let ld = e.frame.to_local_dir(d);
+    let h = surface.intersect(&lo, &ld, 0.0, f64::INFINITY)?;
+    if ld.dot(&h.normal) >= 0.0 {
+        return None;
+    }
+    let r = reflect(&ld, &h.normal);
+    Some((e.frame.to_world_point(&h.point), e.frame.to_world_dir(&r).normalize()))
+}
+
+/// Relative error |a − b| / |b|.
+pub fn rel(a: f64, b: f64) -> f64 {
+    (a - b).abs() / b.abs().max(1e-300)
+}
+
+/// Small deterministic generator (SplitMix64).
+pub struct Rng(pub u64);
+impl Rng {
+    pub fn next(&mut self) -> f64 {
+        self.0 = self.0.wrapping_add(0x9e37_79b9_7f4a_7c15);
+        let mut z = self.0;
+        z = (z ^ (z >> 30)).wrapping_mul(0xbf58_476d_1ce4_e5b9);
+        z = (z ^ (z >> 27)).wrapping_mul(0x94d0_49bb_1331_11eb);
+        ((z ^ (z >> 31)) >> 11) as f64 / (1u64 << 53) as f64
+    }
+    pub fn range(&mut self, a: f64, b: f64) -> f64 {
+        a + (b - a) * self.next()
+    }
+    pub fn int(&mut self, n: u64) -> u64 {
+        ((self.next() * n as f64) as u64).min(n - 1)
+    }
+}
