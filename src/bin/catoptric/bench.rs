@@ -6,6 +6,7 @@
 //! the best time counts. Timing is wall-clock around `trace` alone.
 
 use crate::Failure;
+use catoptric::analysis::analyse_all;
 use catoptric::bench_scenes::{scenes, BenchScene};
 use catoptric::layout::MAX_RAYS_PER_SOURCE;
 use catoptric::trace::{trace, TraceOptions};
@@ -48,9 +49,10 @@ struct Row {
     rays_per_s: f64,
     hits_per_s: f64,
     wasm: Option<WasmRow>,
-    // Analysis cost per million rays (spot, focus, wavefront, flux) goes
-    // here: time `trace_report` on the traced result and add a field such
-    // as `analysis_s_per_million_rays`, with a column in `table` below.
+    /// Seconds that every analysis of the trace (spot, best focus, f-number,
+    /// wavefront, encircled energy, flux map) takes per million rays
+    /// launched, best of the runs.
+    analysis_s_per_million_rays: f64,
 }
 
 #[derive(Serialize)]
@@ -81,6 +83,7 @@ fn machine() -> Machine {
 fn time_scene(s: &BenchScene, rays: u64) -> Row {
     let scene = Scene::compile(&s.layout);
     let mut best = f64::INFINITY;
+    let mut best_analysis = f64::INFINITY;
     let (mut launched, mut hits) = (0, 0);
     for _ in 0..RUNS {
         let t0 = Instant::now();
@@ -88,6 +91,10 @@ fn time_scene(s: &BenchScene, rays: u64) -> Row {
         best = best.min(t0.elapsed().as_secs_f64());
         launched = res.rays_launched;
         hits = res.surface_hits;
+        let t1 = Instant::now();
+        let a = analyse_all(&scene, &res);
+        best_analysis = best_analysis.min(t1.elapsed().as_secs_f64());
+        std::hint::black_box(&a);
     }
     let secs = best.max(1e-9);
     Row {
@@ -99,6 +106,7 @@ fn time_scene(s: &BenchScene, rays: u64) -> Row {
         rays_per_s: launched as f64 / secs,
         hits_per_s: hits as f64 / secs,
         wasm: None,
+        analysis_s_per_million_rays: best_analysis / (launched.max(1) as f64 / 1e6),
     }
 }
 
@@ -175,8 +183,8 @@ fn table(r: &Report) -> String {
     );
     let _ = writeln!(
         s,
-        "{:<36} {:>9} {:>10} {:>9} {:>12} {:>12} {:>9} {:>12} {:>8}",
-        "scene", "rays", "hits", "native s", "rays/s", "hits/s", "wasm s", "wasm rays/s", "wasm/nat"
+        "{:<36} {:>9} {:>10} {:>9} {:>12} {:>12} {:>9} {:>12} {:>8} {:>12}",
+        "scene", "rays", "hits", "native s", "rays/s", "hits/s", "wasm s", "wasm rays/s", "wasm/nat", "analysis s/Mray"
     );
     for row in &r.scenes {
         let (ws, wr, ratio) = match &row.wasm {
@@ -185,7 +193,7 @@ fn table(r: &Report) -> String {
         };
         let _ = writeln!(
             s,
-            "{:<36} {:>9} {:>10} {:>9.3} {:>12} {:>12} {:>9} {:>12} {:>8}",
+            "{:<36} {:>9} {:>10} {:>9.3} {:>12} {:>12} {:>9} {:>12} {:>8} {:>12.3}",
             row.name,
             row.rays,
             row.surface_hits,
@@ -194,7 +202,8 @@ fn table(r: &Report) -> String {
             format!("{}/s", si(row.hits_per_s)),
             ws,
             wr,
-            ratio
+            ratio,
+            row.analysis_s_per_million_rays
         );
     }
     match (&r.wasm_engine, &r.wasm_note) {
