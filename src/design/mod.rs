@@ -43,12 +43,9 @@ use crate::layout::{validate, Element, Layout, Source, FORMAT_TAG, FORMAT_VERSIO
 pub const DEFAULT_WAVELENGTH_NM: f64 = 550.0;
 /// Rays per beam in generated layouts.
 pub const LAYOUT_RAYS: u64 = 20_000;
-/// Largest length a designer accepts, mm: the layout validator's limit
-/// (10 km). Generated layouts are validated in the end anyway.
-pub(crate) const MAX_MM: f64 = 1.0e7;
-/// Largest fraction of a conic's domain an aperture may use, as in the
-/// layout validator: (1+K)c²ρ² stays below this.
-const DOMAIN_MARGIN: f64 = 1.0 - 1e-9;
+/// Largest length the layout accepts (10 km), from the validator.
+pub(crate) const MAX_MM: f64 = crate::layout::MAX_LENGTH_MM;
+use crate::layout::DOMAIN_MARGIN;
 
 pub(crate) fn bad(field: &str, message: impl Into<String>) -> InputError {
     InputError::new(field, message)

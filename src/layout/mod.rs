@@ -12,7 +12,9 @@ mod validate;
 
 pub use link::{decode_link, encode_link, LINK_PREFIX, MAX_LINK_LAYOUT_BYTES};
 pub use parse::parse_layout;
-pub use validate::{validate, MAX_BOUNCES_CAP, MAX_RAYS_PER_SOURCE, MAX_RAYS_TOTAL, MAX_ELEMENTS};
+pub use validate::{
+    validate, DOMAIN_MARGIN, MAX_BOUNCES_CAP, MAX_ELEMENTS, MAX_LENGTH_MM, MAX_RAYS_PER_SOURCE, MAX_RAYS_TOTAL,
+};
 
 use serde::{Deserialize, Serialize};
 
