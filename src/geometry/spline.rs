@@ -16,7 +16,7 @@ impl NaturalSpline {
     /// `None` otherwise.
     pub fn new(knots: &[[f64; 2]]) -> Option<Self> {
         let n = knots.len();
-        if n < 2 || knots.windows(2).any(|w| !(w[1][0] > w[0][0])) {
+        if n < 2 || knots.windows(2).any(|w| w[1][0].partial_cmp(&w[0][0]) != Some(std::cmp::Ordering::Greater)) {
             return None;
         }
         let x: Vec<f64> = knots.iter().map(|k| k[0]).collect();

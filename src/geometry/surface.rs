@@ -124,7 +124,7 @@ impl MirrorSurface {
         let (s0, s1) = slab(o.z - 0.5 * (self.z_lo + self.z_hi), d.z, 0.5 * (self.z_hi - self.z_lo))?;
         let ta = p0.max(s0).max(t_min);
         let tb = p1.min(s1).min(t_max);
-        if !(ta < tb) || !ta.is_finite() || !tb.is_finite() {
+        if ta.partial_cmp(&tb) != Some(std::cmp::Ordering::Less) || !ta.is_finite() || !tb.is_finite() {
             return None;
         }
         let f = |t: f64| -> f64 {

@@ -1,0 +1,259 @@
+//! Layout files and share links: every class of bad input is refused with
+//! the offending field named (DESIGN.md §4), round trips are exact, and no
+//! input makes the library panic (common practice: fuzz the boundary).
+
+use catoptric::layout::{decode_link, encode_link, parse_layout};
+use catoptric::{trace, Scene, TraceOptions};
+use serde_json::{json, Value};
+
+fn base() -> Value {
+    json!({
+      "format": "catoptric-layout", "version": 1, "name": "t", "notes": "",
+      "wavelength_nm": 550, "max_bounces": 16,
+      "elements": [
+        { "kind": "mirror", "id": "primary", "vertex": [0, 1000], "axis_deg": 180, "form": "revolved",
+          "profile": { "radius": 2000, "conic": -1, "aspheric": [], "departure": null },
+          "aperture": { "diameter": 200, "offset": 0, "hole": 0 }, "reflectivity": 1.0 },
+        { "kind": "screen", "id": "focus", "center": [0, 0], "axis_deg": 0, "size": 20, "shape": "square", "opaque": false }
+      ],
+      "sources": [
+        { "kind": "beam", "id": "star", "center": [0, 500], "direction_deg": 0, "diameter": 200, "rays": 2000,
+          "pattern": "hex", "sun_half_angle_mrad": 0, "irradiance_w_m2": 1000 },
+        { "kind": "point", "id": "lamp", "center": [0, 0], "direction_deg": 0, "cone_half_angle_deg": 30,
+          "rays": 2000, "pattern": "random", "power_w": 100 }
+      ]
+    })
+}
+
+fn field_of(v: &Value) -> String {
+    match parse_layout(&v.to_string()) {
+        Ok(_) => panic!("accepted a bad layout: {v}"),
+        Err(e) => {
+            assert!(!e.message.is_empty());
+            e.field
+        }
+    }
+}
+
+fn with(f: impl FnOnce(&mut Value)) -> Value {
+    let mut v = base();
+    f(&mut v);
+    v
+}
+
+#[test]
+fn the_design_example_parses_with_and_without_optional_fields() {
+    let l = parse_layout(&base().to_string()).unwrap();
+    assert_eq!(l.elements.len(), 2);
+    let v = with(|v| {
+        let m = &mut v["elements"][0];
+        m.as_object_mut().unwrap().remove("reflectivity");
+        m["profile"].as_object_mut().unwrap().remove("aspheric");
+        m["profile"].as_object_mut().unwrap().remove("departure");
+        m["aperture"].as_object_mut().unwrap().remove("hole");
+        v["elements"][1].as_object_mut().unwrap().remove("opaque");
+        v.as_object_mut().unwrap().remove("notes");
+    });
+    assert_eq!(parse_layout(&v.to_string()).unwrap(), l);
+}
+
+#[test]
+fn each_bad_input_class_names_its_field() {
+    let cases: Vec<(Value, &str)> = vec![
+        (with(|v| v["elements"][0]["profile"]["conic"] = json!("steep")), "elements[0].profile.conic"),
+        (with(|v| v["elements"][0]["profile"]["radius"] = json!(0)), "elements[0].profile.radius"),
+        (with(|v| v["elements"][0]["aperture"]["diameter"] = json!(-5)), "elements[0].aperture.diameter"),
+        (with(|v| v["elements"][0]["aperture"]["diameter"] = json!(0)), "elements[0].aperture.diameter"),
+        (with(|v| v["elements"][1]["size"] = json!(0)), "elements[1].size"),
+        (with(|v| v["elements"][0]["aperture"]["hole"] = json!(300)), "elements[0].aperture.hole"),
+        // Past the conic's domain: a sphere of R = 50 cannot be 200 wide.
+        (with(|v| { v["elements"][0]["profile"]["radius"] = json!(50); v["elements"][0]["profile"]["conic"] = json!(0); }), "elements[0].aperture.diameter"),
+        // Non-increasing spline knots.
+        (with(|v| v["elements"][0]["profile"]["departure"] = json!([[0, 0], [50, 0.001], [50, 0.002]])), "elements[0].profile.departure[2][0]"),
+        (with(|v| v["elements"][1]["id"] = json!("primary")), "elements[1].id"),
+        (with(|v| v["sources"][0]["id"] = json!("focus")), "sources[0].id"),
+        (with(|v| v["sources"][0]["rays"] = json!(100_000_000u64)), "sources[0].rays"),
+        (with(|v| v["sources"][0]["rays"] = json!(0)), "sources[0].rays"),
+        (with(|v| v["version"] = json!(2)), "version"),
+        (with(|v| v["format"] = json!("something-else")), "format"),
+        (with(|v| v["elements"][0]["vertex"] = json!([0, "x"])), "elements[0].vertex[1]"),
+        (with(|v| v["elements"][0]["vertex"] = json!([0, 1e30])), "elements[0].vertex[1]"),
+        (with(|v| v["elements"][0]["colour"] = json!("red")), "elements[0].colour"),
+        (with(|v| v["extra"] = json!(1)), "extra"),
+        (with(|v| v["elements"][0]["kind"] = json!("lens")), "elements[0].kind"),
+        (with(|v| v["sources"][1]["kind"] = json!("laser")), "sources[1].kind"),
+        (with(|v| v["elements"][0]["form"] = json!("extruded")), "elements[0].length"),
+        (with(|v| v["elements"][0]["length"] = json!(100)), "elements[0].length"),
+        (with(|v| v["sources"][1]["cone_half_angle_deg"] = json!(0)), "sources[1].cone_half_angle_deg"),
+        (with(|v| v["sources"][0]["pattern"] = json!("spiral")), "sources[0].pattern"),
+        (with(|v| v["wavelength_nm"] = json!(-1)), "wavelength_nm"),
+        (with(|v| v["max_bounces"] = json!(0)), "max_bounces"),
+        (with(|v| v["elements"][0]["reflectivity"] = json!(1.5)), "elements[0].reflectivity"),
+        (with(|v| v["sources"][0]["sun_half_angle_mrad"] = json!(-1)), "sources[0].sun_half_angle_mrad"),
+        (with(|v| v["elements"][0]["profile"]["aspheric"] = json!([1e-9, null])), "elements[0].profile.aspheric[1]"),
+        (with(|v| { v["elements"][0].as_object_mut().unwrap().remove("vertex"); }), "elements[0]"),
+    ];
+    for (v, want) in cases {
+        let got = field_of(&v);
+        assert_eq!(got, want, "for {v}");
+    }
+    // Messages say what is allowed.
+    let e = parse_layout(&with(|v| v["sources"][0]["rays"] = json!(0)).to_string()).unwrap_err();
+    assert!(e.message.contains("between 1 and"), "{e}");
+    let e = parse_layout(&with(|v| v["elements"][0]["colour"] = json!("red")).to_string()).unwrap_err();
+    assert!(e.message.contains("colour"), "{e}");
+    assert!(parse_layout("{ not json").unwrap_err().message.contains("JSON"));
+}
+
+#[test]
+fn share_link_round_trip_is_exact() {
+    let dir = concat!(env!("CARGO_MANIFEST_DIR"), "/www/presets");
+    let mut n = 0;
+    for entry in std::fs::read_dir(dir).unwrap() {
+        let p = entry.unwrap().path();
+        if p.file_name().unwrap() == "index.json" {
+            continue;
+        }
+        let l = parse_layout(&std::fs::read_to_string(&p).unwrap()).unwrap();
+        let frag = encode_link(&l);
+        assert!(frag.starts_with("#L="));
+        assert!(frag[3..].bytes().all(|b| b.is_ascii_alphanumeric() || b == b'-' || b == b'_'), "base64url, no padding");
+        assert_eq!(decode_link(&frag).unwrap(), l);
+        assert_eq!(decode_link(&format!("http://127.0.0.1:8000/{frag}")).unwrap(), l);
+        n += 1;
+    }
+    assert!(n >= 7);
+    // Awkward numbers survive exactly.
+    let l = parse_layout(&with(|v| v["elements"][0]["profile"]["conic"] = json!(-0.1f64 - 0.2f64)).to_string()).unwrap();
+    assert_eq!(decode_link(&encode_link(&l)).unwrap(), l);
+}
+
+#[test]
+fn damaged_links_are_refused_with_a_message() {
+    for bad in ["", "#L=", "#L=!!!!", "#L=AAAA", "#L=q1YqSs1JTS4uTc", "garbage"] {
+        let e = decode_link(bad).unwrap_err();
+        assert!(e.field.starts_with("link"), "{bad}: {e}");
+    }
+    // A valid deflate stream of a layout with a bad field names that field.
+    let bad = with(|v| v["elements"][0]["profile"]["radius"] = json!(0)).to_string();
+    let packed = miniz_deflate(bad.as_bytes());
+    let e = decode_link(&format!("#L={packed}")).unwrap_err();
+    assert_eq!(e.field, "link: elements[0].profile.radius");
+}
+
+fn miniz_deflate(b: &[u8]) -> String {
+    use base64::Engine as _;
+    base64::engine::general_purpose::URL_SAFE_NO_PAD.encode(miniz_oxide::deflate::compress_to_vec(b, 6))
+}
+
+/// SplitMix64, for deterministic fuzzing.
+struct Rng(u64);
+impl Rng {
+    fn u(&mut self) -> u64 {
+        self.0 = self.0.wrapping_add(0x9e37_79b9_7f4a_7c15);
+        let mut z = self.0;
+        z = (z ^ (z >> 30)).wrapping_mul(0xbf58_476d_1ce4_e5b9);
+        z = (z ^ (z >> 27)).wrapping_mul(0x94d0_49bb_1331_11eb);
+        z ^ (z >> 31)
+    }
+    fn pick<T: Clone>(&mut self, xs: &[T]) -> T {
+        xs[(self.u() % xs.len() as u64) as usize].clone()
+    }
+}
+
+/// Replace one leaf (chosen at random) of a JSON tree.
+fn mutate(v: &mut Value, rng: &mut Rng) {
+    let nasty = [
+        json!(0), json!(-1), json!(1e300), json!(-1e300), json!(1e-300), json!(""), json!("x"), json!(null),
+        json!([]), json!({}), json!(true), json!(4_000_001), json!(-0.0), json!(0.5), json!([1, 2, 3]),
+        json!(1e7), json!(-1e7), json!(89.999), json!(180), json!(1.0000001),
+    ];
+    match v {
+        Value::Object(m) if !m.is_empty() => {
+            let keys: Vec<String> = m.keys().cloned().collect();
+            let k = rng.pick(&keys);
+            match rng.u() % 6 {
+                0 => {
+                    m.remove(&k);
+                }
+                1 => {
+                    m.insert(k, rng.pick(&nasty));
+                }
+                _ => mutate(m.get_mut(&k).unwrap(), rng),
+            }
+        }
+        Value::Array(a) if !a.is_empty() => {
+            let i = (rng.u() % a.len() as u64) as usize;
+            match rng.u() % 6 {
+                0 => {
+                    a.remove(i);
+                }
+                1 => a[i] = rng.pick(&nasty),
+                2 => a.push(a[i].clone()),
+                _ => mutate(&mut a[i], rng),
+            }
+        }
+        _ => *v = rng.pick(&nasty),
+    }
+}
+
+/// Parse, validate, and trace briefly whatever survives: no input may panic.
+fn exercise(text: &str) {
+    if let Ok(l) = parse_layout(text) {
+        let scene = Scene::compile(&l);
+        let r = trace(&scene, TraceOptions { rays: Some(16) });
+        assert_eq!(r.rays_launched, r.rays_escaped + r.rays_absorbed);
+        let _ = catoptric::trace::trace_fan(&scene, 8, None);
+        let _ = catoptric::analysis::trace_report(&scene, &r);
+    }
+}
+
+#[test]
+fn no_input_panics() {
+    let mut rng = Rng(2026);
+    // Random bytes.
+    for _ in 0..300 {
+        let n = (rng.u() % 200) as usize;
+        let bytes: Vec<u8> = (0..n).map(|_| rng.u() as u8).collect();
+        exercise(&String::from_utf8_lossy(&bytes));
+        let _ = decode_link(&String::from_utf8_lossy(&bytes));
+    }
+    // Random link strings from the base64url alphabet.
+    let alpha: Vec<char> = "ABCDEFGHIJKLMNOPQRSTUVWXYZabcdefghijklmnopqrstuvwxyz0123456789-_".chars().collect();
+    for _ in 0..300 {
+        let n = (rng.u() % 300) as usize;
+        let s: String = (0..n).map(|_| rng.pick(&alpha)).collect();
+        let _ = decode_link(&format!("#L={s}"));
+    }
+    // Mutated valid layouts (the base and every preset).
+    let mut seeds = vec![base()];
+    for entry in std::fs::read_dir(concat!(env!("CARGO_MANIFEST_DIR"), "/www/presets")).unwrap() {
+        let p = entry.unwrap().path();
+        if p.file_name().unwrap() != "index.json" {
+            seeds.push(serde_json::from_str(&std::fs::read_to_string(p).unwrap()).unwrap());
+        }
+    }
+    for i in 0..3000 {
+        let mut v = seeds[i % seeds.len()].clone();
+        for _ in 0..1 + rng.u() % 3 {
+            mutate(&mut v, &mut rng);
+        }
+        // Keep mutated ray counts small so the test stays quick.
+        if let Some(srcs) = v.get_mut("sources").and_then(|s| s.as_array_mut()) {
+            for s in srcs {
+                if let Some(r) = s.get_mut("rays") {
+                    if r.as_u64().is_some_and(|n| n > 64) {
+                        *r = json!(64);
+                    }
+                }
+            }
+        }
+        let text = v.to_string();
+        exercise(&text);
+        // Random truncation of the text.
+        let cut = (rng.u() as usize) % (text.len() + 1);
+        exercise(text.get(..cut).unwrap_or(""));
+        // And through a link.
+        let _ = decode_link(&format!("#L={}", miniz_deflate(text.as_bytes())));
+    }
+}
