@@ -265,6 +265,21 @@ impl Session {
         }
     }
 
+    /// Sag of element `element` without its departure spline (conic plus
+    /// aspheric terms) at local ρ = `rho` mm; `None` when not a mirror. The
+    /// page places and drags the knots of a free-form mirror with it.
+    pub fn base_sag_at(&self, element: usize, rho: f64) -> Option<f64> {
+        match &self.scene.elements.get(element)?.part {
+            Part::Mirror { surface, .. } => {
+                let r = if surface.extruded { rho } else { rho.abs() };
+                let mut base = surface.profile.clone();
+                base.departure = None;
+                Some(base.sag(r))
+            }
+            Part::Screen { .. } => None,
+        }
+    }
+
     // ----- bulk data as views (valid until the next call) --------------
 
     /// Fan segments [y0, z0, y1, z1, …] in mm. View: see the module notes.
