@@ -1,1 +1,144 @@
-//! Closed-form designers and mirror-testing tables; each emits layouts.
+//! Closed-form designers and mirror-testing tables; each designer emits a
+//! validated [`Layout`] that the tracer can confirm.
+//!
+//! * [`two_mirror`]: Cassegrain, Ritchey–Chrétien, Dall–Kirkham, Gregorian
+//!   and aplanatic Gregorian telescopes from focal lengths and back focus.
+//! * [`off_axis`]: an off-axis paraboloid segment (and the offset-fed dish).
+//! * [`compare`]: conic constants side by side — sag, departure from the
+//!   vertex sphere, exact wavefront at best focus, best-fit sphere.
+//! * [`zones`]: zonal mask and knife-edge readings (moving or fixed source)
+//!   for a centre-of-curvature test, glass to remove per zone.
+//! * [`measured`]: a mirror built from measured readings or a departure
+//!   table, and which zones need work.
+//!
+//! Errors are [`InputError`]s whose `field` is the snake_case name of the
+//! offending parameter (`back_focus`, `conics[2]`, `csv line 7`); front ends
+//! translate them to their own spelling (`--back-focus`).
+
+pub mod compare;
+pub mod measured;
+pub mod off_axis;
+pub mod two_mirror;
+pub mod zones;
+
+pub use compare::{
+    best_fit_sphere, collimated_wavefront, compare_conics, conic_tolerance_quarter_wave, sphere_fastest_f_ratio,
+    BestFitSphere, Comparison, ConicRow, Wavefront,
+};
+pub use measured::{
+    measured_layout, measured_mirror, parse_departure_csv, profile_from_readings, zones_needing_work, ZoneVerdict,
+    ZoneWork,
+};
+pub use off_axis::{design_off_axis, Feed, OffAxisDesign, OffAxisSpec};
+pub use two_mirror::{design_two_mirror, two_mirror_conics, TwoMirrorDesign, TwoMirrorKind, TwoMirrorSpec};
+pub use zones::{
+    fixed_source_reading, moving_source_reading, zone_edges, zone_table, TestSource, Zone, ZoneTable,
+};
+
+use crate::error::InputError;
+use crate::geometry::Profile;
+use crate::layout::{validate, Element, Layout, Source, FORMAT_TAG, FORMAT_VERSION};
+
+/// Wavelength of generated layouts and the default test wavelength, nm.
+pub const DEFAULT_WAVELENGTH_NM: f64 = 550.0;
+/// Rays per beam in generated layouts.
+pub const LAYOUT_RAYS: u64 = 20_000;
+/// Largest length a designer accepts, mm: the layout validator's limit
+/// (10 km). Generated layouts are validated in the end anyway.
+pub(crate) const MAX_MM: f64 = 1.0e7;
+/// Largest fraction of a conic's domain an aperture may use, as in the
+/// layout validator: (1+K)c²ρ² stays below this.
+const DOMAIN_MARGIN: f64 = 1.0 - 1e-9;
+
+pub(crate) fn bad(field: &str, message: impl Into<String>) -> InputError {
+    InputError::new(field, message)
+}
+
+/// A finite value of sensible magnitude.
+pub(crate) fn finite(field: &str, v: f64) -> Result<f64, InputError> {
+    if !v.is_finite() {
+        return Err(bad(field, format!("must be a finite number (got {v})")));
+    }
+    if v.abs() > MAX_MM {
+        return Err(bad(field, format!("magnitude must be at most {MAX_MM:e}")));
+    }
+    Ok(v)
+}
+
+/// A finite value greater than 0.
+pub(crate) fn positive(field: &str, v: f64) -> Result<f64, InputError> {
+    finite(field, v)?;
+    if v <= 0.0 {
+        return Err(bad(field, format!("must be greater than 0 (got {v})")));
+    }
+    Ok(v)
+}
+
+/// Wavelength in nm, checked like a layout's `wavelength_nm`.
+pub(crate) fn wavelength(field: &str, nm: f64) -> Result<f64, InputError> {
+    if !nm.is_finite() || !(100.0..=100_000.0).contains(&nm) {
+        return Err(bad(field, format!("must be between 100 and 100000 nm (got {nm})")));
+    }
+    Ok(nm)
+}
+
+/// Checks that a concave conic of vertex radius `radius` and conic `conic`
+/// reaches the semi-diameter `a` (its sag formula stays real, with margin).
+pub(crate) fn conic_reaches(field: &str, radius: f64, conic: f64, a: f64) -> Result<(), InputError> {
+    let c = 1.0 / radius;
+    if (1.0 + conic) * c * c * a * a >= DOMAIN_MARGIN {
+        let limit = 1.0 / (c.abs() * (1.0 + conic).sqrt());
+        return Err(bad(
+            field,
+            format!(
+                "a conic with R = {radius} mm and K = {conic} ends at ρ = {limit:.4} mm, inside the semi-diameter {a} mm; use a smaller diameter or conic constant"
+            ),
+        ));
+    }
+    Ok(())
+}
+
+/// Sag and slope of a conic meridian (exact).
+#[inline]
+pub(crate) fn conic_sag_slope(radius: f64, conic: f64, rho: f64) -> (f64, f64) {
+    Profile::conic(Some(radius), conic).conic_sag_slope(rho)
+}
+
+/// Sag of a conic meridian (exact).
+#[inline]
+pub(crate) fn conic_sag(radius: f64, conic: f64, rho: f64) -> f64 {
+    conic_sag_slope(radius, conic, rho).0
+}
+
+/// A layout shell with the defaults designers use.
+pub(crate) fn new_layout(name: String, notes: String, elements: Vec<Element>, sources: Vec<Source>) -> Layout {
+    Layout {
+        format: FORMAT_TAG.to_string(),
+        version: FORMAT_VERSION,
+        name,
+        notes,
+        wavelength_nm: DEFAULT_WAVELENGTH_NM,
+        max_bounces: 16,
+        elements,
+        sources,
+    }
+}
+
+/// Validates a generated layout. A failure means the parameters produced
+/// an impossible geometry; it is reported under `layout.<field>`.
+pub(crate) fn checked(layout: Layout) -> Result<Layout, InputError> {
+    validate(&layout).map_err(|e| {
+        InputError::new(
+            format!("layout.{}", e.field),
+            format!("these parameters give an invalid layout: {}", e.message),
+        )
+    })?;
+    Ok(layout)
+}
+
+/// Rounds up to a multiple of `step`, for tidy screen sizes and beam
+/// distances. Values that drive the optics (radii, conics, vertex
+/// positions) are never rounded.
+pub(crate) fn tidy(v: f64, step: f64) -> f64 {
+    (v / step).ceil() * step
+}

@@ -1,0 +1,141 @@
+//! The `design`, `compare` and `zones` commands: JSON keys of the contract
+//! (DESIGN.md §5), the worked numbers of REFERENCES.md, and bad input
+//! refused with exit code 2 and nothing on stdout.
+
+use serde_json::Value;
+use std::process::Command;
+
+fn run(args: &[&str]) -> (i32, String, String) {
+    let out = Command::new(env!("CARGO_BIN_EXE_catoptric")).args(args).output().expect("runs");
+    (
+        out.status.code().unwrap_or(-1),
+        String::from_utf8_lossy(&out.stdout).into_owned(),
+        String::from_utf8_lossy(&out.stderr).into_owned(),
+    )
+}
+
+fn json(args: &[&str]) -> Value {
+    let (code, out, err) = run(args);
+    assert_eq!(code, 0, "{args:?}: {err}");
+    serde_json::from_str(&out).expect("JSON on stdout")
+}
+
+fn has_keys(v: &Value, keys: &[&str]) {
+    for k in keys {
+        assert!(v.get(k).is_some(), "missing key {k} in {v}");
+    }
+}
+
+fn rel(a: f64, b: f64) -> f64 {
+    (a - b).abs() / b.abs()
+}
+
+#[test]
+fn two_mirror_json_contract() {
+    // REFERENCES.md row 8 worked example (Schroeder, 2nd ed., ch. 6).
+    let v = json(&[
+        "design", "two-mirror", "--type", "ritchey-chretien", "--diameter", "300", "--primary-focal", "1200",
+        "--focal", "3200", "--back-focus", "250", "--field-deg", "0.2", "--json",
+    ]);
+    has_keys(&v, &["type", "focal_mm", "magnification", "separation_mm", "back_focus_mm", "primary", "secondary", "layout"]);
+    has_keys(&v["primary"], &["radius_mm", "conic", "diameter_mm", "hole_mm"]);
+    has_keys(&v["secondary"], &["radius_mm", "conic", "diameter_mm"]);
+    assert_eq!(v["type"], "ritchey-chretien");
+    assert!(rel(v["separation_mm"].as_f64().unwrap(), 804.545) < 1e-6);
+    assert!(rel(v["primary"]["conic"].as_f64().unwrap(), -1.138242) < 1e-6);
+    assert!(rel(v["secondary"]["conic"].as_f64().unwrap(), -6.558237) < 1e-6);
+    assert!(rel(v["secondary"]["radius_mm"].as_f64().unwrap(), -1265.455) < 1e-6);
+    let ids: Vec<&str> = v["layout"]["sources"].as_array().unwrap().iter().map(|s| s["id"].as_str().unwrap()).collect();
+    assert_eq!(ids, ["on-axis", "off-axis"]);
+}
+
+#[test]
+fn two_mirror_writes_a_layout_the_trace_command_reads() {
+    let dir = std::env::temp_dir().join(format!("catoptric-design-{}", std::process::id()));
+    std::fs::create_dir_all(&dir).unwrap();
+    let path = dir.join("cass.json");
+    let p = path.to_str().unwrap();
+    let (code, _, err) = run(&[
+        "design", "two-mirror", "--type", "cassegrain", "--diameter", "200", "--primary-focal", "800", "--focal",
+        "3000", "--back-focus", "150", "--layout", p,
+    ]);
+    assert_eq!(code, 0, "{err}");
+    let v = json(&["trace", p, "--rays", "5000", "--json"]);
+    let screen = &v["screens"][0];
+    assert_eq!(screen["id"], "focus");
+    let rms = screen["by_source"][0]["rms_radius_um"].as_f64().unwrap();
+    assert!(rms < 0.01, "classical Cassegrain on axis: {rms} µm");
+    let _ = std::fs::remove_dir_all(&dir);
+}
+
+#[test]
+fn off_axis_json_contract() {
+    // REFERENCES.md row 9: f = 500, h = 200 → 22.6199°, 520 mm.
+    let v = json(&["design", "off-axis", "--parent-focal", "500", "--offset", "200", "--diameter", "100", "--json"]);
+    has_keys(&v, &["off_axis_angle_deg", "reflected_focal_mm", "layout"]);
+    assert!(rel(v["off_axis_angle_deg"].as_f64().unwrap(), 22.6199) < 5e-6);
+    assert!(rel(v["reflected_focal_mm"].as_f64().unwrap(), 520.0) < 1e-12);
+}
+
+#[test]
+fn compare_json_contract() {
+    // REFERENCES.md row 5: D = 150, λ = 550 nm → N = 8.106.
+    let v = json(&["compare", "--radius", "2400", "--diameter", "150", "--conics", "0,-1,-0.5", "--json"]);
+    has_keys(&v, &["conics", "sphere_fastest_f_ratio"]);
+    let rows = v["conics"].as_array().unwrap();
+    assert_eq!(rows.len(), 3);
+    for r in rows {
+        has_keys(r, &["conic", "edge_sag_mm", "departure_pv_um", "wavefront_pv_waves", "wavefront_rms_waves", "strehl_estimate"]);
+    }
+    assert!(rel(v["sphere_fastest_f_ratio"].as_f64().unwrap(), 8.106) < 1e-4);
+    // A leading minus sign is a value, not a flag.
+    let v = json(&["compare", "--radius", "2400", "--diameter", "150", "--conics", "-1", "--json"]);
+    assert_eq!(v["conics"][0]["conic"], -1.0);
+}
+
+#[test]
+fn zones_json_contract() {
+    // REFERENCES.md rows 3 and 4: R = 2000 paraboloid, D = 200, 5 zones.
+    let v = json(&["zones", "--radius", "2000", "--conic", "-1", "--diameter", "200", "--zones", "5", "--json"]);
+    assert_eq!(v["source"], "moving");
+    let z = v["zones"].as_array().unwrap();
+    assert_eq!(z.len(), 5);
+    for r in z {
+        has_keys(r, &["inner_mm", "outer_mm", "r_mm", "reading_mm"]);
+    }
+    assert!(rel(z[0]["outer_mm"].as_f64().unwrap(), 44.72) < 1e-4);
+    let v = json(&["zones", "--radius", "2000", "--conic", "-1", "--diameter", "200", "--zones", "5", "--source", "fixed", "--json"]);
+    assert_eq!(v["source"], "fixed");
+}
+
+#[test]
+fn bad_input_exits_2_naming_the_flag() {
+    let cases: [(&[&str], &str); 8] = [
+        (
+            &["design", "two-mirror", "--type", "cassegrain", "--diameter", "0", "--primary-focal", "1200", "--focal", "3200", "--back-focus", "250", "--json"],
+            "--diameter",
+        ),
+        (
+            &["design", "two-mirror", "--type", "cassegrain", "--diameter", "300", "--primary-focal", "1200", "--focal", "3200", "--back-focus", "4000", "--json"],
+            "--back-focus",
+        ),
+        (
+            &["design", "two-mirror", "--type", "cassegrain", "--diameter", "300", "--primary-focal", "1200", "--focal", "1200", "--back-focus", "250"],
+            "--focal",
+        ),
+        (
+            &["design", "two-mirror", "--type", "schmidt", "--diameter", "300", "--primary-focal", "1200", "--focal", "3200", "--back-focus", "250"],
+            "--type",
+        ),
+        (&["design", "off-axis", "--parent-focal", "-5", "--offset", "200", "--diameter", "100", "--json"], "--parent-focal"),
+        (&["compare", "--radius", "2400", "--diameter", "150", "--conics", "0,zero", "--json"], "--conics[1]"),
+        (&["zones", "--radius", "2000", "--conic", "-1", "--diameter", "200", "--zones", "0", "--json"], "--zones"),
+        (&["zones", "--radius", "2000", "--conic", "-1", "--diameter", "200", "--zones", "5", "--source", "lamp"], "--source"),
+    ];
+    for (args, flag) in cases {
+        let (code, out, err) = run(args);
+        assert_eq!(code, 2, "{args:?}: {err}");
+        assert!(out.is_empty(), "{args:?} printed {out}");
+        assert!(err.contains(flag), "{args:?}: {err}");
+    }
+}

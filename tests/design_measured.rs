@@ -1,0 +1,163 @@
+//! Measured mirrors: departure tables, surfaces rebuilt from moving-source
+//! readings, and the zones that need work.
+//!
+//! Reference: the moving-source reading is the normal intercept
+//! z + ρ/z′ − R (REFERENCES.md row 3); a surface built from known
+//! departures must come back from its own readings.
+
+use catoptric::analysis::spot_stats;
+use catoptric::design::{
+    measured_layout, moving_source_reading, parse_departure_csv, profile_from_readings, zone_edges, zones_needing_work,
+    ZoneVerdict,
+};
+use catoptric::geometry::Profile;
+use catoptric::layout::{parse_layout, Element};
+use catoptric::{trace, Scene, TraceOptions};
+
+const R: f64 = 2000.0;
+const D: f64 = 200.0;
+
+/// Exact moving-source reading of the paraboloid plus `bump(ρ)` (mm),
+/// from the normal-intercept definition, slope by central difference.
+fn reading_of(rho: f64, bump: &dyn Fn(f64) -> f64) -> f64 {
+    let p = Profile::conic(Some(R), -1.0);
+    let z = |r: f64| p.conic_sag_slope(r).0 + bump(r);
+    let h = 1e-4;
+    let slope = (z(rho + h) - z(rho - h)) / (2.0 * h);
+    z(rho) + rho / slope - R
+}
+
+/// RMS zone radii of `n` equal-area zones.
+fn zone_radii(n: usize) -> Vec<f64> {
+    zone_edges(D, n).windows(2).map(|e| ((e[0] * e[0] + e[1] * e[1]) / 2.0).sqrt()).collect()
+}
+
+#[test]
+fn departure_csv_with_header_units_and_comments() {
+    let text = "# bench test 3\nradius_mm, departure_nm\n0, 0\n25, 12.5\n\n50;30\n75\t-20\n100 -45\n";
+    let k = parse_departure_csv(text).unwrap();
+    assert_eq!(k.len(), 5);
+    assert_eq!(k[1], [25.0, 12.5e-6]);
+    assert_eq!(k[4], [100.0, -45e-6]);
+    // Without a header the departure is in µm.
+    let k = parse_departure_csv("0,0\n50,0.1\n").unwrap();
+    assert_eq!(k[1], [50.0, 1e-4]);
+    let k = parse_departure_csv("r,departure_mm\n0,0\n50,0.001\n").unwrap();
+    assert_eq!(k[1][1], 0.001);
+    let k = parse_departure_csv("radius (mm), departure (µm)\n0, 0\n50, 0.25\n").unwrap();
+    assert_eq!(k[1][1], 0.25e-3);
+}
+
+#[test]
+fn departure_csv_errors_name_the_line() {
+    let cases = [
+        ("0,0\n10,abc\n", "csv line 2 (departure)"),
+        ("0,0\nx1,2\n", "csv line 2 (radius)"),
+        ("0,0\n10,1\n5,2\n", "csv line 3 (radius)"),
+        ("0,0\n10,1,7\n", "csv line 2"),
+        ("0,0\n10,\n", "csv line 2 (departure)"),
+        ("radius,height\n0,0\n", "csv line 1 (departure)"),
+        ("0,0\n", "csv"),
+        ("", "csv"),
+        ("0,0\n-4,1\n", "csv line 2 (radius)"),
+        ("0,0\n10,NaN\n", "csv line 2 (departure)"),
+        ("0,0\n10,1e400\n", "csv line 2 (departure)"),
+    ];
+    for (text, field) in cases {
+        let e = parse_departure_csv(text).unwrap_err();
+        assert_eq!(e.field, field, "{text:?}: {e}");
+    }
+    // Arbitrary bytes never panic.
+    let mut seed = 0x2545_f491_4f6c_dd1du64;
+    for _ in 0..2000 {
+        let s: String = (0..40)
+            .map(|_| {
+                seed ^= seed << 13;
+                seed ^= seed >> 7;
+                seed ^= seed << 17;
+                b"0123456789.,;-e \n#xn"[(seed % 20) as usize] as char
+            })
+            .collect();
+        let _ = parse_departure_csv(&s);
+    }
+}
+
+#[test]
+fn perfect_readings_give_the_design_surface() {
+    let radii = zone_radii(5);
+    let readings: Vec<[f64; 2]> = radii.iter().map(|&r| [r, moving_source_reading(R, -1.0, r)]).collect();
+    let knots = profile_from_readings(R, -1.0, D, &readings).unwrap();
+    assert_eq!(knots.first().unwrap()[0], 0.0);
+    assert!((knots.last().unwrap()[0] - 100.0).abs() < 1e-9);
+    for k in &knots {
+        assert!(k[1].abs() < 1e-10, "{k:?}");
+    }
+}
+
+#[test]
+fn known_departure_comes_back_from_its_readings() {
+    // A smooth raised ring of 100 nm: readings computed from the normal
+    // intercept of the perturbed surface, surface rebuilt from 20 zones.
+    let bump = |r: f64| 1e-4 * (-((r - 60.0) / 15.0).powi(2)).exp();
+    let radii = zone_radii(20);
+    let readings: Vec<[f64; 2]> = radii.iter().map(|&r| [r, reading_of(r, &bump)]).collect();
+    let knots = profile_from_readings(R, -1.0, D, &readings).unwrap();
+    for k in &knots {
+        if k[0] >= radii[0] && k[0] <= 100.0 {
+            assert!((k[1] - bump(k[0])).abs() < 8e-6, "ρ {}: {} vs {}", k[0], k[1], bump(k[0]));
+        }
+    }
+}
+
+#[test]
+fn measured_layout_traces_like_the_surface_it_carries() {
+    // A paraboloid carrying the sphere-minus-paraboloid departure is the
+    // sphere: the traced spot at the design focus matches a plain sphere
+    // (compare a closed form against the general path, common practice).
+    let p = Profile::conic(Some(R), -1.0);
+    let s = Profile::conic(Some(R), 0.0);
+    let knots: Vec<[f64; 2]> =
+        (0..=40).map(|i| 2.5 * i as f64).map(|r| [r, s.conic_sag_slope(r).0 - p.conic_sag_slope(r).0]).collect();
+    let rms = |dep: &[[f64; 2]], k: f64| {
+        let l = measured_layout("test", R, k, D, dep).unwrap();
+        let l = parse_layout(&l.to_json_pretty()).unwrap();
+        let scene = Scene::compile(&l);
+        let res = trace(&scene, TraceOptions { rays: Some(5000) });
+        spot_stats(&res.screens[0], Some(0)).rms_radius
+    };
+    let zero = [[0.0, 0.0], [100.0, 0.0]];
+    assert!(rms(&zero, -1.0) < 1e-5, "perfect paraboloid");
+    let a = rms(&knots, -1.0);
+    let b = rms(&zero, 0.0);
+    assert!((a - b).abs() < 0.01 * b, "{a} vs {b}");
+    let l = measured_layout("test", R, -1.0, D, &knots).unwrap();
+    let Element::Mirror(m) = &l.elements[0] else { panic!("mirror first") };
+    assert_eq!(m.profile.departure.as_deref(), Some(&knots[..]));
+}
+
+#[test]
+fn zones_needing_work_finds_the_raised_zone() {
+    let bump = |r: f64| 8e-5 * (-((r - 70.0) / 8.0).powi(2)).exp();
+    let radii = zone_radii(10);
+    let readings: Vec<[f64; 2]> = radii.iter().map(|&r| [r, reading_of(r, &bump)]).collect();
+    let work = zones_needing_work(R, -1.0, D, &readings, 20.0).unwrap();
+    let high: Vec<f64> = work.iter().filter(|w| w.verdict == ZoneVerdict::High).map(|w| w.r_mm).collect();
+    assert!(!high.is_empty() && high.iter().all(|r| (r - 70.0).abs() < 12.0), "{work:?}");
+    // Perfect figure, seen with the knife reference shifted by 0.3 mm (a
+    // different radius of curvature): nothing to do.
+    let readings: Vec<[f64; 2]> = radii.iter().map(|&r| [r, moving_source_reading(R, -1.0, r) + 0.3]).collect();
+    let work = zones_needing_work(R, -1.0, D, &readings, 5.0).unwrap();
+    assert!(work.iter().all(|w| w.verdict == ZoneVerdict::Ok), "{work:?}");
+}
+
+#[test]
+fn bad_readings_name_the_field() {
+    let e = |r: &[[f64; 2]]| profile_from_readings(R, -1.0, D, r).unwrap_err().field;
+    assert_eq!(e(&[]), "readings");
+    assert_eq!(e(&[[0.0, 0.1]]), "readings[0].r_mm");
+    assert_eq!(e(&[[30.0, 0.1], [20.0, 0.2]]), "readings[1].r_mm");
+    assert_eq!(e(&[[30.0, f64::NAN]]), "readings[0].reading_mm");
+    assert_eq!(e(&[[130.0, 0.1]]), "readings[0].r_mm");
+    assert_eq!(profile_from_readings(-R, -1.0, D, &[[30.0, 0.1]]).unwrap_err().field, "radius");
+    assert_eq!(zones_needing_work(R, -1.0, D, &[[30.0, 0.1]], -1.0).unwrap_err().field, "tolerance_nm");
+}
