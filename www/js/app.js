@@ -343,6 +343,7 @@ class App {
   // ---- tracing --------------------------------------------------------------------
   requestTrace(live) {
     this.traceGen++;
+    document.body.dataset.trace = 'pending';
     if (this.background.cancel()) this.hideProgress();
     if (!this.liveRaf) this.liveRaf = requestAnimationFrame(() => this.runLive());
     clearTimeout(this.fullTimer);
