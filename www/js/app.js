@@ -40,6 +40,7 @@ const KEYS = [
   ['Drag a knot of a free-form mirror', 'Reshape it'],
   ['<kbd>Delete</kbd> · <kbd>Backspace</kbd>', 'Delete the selection'],
   ['<kbd>D</kbd>', 'Duplicate the selection'],
+  ['<kbd>X</kbd>', 'Turn a mirror’s reflective side over (the surface stays put)'],
   ['<kbd>M</kbd> <kbd>K</kbd> <kbd>S</kbd> <kbd>B</kbd> <kbd>L</kbd> <kbd>U</kbd>', 'Add a mirror, free-form mirror, screen, beam, lamp, sun'],
   ['<kbd>Enter</kbd> · double-click', 'Finish a free-form mirror'],
   ['<kbd>Esc</kbd>', 'Cancel the tool, clear the selection, close a dialog'],
@@ -323,6 +324,32 @@ class App {
     this.props.render();
   }
 
+  /**
+   * Turns the selected mirror's reflective side over without moving its
+   * surface: the frame turns 180° (local y and z change sign), so the sag
+   * becomes z'(y') = −z(−y'): R, aspheric terms and spline heights change
+   * sign, extruded knots mirror in ρ, and the aperture offset changes sign.
+   */
+  flipSelected() {
+    const sel = this.selection;
+    const m = sel && this.layout[sel.list][sel.index];
+    if (!m || m.kind !== 'mirror') return;
+    const err = this.edit((L) => {
+      const it = L.elements[sel.index];
+      const p = it.profile;
+      it.axis_deg = roundTo((((it.axis_deg + 180) % 360) + 360) % 360, 1e-9);
+      if (typeof p.radius === 'number') p.radius = -p.radius;
+      if (Array.isArray(p.aspheric)) p.aspheric = p.aspheric.map((a) => -a);
+      if (Array.isArray(p.departure)) {
+        p.departure = it.form === 'extruded'
+          ? p.departure.map(([r, dz]) => [-r, -dz]).reverse()
+          : p.departure.map(([r, dz]) => [r, -dz]);
+      }
+      if (it.aperture.offset) it.aperture.offset = -it.aperture.offset;
+    });
+    if (err) this.message(err);
+  }
+
   duplicateSelected() {
     const sel = this.selection;
     if (!sel) return;
@@ -446,7 +473,8 @@ class App {
     $('progress').hidden = false;
     const f = total > 0 ? done / total : 0;
     $('progress-fill').style.width = `${(100 * f).toFixed(1)}%`;
-    $('progress-text').textContent = `${fmtInt(done)} of ${fmtInt(total)} rays`;
+    $('progress-text').textContent = `${Math.floor(100 * f)} %`;
+    $('progress').title = `Full trace in the background: ${fmtInt(done)} of ${fmtInt(total)} rays`;
   }
   progress(gen, done, total) {
     if (gen === this.traceGen) this.showProgress(done, total);
@@ -494,7 +522,8 @@ class App {
       span.title = `${info.title}${extra}`;
       span.dataset.readout = key;
       const b = document.createElement('b');
-      b.textContent = withUnit(value, info.unit);
+      // Large micrometre figures read better in millimetres.
+      b.textContent = info.unit === 'µm' && Math.abs(value) >= 1e4 ? withUnit(value / 1000, 'mm') : withUnit(value, info.unit);
       span.append(`${info.label} `, b);
       box.append(span);
     };
@@ -713,6 +742,7 @@ class App {
     else if (k === 't' || k === 'T') $('btn-theme').click();
     else if (k === 'a' || k === 'A') this.drawer.open(!this.drawer.isOpen());
     else if (k === 'd' || k === 'D') this.duplicateSelected();
+    else if (k === 'x' || k === 'X') this.flipSelected();
     else if (k === '?') $('help').hidden = false;
   }
 

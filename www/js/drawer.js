@@ -217,9 +217,9 @@ class SpotView {
     }
     // Below a micrometre the scatter is rounding noise of a perfect focus.
     extent = Math.max(extent, 1);
-    const margin = 28;
-    const k = (Math.min(W, H) / 2 - margin) / extent; // px per µm
-    const ox = W / 2, oy = H / 2;
+    const top = 40, bottom = 26; // room for the labels and the scale bar
+    const k = (Math.min(W, H - top - bottom) / 2 - 8) / extent; // px per µm
+    const ox = W / 2, oy = top + (H - top - bottom) / 2;
 
     // frame: crosshair and circles of the extent
     ctx.strokeStyle = th.line;
@@ -282,9 +282,10 @@ class SpotView {
     // labels
     ctx.fillStyle = th.ink2;
     ctx.fillText(`screen ${sc.id}`, 12, 18);
-    ctx.fillText(`centre u ${fmtNum(cu, 6)} mm, v ${fmtNum(cv0, 6)} mm`, 12, 34);
-    ctx.fillText('u →', W - 40, oy - 6);
-    ctx.fillText('v ↑', ox + 6, 14);
+    const tiny = (x) => (Math.abs(x) < 1e-9 ? 0 : x);
+    ctx.fillText(`centre u ${fmtNum(tiny(cu), 6)} mm, v ${fmtNum(tiny(cv0), 6)} mm`, 12, 34);
+    ctx.fillText('u →', ox + extent * k + 4, oy + 4);
+    ctx.fillText('v ↑', ox + 6, oy - extent * k - 2);
     if (rows.some((row) => row.airy_radius_um > 0)) ctx.fillText('dashed: Airy circle', W - 130, H - 10);
 
     for (const row of rows) {

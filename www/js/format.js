@@ -99,7 +99,8 @@ export const STAT_ORDER = [
 
 /** Formats a report value (number, [u, v] pair or other) for a cell. */
 export function fmtStat(key, v) {
-  if (Array.isArray(v)) return v.map((x) => fmtNum(x, 5)).join(', ');
+  // Positions below a picometre are rounding noise of a centred spot.
+  if (Array.isArray(v)) return v.map((x) => fmtNum(key.endsWith('_mm') && Math.abs(x) < 1e-9 ? 0 : x, 5)).join(', ');
   if (typeof v !== 'number') return v === null || v === undefined ? '–' : String(v);
   if (key === 'hits' || key.startsWith('rays_')) return fmtInt(v);
   return fmtNum(v, 4);

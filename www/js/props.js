@@ -279,6 +279,15 @@ export class Props {
       this.field(gs, { label: 'conic K', unit: '', type: 'number', path: [...base, 'profile', 'conic'], def: 0,
         title: 'Conic constant: 0 sphere, −1 paraboloid, below −1 hyperboloid, between −1 and 0 prolate ellipsoid, above 0 oblate' });
     }
+    const fb = document.createElement('div');
+    fb.className = 'row-buttons';
+    const flip = document.createElement('button');
+    flip.type = 'button';
+    flip.textContent = 'Turn the reflective side over';
+    flip.title = 'Make the other face reflect, keeping the surface where it is (X)';
+    flip.onclick = () => { app.flipSelected(); this.render(); };
+    fb.append(flip);
+    gs.append(fb);
     if (m.profile.aspheric?.length) this.note(gs, `${m.profile.aspheric.length} aspheric coefficient(s) A4… kept from the file.`);
     if (Array.isArray(m.profile.departure)) {
       this.note(gs, `Free-form departure: ${m.profile.departure.length} knots (drag them in the drawing).`);
