@@ -225,6 +225,96 @@ describe('the workbench page', () => {
     }
   });
 
+  test('free-form mirror: clicked knots make a spline mirror, a dragged knot reshapes it, turning it over sends light to the screen', async () => {
+    const { ctx, page, seen } = await openPage();
+    try {
+      const before = await layoutOf(page);
+      // Paraboloid preset: beam from z = 500 toward +z, screen at z = 0 facing +z.
+      await page.keyboard.press('k');
+      for (const [y, z] of [[150, 800], [60, 760], [0, 750], [-60, 760], [-150, 800]]) {
+        const p = await screenPoint(page, y, z);
+        await page.mouse.click(p[0], p[1]);
+      }
+      await page.keyboard.press('Enter');
+      await settled(page);
+      const L = await layoutOf(page);
+      assert.equal(L.elements.length, before.elements.length + 1);
+      const ei = L.elements.length - 1;
+      const ff = L.elements[ei];
+      assert.equal(ff.form, 'extruded');
+      assert.equal(ff.profile.departure.length, 5);
+      const rhos = ff.profile.departure.map((k) => k[0]);
+      assert.ok(rhos.every((r, i) => i === 0 || r > rhos[i - 1]), 'knots in increasing rho');
+      // The face looks toward the concave side (+z here), so the beam meets its back.
+      assert.ok(Math.abs(ff.axis_deg) < 1e-6 || Math.abs(ff.axis_deg - 360) < 1e-6, `axis ${ff.axis_deg}`);
+      const screen = L.elements.find((e) => e.kind === 'screen').id;
+      assert.equal((await readStats(page))[`${screen}||hits`], 0);
+
+      // Drag the middle knot 20 mm toward -z: its height changes, the ends stay.
+      const knots = await page.evaluate(() => window.catoptric.editor.handles().filter((h) => h.kind === 'knot'));
+      assert.equal(knots.length, 5);
+      const box = await page.locator('#canvas').boundingBox();
+      const mid = knots[2];
+      const k = await page.evaluate(() => window.catoptric.editor.view.k);
+      await drag(page, [box.x + mid.x, box.y + mid.y], [box.x + mid.x - 20 * k, box.y + mid.y]);
+      await settled(page);
+      const after = (await layoutOf(page)).elements[ei].profile.departure;
+      assert.ok(Math.abs(after[2][1] - ff.profile.departure[2][1]) > 5, `knot moved: ${ff.profile.departure[2][1]} -> ${after[2][1]}`);
+      assert.deepEqual(after[0], ff.profile.departure[0]);
+      assert.deepEqual(after[4], ff.profile.departure[4]);
+
+      // Turn it over (X): the surface stays, the reflective side faces the beam,
+      // and reflected light now reaches the screen.
+      const outline = () => page.evaluate((i) => {
+        const g = window.catoptric.geom;
+        const pts = [];
+        for (let s = 0; s < g.spans.length; s += 3) {
+          if (g.spans[s] !== i) continue;
+          for (let j = 0; j < g.spans[s + 2]; j++) pts.push([g.outline[2 * (g.spans[s + 1] + j)], g.outline[2 * (g.spans[s + 1] + j) + 1]]);
+        }
+        return pts;
+      }, ei);
+      const shape = await outline();
+      await page.keyboard.press('x');
+      await settled(page);
+      const flipped = (await layoutOf(page)).elements[ei];
+      assert.ok(Math.abs(flipped.axis_deg - 180) < 1e-6, `axis ${flipped.axis_deg}`);
+      assert.ok((await readStats(page))[`${screen}||hits`] > 0, 'light reaches the screen');
+      // Same surface: the outline is the old one traversed backwards (to f32 drawing precision).
+      const turned = (await outline()).reverse();
+      assert.equal(turned.length, shape.length);
+      turned.forEach((p, j) => assert.ok(Math.hypot(p[0] - shape[j][0], p[1] - shape[j][1]) < 1e-3, `outline point ${j}: ${p} vs ${shape[j]}`));
+      assert.deepEqual(seen.errors, []);
+    } finally {
+      await ctx.close();
+    }
+  });
+
+  test('keyboard editing: rotate, delete and undo', async () => {
+    const { ctx, page, seen } = await openPage();
+    try {
+      const L0 = await layoutOf(page);
+      const mi = L0.elements.findIndex((e) => e.kind === 'mirror');
+      await page.evaluate((i) => window.catoptric.select({ list: 'elements', index: i }), mi);
+      await page.locator('#canvas').focus();
+      await page.keyboard.press(']');
+      await settled(page);
+      assert.equal((await layoutOf(page)).elements[mi].axis_deg, L0.elements[mi].axis_deg + 1);
+      await page.keyboard.press('Shift+BracketLeft');
+      await settled(page);
+      assert.equal((await layoutOf(page)).elements[mi].axis_deg, L0.elements[mi].axis_deg - 14);
+      await page.keyboard.press('Delete');
+      await settled(page);
+      assert.equal((await layoutOf(page)).elements.length, L0.elements.length - 1);
+      for (let i = 0; i < 3; i++) await page.click('#btn-undo');
+      await settled(page);
+      assert.deepEqual(await layoutOf(page), L0);
+      assert.deepEqual(seen.errors, []);
+    } finally {
+      await ctx.close();
+    }
+  });
+
   test('a share link opened in a fresh page shows the statistics of `catoptric trace --json`', async () => {
     for (const file of ['sphere-f5.json', 'ellipsoid-lamp.json']) {
       const path = join(WWW, 'presets', file);
