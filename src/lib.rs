@@ -8,6 +8,7 @@
 //! (wasm only) and `src/bin` are thin front ends.
 
 pub mod analysis;
+pub mod bench_scenes;
 pub mod design;
 pub mod error;
 pub mod geometry;

@@ -1,7 +1,31 @@
-//! Analyses of a finished trace: spot statistics and the report.
+//! Analyses of a finished trace: spot statistics, best focus and the
+//! through-focus curve, the working f-number and Airy radius, wavefront
+//! error and Strehl estimate, encircled energy, longitudinal aberration,
+//! the caustic raster, flux maps and concentration, and the report.
 
+mod caustic;
+mod cone;
+mod energy;
+mod flux;
+mod focus;
+mod longitudinal;
 mod report;
+mod select;
 mod spot;
+mod wavefront;
 
-pub use report::{trace_report, ScreenReport, SourceReport, TraceReport};
+pub use caustic::{caustic, caustic_raster, MAX_RASTER_SIDE};
+pub use cone::{airy_radius, cone_half_angle, f_number, mean_direction, AIRY_FACTOR};
+pub use energy::{encircled_energy, EncircledEnergy};
+pub use flux::{
+    beam_irradiance, flux_map, flux_stats, flux_stats_of, screen_geometry, FluxMap, FluxStats, DEFAULT_FLUX_GRID,
+    MAX_FLUX_GRID,
+};
+pub use focus::{
+    default_focus_range, focus_fit, through_focus, through_focus_of, FocusFit, ThroughFocus, MIN_FOCUS_RANGE_MM,
+    MIN_SLOPE_SPREAD,
+};
+pub use longitudinal::{longitudinal_aberration, trace_meridional, LongitudinalAberration};
+pub use report::{analyse_all, trace_report, Analyses, ScreenReport, SourceCurves, SourceReport, TraceReport, CURVE_POINTS};
 pub use spot::{spot_stats, SpotStats};
+pub use wavefront::{strehl_from_rms, wavefront, wavefront_map, WavefrontMap, WavefrontStats, MARECHAL_RMS_WAVES};

@@ -1,9 +1,20 @@
 //! The trace report: the JSON document `catoptric trace --json` prints and
-//! the page's statistics table shows (DESIGN.md §5).
+//! the page's statistics table shows (DESIGN.md §5), and [`analyse_all`],
+//! which adds the curves and maps the page draws.
+//!
+//! Analysis keys are `null` where they mean nothing: fewer than 3 hits
+//! (5 for the wavefront), rays arriving parallel (no focus, no f-number),
+//! or an extended solar source (no single wavefront).
 
+use super::cone::{airy_radius, f_number};
+use super::energy::encircled_energy;
+use super::flux::{flux_map, flux_stats_of, FluxMap, FluxStats, DEFAULT_FLUX_GRID};
+use super::focus::{default_focus_range, focus_fit, through_focus_of, ThroughFocus};
 use super::spot::spot_stats;
+use super::wavefront::wavefront;
+use crate::layout::Source;
 use crate::scene::Scene;
-use crate::trace::TraceResult;
+use crate::trace::{ScreenHits, TraceResult};
 use serde::Serialize;
 
 /// Figures for one source on one screen.
@@ -15,6 +26,24 @@ pub struct SourceReport {
     pub centroid_mm: [f64; 2],
     pub rms_radius_um: f64,
     pub max_radius_um: f64,
+    /// Screen shift of the smallest RMS spot, mm, positive along the
+    /// screen's axis (toward the arriving light).
+    pub best_focus_shift_mm: Option<f64>,
+    pub rms_radius_at_best_um: Option<f64>,
+    /// Working f-number 1/(2 sin θmax) of the arriving cone.
+    pub f_number: Option<f64>,
+    /// 1.22 λ N, µm.
+    pub airy_radius_um: Option<f64>,
+    /// Residual wavefront (piston, tilt, defocus removed), waves.
+    pub wavefront_pv_waves: Option<f64>,
+    pub wavefront_rms_waves: Option<f64>,
+    /// exp(−(2π·rms)²) (extended Maréchal, Mahajan 1982).
+    pub strehl_estimate: Option<f64>,
+    /// Maréchal criterion: RMS wavefront ≤ λ/14.
+    pub diffraction_limited: Option<bool>,
+    /// Encircled-energy radii about the centroid at the screen, µm.
+    pub ee50_radius_um: Option<f64>,
+    pub ee80_radius_um: Option<f64>,
 }
 
 /// Figures for one screen.
@@ -24,6 +53,8 @@ pub struct ScreenReport {
     pub hits: u64,
     pub power_w: f64,
     pub by_source: Vec<SourceReport>,
+    /// Flux of all sources together on a 64 × 64 grid.
+    pub flux: FluxStats,
 }
 
 /// The whole report.
@@ -35,36 +66,99 @@ pub struct TraceReport {
     pub screens: Vec<ScreenReport>,
 }
 
-/// Builds the report of a finished trace.
-pub fn trace_report(scene: &Scene, res: &TraceResult) -> TraceReport {
-    let screens = scene
-        .screen_ids
-        .iter()
-        .zip(&res.screens)
-        .map(|(id, hits)| {
-            let by_source = scene
-                .sources
-                .iter()
-                .enumerate()
-                .filter_map(|(si, s)| {
-                    let st = spot_stats(hits, Some(si as u32));
-                    (st.hits > 0).then(|| SourceReport {
-                        source: s.id().to_string(),
-                        hits: st.hits,
-                        power_w: st.power_w,
-                        centroid_mm: st.centroid,
-                        rms_radius_um: st.rms_radius * 1e3,
-                        max_radius_um: st.max_radius * 1e3,
-                    })
-                })
-                .collect();
-            ScreenReport { id: id.clone(), hits: hits.len() as u64, power_w: hits.weight.iter().sum(), by_source }
-        })
-        .collect();
-    TraceReport {
+/// Curves of one source on one screen, for plotting.
+#[derive(Debug, Clone, Default, PartialEq)]
+pub struct SourceCurves {
+    /// Index into `scene.sources`.
+    pub source: usize,
+    /// RMS radius versus shift over [`default_focus_range`].
+    pub through_focus: Option<ThroughFocus>,
+    /// Encircled energy: radius (µm) and fraction.
+    pub encircled_radius_um: Vec<f64>,
+    pub encircled_fraction: Vec<f64>,
+}
+
+/// Everything the analysis drawer shows for one trace.
+#[derive(Debug, Clone, PartialEq)]
+pub struct Analyses {
+    pub report: TraceReport,
+    /// One flux map per screen ([`DEFAULT_FLUX_GRID`] square).
+    pub flux_maps: Vec<FluxMap>,
+    /// Per screen, the curves of each source that reached it (same order
+    /// as `report.screens[k].by_source`).
+    pub curves: Vec<Vec<SourceCurves>>,
+}
+
+/// Points in each plotted curve.
+pub const CURVE_POINTS: usize = 101;
+
+fn analyse_source(scene: &Scene, hits: &ScreenHits, si: usize) -> Option<(SourceReport, SourceCurves)> {
+    let src = si as u32;
+    let st = spot_stats(hits, Some(src));
+    if st.hits == 0 {
+        return None;
+    }
+    let lambda = scene.wavelength_mm;
+    let fit = focus_fit(hits, Some(src));
+    let best = fit.as_ref().and_then(|f| f.best_shift());
+    let n = f_number(hits, Some(src));
+    let extended = matches!(&scene.sources[si], Source::Beam(b) if b.sun_half_angle_mrad > 0.0);
+    let reference = fit.as_ref().and_then(|f| f.best_point()).unwrap_or([st.centroid[0], st.centroid[1], 0.0]);
+    let wf = if extended { None } else { wavefront(hits, Some(src), reference, lambda) };
+    let ee = if st.hits >= 3 { encircled_energy(hits, Some(src)) } else { None };
+    let um = |v: Option<f64>| v.map(|x| x * 1e3);
+    let report = SourceReport {
+        source: scene.sources[si].id().to_string(),
+        hits: st.hits,
+        power_w: st.power_w,
+        centroid_mm: st.centroid,
+        rms_radius_um: st.rms_radius * 1e3,
+        max_radius_um: st.max_radius * 1e3,
+        best_focus_shift_mm: best,
+        rms_radius_at_best_um: um(fit.as_ref().and_then(|f| f.rms_at_best())),
+        f_number: n,
+        airy_radius_um: um(n.map(|n| airy_radius(lambda, n))),
+        wavefront_pv_waves: wf.map(|w| w.pv_waves),
+        wavefront_rms_waves: wf.map(|w| w.rms_waves),
+        strehl_estimate: wf.map(|w| w.strehl),
+        diffraction_limited: wf.map(|w| w.diffraction_limited()),
+        ee50_radius_um: um(ee.as_ref().and_then(|e| e.radius_for(0.5))),
+        ee80_radius_um: um(ee.as_ref().and_then(|e| e.radius_for(0.8))),
+    };
+    let through_focus = fit.map(|f| {
+        let (a, b) = default_focus_range(&f);
+        through_focus_of(&f, a, b, CURVE_POINTS)
+    });
+    let (encircled_radius_um, encircled_fraction) = ee.map(|e| e.curve(CURVE_POINTS)).unwrap_or_default();
+    Some((report, SourceCurves { source: si, through_focus, encircled_radius_um, encircled_fraction }))
+}
+
+/// Runs every analysis of a finished trace: the report plus the curves and
+/// flux maps. O(hits × sources) apart from one sort per (screen, source)
+/// for the encircled energy; no allocation per hit beyond result arrays.
+pub fn analyse_all(scene: &Scene, res: &TraceResult) -> Analyses {
+    let mut screens = Vec::with_capacity(res.screens.len());
+    let mut flux_maps = Vec::with_capacity(res.screens.len());
+    let mut curves = Vec::with_capacity(res.screens.len());
+    for (k, (id, hits)) in scene.screen_ids.iter().zip(&res.screens).enumerate() {
+        let (by_source, c): (Vec<_>, Vec<_>) =
+            (0..scene.sources.len()).filter_map(|si| analyse_source(scene, hits, si)).unzip();
+        let map = flux_map(scene, res, k, DEFAULT_FLUX_GRID, DEFAULT_FLUX_GRID).unwrap_or_default();
+        let flux = flux_stats_of(scene, res, k, &map);
+        screens.push(ScreenReport { id: id.clone(), hits: hits.len() as u64, power_w: hits.weight.iter().sum(), by_source, flux });
+        flux_maps.push(map);
+        curves.push(c);
+    }
+    let report = TraceReport {
         rays_launched: res.rays_launched,
         rays_escaped: res.rays_escaped,
         rays_absorbed: res.rays_absorbed,
         screens,
-    }
+    };
+    Analyses { report, flux_maps, curves }
+}
+
+/// Builds the report of a finished trace.
+pub fn trace_report(scene: &Scene, res: &TraceResult) -> TraceReport {
+    analyse_all(scene, res).report
 }

@@ -66,9 +66,58 @@ fn table(layout: &Layout, r: &TraceReport) -> String {
                 b.rms_radius_um,
                 b.max_radius_um
             );
+            source_lines(&mut s, b);
         }
+        let f = &sc.flux;
+        let _ = writeln!(
+            s,
+            "  flux: peak {:.4e} W/m² ({}), mean {:.4e} W/m² (power / screen area), intercept {}",
+            f.peak_w_m2,
+            opt(f.peak_suns.map(|v| format!("{v:.1} suns")), "no beam"),
+            f.mean_w_m2,
+            opt(f.intercept.map(|v| format!("{v:.4}")), "—")
+        );
+    }
+    let sun = layout.sources.iter().any(|x| matches!(x, catoptric::layout::Source::Beam(b) if b.sun_half_angle_mrad > 0.0));
+    if sun {
+        let _ = writeln!(
+            s,
+            "\nCaution: concentrated sunlight burns skin, starts fires and injures eyes in an instant. \
+             Never look toward a focus; follow local codes and qualified practice."
+        );
     }
     s
+}
+
+fn opt(v: Option<String>, none: &str) -> String {
+    v.unwrap_or_else(|| none.to_string())
+}
+
+/// The focus, wavefront and energy figures of one source, indented.
+fn source_lines(s: &mut String, b: &catoptric::analysis::SourceReport) {
+    let f3 = |v: Option<f64>, unit: &str| opt(v.map(|x| format!("{x:.3} {unit}")), "—");
+    let _ = writeln!(
+        s,
+        "    best focus {} (+ along the screen axis), RMS at best {}; working f/{}, Airy radius {} (1.22 λN)",
+        opt(b.best_focus_shift_mm.map(|x| format!("{x:+.4} mm")), "—"),
+        f3(b.rms_radius_at_best_um, "µm"),
+        opt(b.f_number.map(|x| format!("{x:.3}")), "—"),
+        f3(b.airy_radius_um, "µm"),
+    );
+    let _ = writeln!(
+        s,
+        "    wavefront P-V {}, RMS {}, Strehl {} (exp(−(2π·RMS)²)), diffraction limited {} (RMS ≤ λ/14)",
+        f3(b.wavefront_pv_waves, "waves"),
+        f3(b.wavefront_rms_waves, "waves"),
+        opt(b.strehl_estimate.map(|x| format!("{x:.3}")), "—"),
+        opt(b.diffraction_limited.map(|x| if x { "yes".into() } else { "no".into() }), "—"),
+    );
+    let _ = writeln!(
+        s,
+        "    encircled energy about the centroid: 50 % within {}, 80 % within {}",
+        f3(b.ee50_radius_um, "µm"),
+        f3(b.ee80_radius_um, "µm"),
+    );
 }
 
 pub fn link(path: &str, json: bool) -> Result<String, Failure> {

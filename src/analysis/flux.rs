@@ -1,0 +1,113 @@
+//! Flux on a screen from all sources together: a W/m² map and its peak,
+//! mean, concentration and intercept.
+//!
+//! The map bins the power of every hit into an nx × ny grid over the
+//! screen's bounding square (side = the screen's `size`), row-major, row 0
+//! at the top (v = +size/2), column 0 at u = −size/2, and divides by the
+//! pixel's area. Pixels of a circular screen that straddle its rim are
+//! divided by their full area, so they read low. A point focus is as sharp
+//! as one pixel: the peak depends on the grid (a finer grid reads higher).
+//!
+//! Concentration (`peak_suns`) is peak flux over the incident irradiance of
+//! the beam sources (the largest `irradiance_w_m2` among them when there
+//! are several); the thermodynamic limits for a source of angular radius
+//! θs are 1/sin²θs in 3D and 1/sin θs for a trough (Rabl, Solar Energy 18,
+//! 93 (1976)).
+
+use crate::layout::Source;
+use crate::scene::{Part, Scene};
+use crate::trace::TraceResult;
+use serde::Serialize;
+
+/// Default flux grid, pixels per side.
+pub const DEFAULT_FLUX_GRID: usize = 64;
+/// Largest flux grid side accepted.
+pub const MAX_FLUX_GRID: usize = 4096;
+
+/// A flux map of one screen.
+#[derive(Debug, Clone, Default, PartialEq)]
+pub struct FluxMap {
+    pub nx: usize,
+    pub ny: usize,
+    /// Half the side of the mapped square, mm.
+    pub half_mm: f64,
+    /// Irradiance per pixel, W/m², row-major, row 0 at v = +half.
+    pub w_m2: Vec<f64>,
+}
+
+/// Flux figures of one screen (DESIGN.md §5 `flux`).
+#[derive(Debug, Clone, Copy, Default, PartialEq, Serialize)]
+pub struct FluxStats {
+    /// Largest pixel irradiance, W/m².
+    pub peak_w_m2: f64,
+    /// Power on the screen over its area, W/m².
+    pub mean_w_m2: f64,
+    /// Peak over the beams' incident irradiance; null without beams.
+    pub peak_suns: Option<f64>,
+    /// Fraction of all launched power that reaches the screen; null when
+    /// nothing was launched.
+    pub intercept: Option<f64>,
+}
+
+/// (half side, is circle) of screen number `screen`.
+pub fn screen_geometry(scene: &Scene, screen: usize) -> Option<(f64, bool)> {
+    scene.elements.iter().find_map(|e| match e.part {
+        Part::Screen { half, circle, index, .. } if index == screen => Some((half, circle)),
+        _ => None,
+    })
+}
+
+/// Flux map of screen number `screen` on an `nx` × `ny` grid; `None` for a
+/// bad index or a grid side of 0 or above [`MAX_FLUX_GRID`].
+pub fn flux_map(scene: &Scene, res: &TraceResult, screen: usize, nx: usize, ny: usize) -> Option<FluxMap> {
+    let (half, _) = screen_geometry(scene, screen)?;
+    let h = res.screens.get(screen)?;
+    if nx == 0 || ny == 0 || nx > MAX_FLUX_GRID || ny > MAX_FLUX_GRID {
+        return None;
+    }
+    let (pu, pv) = (2.0 * half / nx as f64, 2.0 * half / ny as f64);
+    let mut w_m2 = vec![0.0; nx * ny];
+    for i in 0..h.len() {
+        let ix = (((h.u[i] + half) / pu).floor().max(0.0) as usize).min(nx - 1);
+        let iy = (((half - h.v[i]) / pv).floor().max(0.0) as usize).min(ny - 1);
+        w_m2[iy * nx + ix] += h.weight[i];
+    }
+    let k = 1.0 / (pu * pv * 1e-6);
+    w_m2.iter_mut().for_each(|w| *w *= k);
+    Some(FluxMap { nx, ny, half_mm: half, w_m2 })
+}
+
+/// Incident irradiance used for `peak_suns`: the largest among the beams.
+pub fn beam_irradiance(scene: &Scene) -> Option<f64> {
+    scene
+        .sources
+        .iter()
+        .filter_map(|s| match s {
+            Source::Beam(b) => Some(b.irradiance_w_m2),
+            Source::Point(_) => None,
+        })
+        .fold(None, |m: Option<f64>, v| Some(m.map_or(v, |m| m.max(v))))
+        .filter(|&v| v > 0.0)
+}
+
+/// Flux figures of screen number `screen`, with its map on a `grid` ×
+/// `grid` raster.
+pub fn flux_stats(scene: &Scene, res: &TraceResult, screen: usize, grid: usize) -> Option<FluxStats> {
+    let map = flux_map(scene, res, screen, grid, grid)?;
+    Some(flux_stats_of(scene, res, screen, &map))
+}
+
+/// Flux figures from an existing map of screen number `screen`.
+pub fn flux_stats_of(scene: &Scene, res: &TraceResult, screen: usize, map: &FluxMap) -> FluxStats {
+    let (half, circle) = screen_geometry(scene, screen).unwrap_or((map.half_mm, false));
+    let power: f64 = res.screens.get(screen).map_or(0.0, |h| h.weight.iter().sum());
+    let area_m2 = if circle { std::f64::consts::PI * half * half } else { 4.0 * half * half } * 1e-6;
+    let peak = map.w_m2.iter().copied().fold(0.0, f64::max);
+    let launched: f64 = res.power_by_source.iter().sum();
+    FluxStats {
+        peak_w_m2: peak,
+        mean_w_m2: if area_m2 > 0.0 { power / area_m2 } else { 0.0 },
+        peak_suns: beam_irradiance(scene).map(|e| peak / e),
+        intercept: (launched > 0.0).then(|| power / launched),
+    }
+}

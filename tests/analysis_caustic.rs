@@ -1,0 +1,112 @@
+//! The caustic raster and the catacaustic of a circular mirror.
+//!
+//! Source for both checks: the catacaustic of a circle for parallel light
+//! is a nephroid with its cusp on the axis R/2 from the centre; the caustic
+//! point of the ray incident at angle θ lies (R/4)(3 cos θ − cos 3θ) from
+//! the centre along the axis and R sin³θ from it (Lawrence, A Catalog of
+//! Special Plane Curves, Dover 1972; Lockwood, A Book of Curves, 1961;
+//! REFERENCES row 10, worked example R = 1000, h = 100 → (507.44, 1.000)).
+
+mod analysis_support;
+use analysis_support::*;
+use catoptric::analysis::{caustic, caustic_raster};
+use catoptric::trace::{trace_fan, Fan};
+
+const R: f64 = 1000.0;
+
+/// Circular mirror (sphere) of radius R, vertex at z = R so its centre is
+/// at the origin, lit by parallel light along +z.
+fn circle_scene() -> String {
+    layout(&[mirror("m", R, R, 0.0, 1600.0, None)], &[beam("sun-free", 0.0, 100.0, 1600.0, 10, "hex", 0.0)])
+}
+
+/// Axial position (from the centre) of the nephroid at height y > 0.
+fn nephroid_z(y: f64) -> f64 {
+    let th = (y / R).cbrt().asin();
+    R / 4.0 * (3.0 * th.cos() - (3.0 * th).cos())
+}
+
+#[test]
+fn density_ridges_follow_the_nephroid_from_its_cusp() {
+    // The raster is built from a 4001-ray fan through the general tracer;
+    // its ridges must sit on the nephroid (see the file header).
+    let scene = scene(&circle_scene());
+    // 1 mm pixels centred on whole millimetres: row 100 straddles the axis
+    // (row r is centred on y = 100 − r), column c on z = 301 + c.
+    let (w, h) = (400usize, 201usize);
+    let img = caustic(&scene, 4001, [-100.5, 300.5, 100.5, 700.5], w, h);
+    assert_eq!(img.len(), w * h);
+    let argmax = |row: usize| (0..w).max_by(|&a, &b| img[row * w + a].total_cmp(&img[row * w + b])).unwrap();
+    // On the axis row the rays bunch from the cusp (z = R/2) to where the
+    // two branches, tangent to the axis there, leave the row (|y| = ½
+    // pixel): the densest pixel of the row lies in that stretch. In a 2-D
+    // raster the branches, not the cusp point, carry the peak; at 1 mm
+    // pixels and R = 1000 the stretch is 4.7 pixels long.
+    let z = 301.0 + argmax(100) as f64;
+    let (lo, hi) = (R / 2.0, nephroid_z(0.5));
+    assert!(z >= lo - 1.0 && z <= hi + 1.0, "axis-row peak at z = {z}, nephroid from {lo} to {hi:.2}");
+    // Nothing dense before the cusp: at 10 pixels short of it the axis
+    // row is less than half the peak.
+    assert!(img[100 * w + 189] < 0.5 * img[100 * w + argmax(100)]);
+    // Off the axis each row's densest pixel lies where the upper branch
+    // crosses that row, to within a pixel.
+    for y in [2usize, 5, 10, 20, 40, 80] {
+        let z = 301.0 + argmax(100 - y) as f64;
+        let (a, b) = (nephroid_z(y as f64 - 0.5), nephroid_z(y as f64 + 0.5));
+        assert!(z >= a - 1.0 && z <= b + 1.0, "row y = {y}: peak at z = {z}, nephroid from {a:.2} to {b:.2}");
+    }
+    // And the ridge stands well above the plain parallel light on the same
+    // row far from it.
+    let background = img[100 * w + 20];
+    assert!(img[100 * w + argmax(100)] > 3.0 * background);
+}
+
+#[test]
+fn envelope_of_neighbouring_rays_lies_on_the_nephroid() {
+    // Trace pairs of single rays at heights h ± δ through the general
+    // tracer, intersect their reflected lines: the envelope point.
+    for h in [100.0, 300.0, 500.0] {
+        let d = 1e-3 * h;
+        let text = layout(
+            &[mirror("m", R, R, 0.0, 1600.0, None), screen("s", 0.0, 200.0, 3000.0, "square", false)],
+            &[beam("a", h - d, 300.0, 1e-6, 1, "hex", 0.0), beam("b", h + d, 300.0, 1e-6, 1, "hex", 0.0)],
+        );
+        let (_, res) = run(&text);
+        let s = &res.screens[0];
+        assert_eq!(s.len(), 2);
+        // Lines (v + t·dv, w + t·dw) in the screen frame (w = z − 200).
+        let (p0, d0) = ([s.v[0], 0.0], [s.dv[0], s.dw[0]]);
+        let (p1, d1) = ([s.v[1], 0.0], [s.dv[1], s.dw[1]]);
+        let den = d0[0] * d1[1] - d0[1] * d1[0];
+        let t = ((p1[0] - p0[0]) * d1[1] - (p1[1] - p0[1]) * d1[0]) / den;
+        let (y, z) = (p0[0] + t * d0[0], 200.0 + p0[1] + t * d0[1]);
+        let th = (h / R).asin();
+        let (ez, ey) = (R / 4.0 * (3.0 * th.cos() - (3.0 * th).cos()), R * th.sin().powi(3));
+        assert!((z - ez).abs() < 1e-5 * R && (y - ey).abs() < 1e-5 * R, "h {h}: ({z}, {y}) vs ({ez}, {ey})");
+        if h == 100.0 {
+            assert!(rel(z, 507.44) < 1e-5 && rel(y, 1.000) < 1e-3);
+        }
+    }
+}
+
+#[test]
+fn raster_conserves_path_length() {
+    // Known answer by construction (common practice): a segment wholly
+    // inside the view deposits its length; the density is length / pixel
+    // area, so the sum times the pixel area is the length, at any slope.
+    let fan = Fan { segments: vec![1.3, 2.1, 7.7, 9.4, 5.0, 0.5, 5.0, 9.5, 3.0, 3.0, 3.0, 3.0], source: vec![0; 3], ray: vec![0; 3], escaping: vec![0; 3] };
+    let img = caustic_raster(&fan, [0.0, 0.0, 10.0, 10.0], 20, 40);
+    let area = 0.5 * 0.25;
+    let sum: f64 = img.iter().map(|&v| v as f64).sum::<f64>() * area;
+    let expect = (6.4f64).hypot(7.3) + 9.0;
+    assert!(rel(sum, expect) < 1e-6, "{sum} vs {expect}");
+    // Bad views give nothing instead of a panic.
+    assert!(caustic_raster(&fan, [0.0, 0.0, 0.0, 10.0], 20, 40).is_empty());
+    assert!(caustic_raster(&fan, [0.0, 0.0, 10.0, f64::NAN], 20, 40).is_empty());
+    // Clipping: half of a segment outside the view is dropped.
+    let half = Fan { segments: vec![5.0, -10.0, 5.0, 10.0], source: vec![0], ray: vec![0], escaping: vec![0] };
+    let img = caustic_raster(&half, [0.0, 0.0, 10.0, 10.0], 10, 10);
+    let s: f64 = img.iter().map(|&v| v as f64).sum();
+    assert!(rel(s, 10.0) < 1e-6);
+    let _ = trace_fan; // the page's fan and `caustic` share the tracer
+}

@@ -1,0 +1,96 @@
+//! Encircled energy and the longitudinal aberration curve.
+
+mod analysis_support;
+use analysis_support::*;
+use catoptric::analysis::{encircled_energy, longitudinal_aberration, trace_report};
+use catoptric::layout::Pattern;
+use catoptric::trace::{disk_points, ScreenHits};
+
+#[test]
+fn uniform_disk_encloses_r_squared() {
+    // Geometry of a uniform disk (common practice): EE(r) = (r/a)², so
+    // EE50 at a/√2 and EE80 at a√0.8.
+    let a = 0.05;
+    let pts = disk_points(Pattern::Random, 200_000, 7);
+    let mut h = ScreenHits::default();
+    for p in &pts {
+        h.u.push(1.0 + a * p[0]);
+        h.v.push(-2.0 + a * p[1]);
+        h.du.push(0.0);
+        h.dv.push(0.0);
+        h.dw.push(-1.0);
+        h.opl.push(0.0);
+        h.weight.push(1e-3);
+        h.source.push(0);
+    }
+    let ee = encircled_energy(&h, Some(0)).unwrap();
+    assert!(rel(ee.radius_for(0.5).unwrap(), a / 2f64.sqrt()) < 2e-3);
+    assert!(rel(ee.radius_for(0.8).unwrap(), a * 0.8f64.sqrt()) < 2e-3);
+    assert!(rel(ee.fraction_at(0.5 * a), 0.25) < 5e-3);
+    assert_eq!(ee.radius_for(1.0).unwrap(), *ee.radius_mm.last().unwrap());
+    let (r, f) = ee.curve(11);
+    assert!(r.len() == 11 && f[0] == 0.0 && f[10] == 1.0);
+    assert!(f.windows(2).all(|w| w[1] >= w[0]));
+}
+
+#[test]
+fn defocused_paraboloid_gives_a_uniform_blur_disk() {
+    // Geometric defocus (common practice): a screen δ inside the focus of
+    // an f/N paraboloid sees a nearly uniform disk of radius ≈ δ·tan θ;
+    // the ray from height h arrives at an angle with tan θ = h / (f − h²/4f)
+    // (focus–directrix property), so the blur radius is δ·h/(f − h²/4f).
+    // EE50 ≈ a/√2 of the rim radius a, to within the small non-uniformity
+    // of tan θ over the pupil (1 %).
+    let delta = 5.0;
+    let text = layout(
+        &[mirror("m", 1000.0, 2000.0, -1.0, 200.0, None), screen("s", 0.0, delta, 20.0, "square", false)],
+        &[beam("star", 0.0, 500.0, 200.0, 40000, "hex", 0.0)],
+    );
+    let (scene, res) = run(&text);
+    let b = &trace_report(&scene, &res).screens[0].by_source[0];
+    let a_um = delta * 100.0 / (1000.0 - 100.0 * 100.0 / 4000.0) * 1e3;
+    assert!(rel(b.ee50_radius_um.unwrap(), a_um / 2f64.sqrt()) < 0.01, "{:?} vs {}", b.ee50_radius_um, a_um / 2f64.sqrt());
+    assert!(rel(b.ee80_radius_um.unwrap(), a_um * 0.8f64.sqrt()) < 0.01);
+}
+
+#[test]
+fn sphere_longitudinal_aberration_matches_the_exact_axis_crossing() {
+    // Exact trace of the sphere (REFERENCES row 2; elementary geometry): a
+    // ray parallel to the axis at height h = R sin θ crosses the axis
+    // R − R/(2 cos θ) from the vertex. With the screen at the paraxial
+    // focus R/2 and looking toward the mirror, the crossing lies
+    // R/(2 cos θ) − R/2 along the screen axis (2.5189 mm at h = 100,
+    // R = 1000).
+    let r = 1000.0;
+    let text = layout(
+        &[mirror("m", 1000.0, r, 0.0, 400.0, None), screen("s", 0.0, 500.0, 300.0, "square", false)],
+        &[beam("star", 0.0, 600.0, 400.0, 100, "hex", 0.0)],
+    );
+    let scene = scene(&text);
+    let la = longitudinal_aberration(&scene, 0, 0, 41).unwrap();
+    assert_eq!(la.height_unit, "mm");
+    assert_eq!(la.pupil.len(), 40, "the central ray has no crossing");
+    for (h, x) in la.height.iter().zip(&la.crossing_mm) {
+        let c = (1.0 - (h / r).powi(2)).sqrt();
+        let expect = r / (2.0 * c) - r / 2.0;
+        assert!((x - expect).abs() < 1e-9 * r, "h {h}: {x} vs {expect}");
+    }
+    let k = la.height.iter().position(|h| (h - 100.0).abs() < 1e-9).unwrap();
+    assert!(rel(la.crossing_mm[k], 2.5189) < 1e-4);
+}
+
+#[test]
+fn lamp_at_the_centre_of_curvature_has_no_longitudinal_aberration() {
+    // A sphere images its centre of curvature onto itself (elementary
+    // geometry): every meridional ray from a lamp there returns through it.
+    let text = layout(
+        &[mirror("m", 1000.0, 1000.0, 0.0, 600.0, None), screen("s", 0.0, -1.0, 50.0, "square", false)],
+        &[r#"{ "kind": "point", "id": "lamp", "center": [0, 0], "direction_deg": 0, "cone_half_angle_deg": 15,
+               "rays": 100, "pattern": "hex", "power_w": 1 }"#
+            .to_string()],
+    );
+    let la = longitudinal_aberration(&scene(&text), 0, 0, 21).unwrap();
+    assert_eq!(la.height_unit, "deg");
+    assert_eq!(la.crossing_mm.len(), 20);
+    assert!(la.crossing_mm.iter().all(|x| (x - 1.0).abs() < 1e-9), "{:?}", la.crossing_mm);
+}

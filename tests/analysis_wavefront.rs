@@ -1,0 +1,117 @@
+//! Working f-number, Airy radius, wavefront error and the Strehl estimate.
+
+mod analysis_support;
+use analysis_support::*;
+use catoptric::analysis::{airy_radius, f_number, focus_fit, strehl_from_rms, trace_report, wavefront, wavefront_map};
+
+#[test]
+fn airy_radius_for_550_nm_at_f8() {
+    // REFERENCES row 6 (Born & Wolf, Principles of Optics, 7th ed.; value
+    // from memory): first zero 1.2197 λN → 5.367 µm at λ = 550 nm, N = 8.
+    // We use the trade's 1.22, 0.03 % larger.
+    let r_um = airy_radius(550e-6, 8.0) * 1e3;
+    assert!(rel(r_um, 5.367) < 5e-4, "{r_um}");
+}
+
+#[test]
+fn strehl_of_point_eight_needs_rms_of_about_lambda_over_13_3() {
+    // Mahajan, JOSA 72, 1258 (1982), extended Maréchal exp(−(2πσ)²):
+    // S = 0.8 ⇔ σ ≈ λ/13.3 (REFERENCES row 6).
+    let s = strehl_from_rms(1.0 / 13.3);
+    assert!(rel(s, 0.8) < 1e-3, "{s}");
+    // Maréchal's criterion λ/14 then reads 0.82 in this form.
+    assert!(rel(strehl_from_rms(1.0 / 14.0), 0.8176) < 1e-3);
+}
+
+fn paraboloid_f5() -> String {
+    layout(
+        &[mirror("m", 1000.0, 2000.0, -1.0, 200.0, None), screen("s", 0.0, 0.0, 20.0, "square", false)],
+        &[beam("star", 0.0, 500.0, 200.0, 20000, "random", 0.0)],
+    )
+}
+
+#[test]
+fn working_f_number_of_an_f5_paraboloid() {
+    // Image-space NA = sin θ (common practice). A paraboloid of focal
+    // length f sends the ray at height h to its focus from a distance
+    // f + h²/(4f) (focus–directrix property, REFERENCES row 12), so the
+    // marginal ray of a 200 mm f/5 arrives at sin θ = 100 / 1002.5 and
+    // N = 1/(2 sin θ) = 5.0125. The sampled rim falls a little short of
+    // 100 mm, so allow 0.3 %.
+    let (_, res) = run(&paraboloid_f5());
+    let n = f_number(&res.screens[0], Some(0)).unwrap();
+    assert!(rel(n, 1002.5 / 200.0) < 3e-3, "{n}");
+}
+
+#[test]
+fn paraboloid_on_axis_is_perfect() {
+    // Parabola focal property (REFERENCES row 12): a plane wave becomes a
+    // perfect spherical wave, so P-V ≈ 0 and Strehl ≈ 1.
+    let (scene, res) = run(&paraboloid_f5());
+    let r = trace_report(&scene, &res);
+    let b = &r.screens[0].by_source[0];
+    assert!(b.wavefront_pv_waves.unwrap() < 1e-6, "{:?}", b.wavefront_pv_waves);
+    assert!(b.wavefront_rms_waves.unwrap() < 1e-6);
+    assert!(rel(b.strehl_estimate.unwrap(), 1.0) < 1e-9);
+    assert_eq!(b.diffraction_limited, Some(true));
+}
+
+#[test]
+fn slow_sphere_wavefront_matches_third_order_spherical_aberration() {
+    // Third-order theory (REFERENCES row 5; value re-derived): a sphere's
+    // wavefront departs from the paraboloid's by twice the surface
+    // difference ρ⁴/(8R³), W040 = D⁴/(512 f³) = D/(512 N³) at the
+    // paraxial focus; with defocus removed by least squares the residual
+    // W040(ρ⁴ − ρ² + 1/6) has P-V W040/4 and RMS W040/(6√5).
+    // f/8, D = 150: W040 = 5.722e-4 mm = 1.0404 waves at 550 nm.
+    let (d, n, lambda) = (150.0f64, 8.0f64, 550e-6f64);
+    let w040 = d / (512.0 * n.powi(3)) / lambda;
+    let text = layout(
+        &[mirror("m", 2000.0, 2400.0, 0.0, d, None), screen("s", 0.0, 800.0, 10.0, "square", false)],
+        &[beam("star", 0.0, 1000.0, d, 40000, "hex", 0.0)],
+    );
+    let (scene, res) = run(&text);
+    let r = trace_report(&scene, &res);
+    let b = &r.screens[0].by_source[0];
+    let (pv, rms) = (b.wavefront_pv_waves.unwrap(), b.wavefront_rms_waves.unwrap());
+    assert!(rel(pv, w040 / 4.0) < 0.03, "P-V {pv} vs {}", w040 / 4.0);
+    assert!(rel(rms, w040 / (6.0 * 5f64.sqrt())) < 0.03, "RMS {rms} vs {}", w040 / (6.0 * 5f64.sqrt()));
+    // The Strehl key is exp(−(2πσ)²) of the reported RMS (Mahajan 1982).
+    assert!(rel(b.strehl_estimate.unwrap(), strehl_from_rms(rms)) < 1e-12);
+    // RMS 0.0775 waves is just over λ/14: not diffraction limited (Maréchal).
+    assert_eq!(b.diffraction_limited, Some(false));
+    // The result does not depend on the starting reference point (tilt and
+    // defocus are fitted): start 0.5 mm off.
+    let h = &res.screens[0];
+    let p = focus_fit(h, Some(0)).unwrap().best_point().unwrap();
+    let a = wavefront(h, Some(0), p, lambda).unwrap();
+    let c = wavefront(h, Some(0), [p[0] + 0.5, p[1] - 0.3, p[2] + 0.5], lambda).unwrap();
+    assert!(rel(c.rms_waves, a.rms_waves) < 1e-4, "{} vs {}", c.rms_waves, a.rms_waves);
+    // The best diffraction focus sits half-way to the marginal focus for
+    // third-order spherical aberration (W020 = −W040; common practice):
+    // h²/(8R) past the paraxial focus.
+    assert!(rel(a.best_point[2], 75.0 * 75.0 / (8.0 * 2400.0)) < 0.03, "{:?}", a.best_point);
+    let map = wavefront_map(h, Some(0), p, lambda).unwrap();
+    let (lo, hi) = map.opd_waves.iter().fold((f64::MAX, f64::MIN), |(l, u), &x| (l.min(x), u.max(x)));
+    assert!(rel(hi - lo, pv) < 1e-9);
+}
+
+#[test]
+fn solar_disk_and_few_hits_give_null_keys() {
+    // By definition (DESIGN.md §5): an extended source has no single
+    // wavefront; fewer than 3 hits carry no spread.
+    let text = layout(
+        &[mirror("m", 1000.0, 2000.0, -1.0, 200.0, None), screen("s", 0.0, 0.0, 40.0, "square", false)],
+        &[beam("sun", 0.0, 500.0, 200.0, 3000, "hex", 4.65), beam("one", 0.0, 500.0, 1.0, 1, "hex", 0.0)],
+    );
+    let (scene, res) = run(&text);
+    let r = trace_report(&scene, &res);
+    let sun = &r.screens[0].by_source[0];
+    assert!(sun.wavefront_rms_waves.is_none() && sun.strehl_estimate.is_none() && sun.diffraction_limited.is_none());
+    assert!(sun.f_number.is_some() && sun.ee80_radius_um.is_some());
+    let one = &r.screens[0].by_source[1];
+    assert_eq!(one.hits, 1);
+    assert!(one.best_focus_shift_mm.is_none() && one.f_number.is_none() && one.ee50_radius_um.is_none());
+    let json = serde_json::to_value(&r).unwrap();
+    assert!(json["screens"][0]["by_source"][1]["strehl_estimate"].is_null());
+}
