@@ -36,7 +36,9 @@ function statCell(tag, key, value, screen, source) {
   c.dataset.value = JSON.stringify(value);
   c.textContent = fmtStat(key, value);
   const shown = Array.isArray(value) ? value.map((x) => fmtNum(x, 8)).join(', ') : typeof value === 'number' ? fmtNum(value, 8) : String(value);
-  c.title = `${info.title}: ${shown}${info.unit ? ` ${info.unit}` : ''}`;
+  c.title = value === null
+    ? `${info.title}: not defined for this light (for example the wavefront of an extended source)`
+    : `${info.title}: ${shown}${info.unit && typeof value !== 'boolean' ? ` ${info.unit}` : ''}`;
   return c;
 }
 
@@ -65,36 +67,47 @@ export function renderStats(container, app) {
     return;
   }
   const srcIndex = new Map(app.layout.sources.map((s, i) => [s.id, i]));
+  // One table per screen: a row per figure, a column per source (the
+  // analyses add many figures, sources are few), then the whole-screen
+  // figures spanning the source columns.
   rep.screens.forEach((sc, si) => {
     const t = document.createElement('table');
     t.className = 'stats';
     t.dataset.screen = sc.id;
     if (si === app.spotScreen) t.classList.add('selected-screen');
     const cap = document.createElement('caption');
-    cap.append(`Screen ${sc.id} `);
-    const figs = document.createElement('span');
-    figs.className = 'cap-figs';
-    const flat = flatten(Object.fromEntries(Object.entries(sc).filter(([k]) => k !== 'id' && k !== 'by_source')));
-    for (const [key, v] of Object.entries(flat)) {
-      const info = statInfo(key);
-      figs.append(` · ${info.label} `, statCell('span', key, v, sc.id, ''), info.unit ? ` ${info.unit}` : '');
-    }
-    cap.append(figs);
+    cap.textContent = `Screen ${sc.id}`;
     t.append(cap);
     const rows = sc.by_source ?? [];
+    const flatRows = rows.map((r) => flatten(r));
     const keys = [];
-    for (const r of rows) for (const k of Object.keys(flatten(r))) if (k !== 'source' && !keys.includes(k)) keys.push(k);
+    for (const fr of flatRows) for (const k of Object.keys(fr)) if (k !== 'source' && !keys.includes(k)) keys.push(k);
     keys.sort((a, b) => {
       const ia = STAT_ORDER.indexOf(a), ib = STAT_ORDER.indexOf(b);
       return (ia < 0 ? 99 : ia) - (ib < 0 ? 99 : ib);
     });
+    const ncol = Math.max(1, rows.length);
     const thead = document.createElement('thead');
     const hr = document.createElement('tr');
     const h0 = document.createElement('th');
-    h0.textContent = 'source';
+    h0.textContent = 'figure';
     hr.append(h0);
-    for (const k of keys) {
-      const info = statInfo(k);
+    for (const r of rows) {
+      const th = document.createElement('th');
+      th.dataset.source = r.source;
+      th.title = `Light from source ${r.source}`;
+      th.append(swatch(srcIndex.get(r.source) ?? 0, app.theme.dark), r.source);
+      hr.append(th);
+    }
+    if (!rows.length) {
+      const th = document.createElement('th');
+      th.textContent = 'no light reaches this screen';
+      hr.append(th);
+    }
+    thead.append(hr);
+    const tbody = document.createElement('tbody');
+    const label = (key) => {
+      const info = statInfo(key);
       const th = document.createElement('th');
       th.title = info.title;
       th.append(info.label);
@@ -104,28 +117,28 @@ export function renderStats(container, app) {
         u.textContent = ` ${info.unit}`;
         th.append(u);
       }
-      hr.append(th);
-    }
-    thead.append(hr);
-    const tbody = document.createElement('tbody');
-    if (!rows.length) {
+      return th;
+    };
+    for (const k of keys) {
       const tr = document.createElement('tr');
-      const td = document.createElement('td');
-      td.colSpan = keys.length + 1;
-      td.className = 'muted';
-      td.textContent = 'no light reaches this screen';
-      tr.append(td);
+      tr.append(label(k));
+      rows.forEach((r, ri) => tr.append(k in flatRows[ri] ? statCell('td', k, flatRows[ri][k], sc.id, r.source) : document.createElement('td')));
       tbody.append(tr);
     }
-    for (const r of rows) {
+    const whole = flatten(Object.fromEntries(Object.entries(sc).filter(([k]) => k !== 'id' && k !== 'by_source')));
+    const sub = document.createElement('tr');
+    sub.className = 'subhead';
+    const sh = document.createElement('th');
+    sh.colSpan = ncol + 1;
+    sh.textContent = 'whole screen';
+    sub.append(sh);
+    tbody.append(sub);
+    for (const [k, v] of Object.entries(whole)) {
       const tr = document.createElement('tr');
-      tr.dataset.source = r.source;
-      const th = document.createElement('th');
-      const i = srcIndex.get(r.source) ?? 0;
-      th.append(swatch(i, app.theme.dark), r.source);
-      tr.append(th);
-      const fr = flatten(r);
-      for (const k of keys) tr.append(k in fr ? statCell('td', k, fr[k], sc.id, r.source) : document.createElement('td'));
+      tr.append(label(k));
+      const td = statCell('td', k, v, sc.id, '');
+      td.colSpan = ncol;
+      tr.append(td);
       tbody.append(tr);
     }
     t.append(thead, tbody);
@@ -218,7 +231,9 @@ class SpotView {
     // Below a micrometre the scatter is rounding noise of a perfect focus.
     extent = Math.max(extent, 1);
     const top = 40, bottom = 26; // room for the labels and the scale bar
-    const k = (Math.min(W, H - top - bottom) / 2 - 8) / extent; // px per µm
+    const avail = Math.min(W, H - top - bottom) / 2 - 8;
+    if (avail < 10) return; // the drawer is still opening
+    const k = avail / extent; // px per µm
     const ox = W / 2, oy = top + (H - top - bottom) / 2;
 
     // frame: crosshair and circles of the extent

@@ -68,6 +68,7 @@ const INFO = {
   strehl_estimate: ['Strehl', '', 'Peak intensity relative to a perfect focus (Maréchal estimate from the RMS wavefront)'],
   ee50_radius_um: ['EE50 radius', 'µm', 'Radius about the centroid holding 50 % of the power'],
   ee80_radius_um: ['EE80 radius', 'µm', 'Radius about the centroid holding 80 % of the power'],
+  diffraction_limited: ['diffraction-limited', '', 'Whether the wavefront error is within the Maréchal criterion (Strehl ≥ 0.8)'],
   'flux.peak_w_m2': ['peak flux', 'W/m²', 'Highest irradiance on the screen'],
   'flux.mean_w_m2': ['mean flux', 'W/m²', 'Power on the screen divided by its area'],
   'flux.peak_suns': ['peak', 'suns', 'Peak irradiance over the incident irradiance (concentration ratio)'],
@@ -101,6 +102,7 @@ export const STAT_ORDER = [
 export function fmtStat(key, v) {
   // Positions below a picometre are rounding noise of a centred spot.
   if (Array.isArray(v)) return v.map((x) => fmtNum(key.endsWith('_mm') && Math.abs(x) < 1e-9 ? 0 : x, 5)).join(', ');
+  if (typeof v === 'boolean') return v ? 'yes' : 'no';
   if (typeof v !== 'number') return v === null || v === undefined ? '–' : String(v);
   if (key === 'hits' || key.startsWith('rays_')) return fmtInt(v);
   return fmtNum(v, 4);
