@@ -144,11 +144,15 @@ fn header(name: &str, value: &str) -> tiny_http::Header {
     tiny_http::Header::from_bytes(name.as_bytes(), value.as_bytes()).expect("static header text is ASCII")
 }
 
-fn common_headers() -> [tiny_http::Header; 3] {
+fn common_headers() -> [tiny_http::Header; 4] {
     [
         header("Content-Security-Policy", CSP),
         header("X-Content-Type-Options", "nosniff"),
         header("Cache-Control", "no-cache"),
+        // One request per connection: with kept-alive connections Chromium
+        // sometimes waited for ever on a module script from tiny_http. On
+        // loopback a fresh connection per file costs nothing noticeable.
+        header("Connection", "close"),
     ]
 }
 
