@@ -5,7 +5,33 @@ use crate::layout::Pattern;
 
 /// Radical inverse of `i` in `base` (the Halton sequence's coordinate).
 #[inline]
-pub fn halton(mut i: u64, base: u64) -> f64 {
+pub fn halton(i: u64, base: u64) -> f64 {
+    match base {
+        2 => halton_const::<2>(i),
+        3 => halton_const::<3>(i),
+        5 => halton_const::<5>(i),
+        7 => halton_const::<7>(i),
+        _ => halton_any(i, base),
+    }
+}
+
+/// The radical inverse with a constant base: the compiler turns the
+/// divisions into multiplications (the sampler's hot spot).
+#[inline]
+fn halton_const<const B: u64>(mut i: u64) -> f64 {
+    let inv = 1.0 / B as f64;
+    let mut f = inv;
+    let mut r = 0.0;
+    while i > 0 {
+        r += f * (i % B) as f64;
+        i /= B;
+        f *= inv;
+    }
+    r
+}
+
+fn halton_any(mut i: u64, base: u64) -> f64 {
+    let base = base.max(2);
     let inv = 1.0 / base as f64;
     let mut f = inv;
     let mut r = 0.0;
@@ -72,7 +98,13 @@ pub fn disk_points(pattern: Pattern, n: usize, seed: u64) -> Vec<[f64; 2]> {
     match pattern {
         Pattern::Random => {
             let rot = rotation(seed, 1);
-            (0..n as u64).map(|i| halton_disk(i, (2, 3), rot)).collect()
+            (0..n as u64)
+                .map(|i| {
+                    let u = (halton_const::<2>(i + 1) + rot.0).fract();
+                    let v = (halton_const::<3>(i + 1) + rot.1).fract();
+                    square_to_disk(u, v)
+                })
+                .collect()
         }
         Pattern::Hex | Pattern::Grid => {
             if n == 1 {
