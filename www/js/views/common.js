@@ -236,6 +236,7 @@ export function rowTable(columns, rows, { caption, id } = {}) {
     for (const col of columns) {
       if (col.cell) {
         const td = document.createElement('td');
+        td.dataset.row = String(i);
         col.cell(td, r, i);
         tr.append(td);
       } else tr.append(valueCell('td', col.key, i, pick(r, col.key), col.sig ?? 5));
