@@ -7,7 +7,7 @@
 
 use catoptric::analysis::spot_stats;
 use catoptric::design::{
-    measured_layout, moving_source_reading, parse_departure_csv, profile_from_readings, zone_edges, zones_needing_work,
+    departures_needing_work, measured_layout, moving_source_reading, parse_departure_csv, profile_from_readings, zone_edges, zones_needing_work,
     ZoneVerdict,
 };
 use catoptric::geometry::Profile;
@@ -160,4 +160,31 @@ fn bad_readings_name_the_field() {
     assert_eq!(e(&[[130.0, 0.1]]), "readings[0].r_mm");
     assert_eq!(profile_from_readings(-R, -1.0, D, &[[30.0, 0.1]]).unwrap_err().field, "radius");
     assert_eq!(zones_needing_work(R, -1.0, D, &[[30.0, 0.1]], -1.0).unwrap_err().field, "tolerance_nm");
+}
+
+/// A departure table that is only piston plus a change of radius (a ρ²
+/// term) has no figure error; a bump added to it stands high where it is
+/// and the rest reads low by the piston the fit spreads. Built from a known
+/// answer; removing piston and focus before judging figure is common
+/// practice in mirror testing.
+#[test]
+fn departure_table_piston_and_focus_are_not_figure_errors() {
+    let rows: Vec<[f64; 2]> = (0..=20).map(|i| 5.0 * i as f64).map(|r| [r, 3e-4 + 2e-8 * r * r]).collect();
+    let work = departures_needing_work(&rows, 10.0).unwrap();
+    assert_eq!(work.len(), rows.len());
+    for w in &work {
+        assert!(w.surface_error_nm.abs() < 1e-6, "residual {} nm at {} mm", w.surface_error_nm, w.r_mm);
+        assert_eq!(w.verdict, ZoneVerdict::Ok);
+    }
+    assert!((work[4].departure_um - (3e-4 + 2e-8 * 400.0) * 1e3).abs() < 1e-12);
+
+    // A 100 nm bump at ρ = 60 mm: that row is high, and stays the highest.
+    let bumped: Vec<[f64; 2]> =
+        rows.iter().map(|&[r, z]| [r, z + if (r - 60.0).abs() < 1e-9 { 100e-6 } else { 0.0 }]).collect();
+    let work = departures_needing_work(&bumped, 30.0).unwrap();
+    let top = work.iter().max_by(|a, b| a.surface_error_nm.total_cmp(&b.surface_error_nm)).unwrap();
+    assert_eq!(top.r_mm, 60.0);
+    assert_eq!(top.verdict, ZoneVerdict::High);
+    assert!(work.iter().filter(|w| w.verdict == ZoneVerdict::High).count() == 1);
+    assert!(departures_needing_work(&rows, -1.0).unwrap_err().field == "tolerance_nm");
 }

@@ -328,3 +328,63 @@ pub fn zones_needing_work(
         })
         .collect())
 }
+
+/// Figure of one row of a measured departure table against the target.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct DepartureWork {
+    pub r_mm: f64,
+    /// Measured departure from the design conic, µm.
+    pub departure_um: f64,
+    /// Departure after removing piston and a change of radius, nm
+    /// (positive: proud of the target).
+    pub surface_error_nm: f64,
+    pub verdict: ZoneVerdict,
+}
+
+/// Judges a departure table (knots (ρ, Δz) in mm, as from
+/// [`parse_departure_csv`]) the way [`zones_needing_work`] judges readings:
+/// piston and a ρ² term are removed by least squares with area weights
+/// (each row stands for the annulus halfway to its neighbours), and a row
+/// more than `tolerance_nm` proud of the target is `high`, below it `low`.
+pub fn departures_needing_work(knots: &[[f64; 2]], tolerance_nm: f64) -> Result<Vec<DepartureWork>, InputError> {
+    let tol = finite("tolerance_nm", tolerance_nm)?;
+    if tol < 0.0 {
+        return Err(bad("tolerance_nm", "must be at least 0"));
+    }
+    if knots.len() < 2 || knots.len() > MAX_ROWS {
+        return Err(bad("csv", format!("needs between 2 and {MAX_ROWS} rows of radius, departure")));
+    }
+    let n = knots.len();
+    let (mut sw, mut sx, mut sxx, mut sy, mut sxy) = (0.0, 0.0, 0.0, 0.0, 0.0);
+    for i in 0..n {
+        let [r, y] = knots[i];
+        let lo = if i == 0 { r } else { 0.5 * (r + knots[i - 1][0]) };
+        let hi = if i + 1 == n { r } else { 0.5 * (r + knots[i + 1][0]) };
+        // Annulus area between the midpoints (over π); the innermost row
+        // keeps a sliver so a lone centre sample still counts.
+        let w = (hi * hi - lo * lo).max(1e-12 * r.max(1.0));
+        let x = r * r;
+        sw += w;
+        sx += w * x;
+        sxx += w * x * x;
+        sy += w * y;
+        sxy += w * x * y;
+    }
+    let det = sw * sxx - sx * sx;
+    let q = if det.abs() > 1e-30 * sxx.max(1.0) { (sw * sxy - sx * sy) / det } else { 0.0 };
+    let p = (sy - q * sx) / sw;
+    Ok(knots
+        .iter()
+        .map(|&[r, y]| {
+            let e = (y - p - q * r * r) * 1e6;
+            let verdict = if e > tol {
+                ZoneVerdict::High
+            } else if e < -tol {
+                ZoneVerdict::Low
+            } else {
+                ZoneVerdict::Ok
+            };
+            DepartureWork { r_mm: r, departure_um: y * 1e3, surface_error_nm: e, verdict }
+        })
+        .collect())
+}

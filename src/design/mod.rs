@@ -26,7 +26,7 @@ pub use compare::{
     BestFitSphere, Comparison, ConicRow, Wavefront,
 };
 pub use measured::{
-    measured_layout, measured_mirror, parse_departure_csv, profile_from_readings, zones_needing_work, ZoneVerdict,
+    departures_needing_work, measured_layout, measured_mirror, parse_departure_csv, profile_from_readings, zones_needing_work, DepartureWork, ZoneVerdict,
     ZoneWork,
 };
 pub use off_axis::{design_off_axis, Feed, OffAxisDesign, OffAxisSpec};

@@ -5,6 +5,7 @@
 //! inside the browser or Node.
 
 mod bench;
+mod design;
 mod session;
 
 use wasm_bindgen::prelude::*;

@@ -7,14 +7,17 @@
 import { swatch, sourceColour, sourceMarker, markerPath, markerIsLine } from './palette.js';
 import { fmtInt, fmtNum, fmtStat, statInfo, STAT_ORDER, withUnit } from './format.js';
 import { niceStep } from './editor.js';
+import { ConicsView } from './views/conics.js';
+import { TestingView } from './views/testing.js';
+import { DesignersView } from './views/designers.js';
+
+/** Tab order; views and planned tabs are sorted into it. */
+const TAB_ORDER = ['spot', 'focus', 'energy', 'flux', 'conics', 'testing', 'designers'];
 
 const PLANNED = [
   ['focus', 'Focus', 'Through-focus spot size and longitudinal aberration (not available yet)'],
   ['energy', 'Energy', 'Encircled-energy curve (not available yet)'],
   ['flux', 'Flux', 'Flux map with colour bar and concentration (not available yet)'],
-  ['conics', 'Conics', 'Compare conic constants for one mirror (not available yet)'],
-  ['testing', 'Testing', 'Knife-edge zone readings and measured profiles (not available yet)'],
-  ['designers', 'Designers', 'Two-mirror and off-axis designers (not available yet)'],
 ];
 
 /** Flattens nested report objects into dotted keys: flux.peak_w_m2. */
@@ -321,7 +324,7 @@ export class Drawer {
     this.tabs = tabs;
     this.body = body;
     this.app = app;
-    this.views = [new SpotView()];
+    this.views = [new SpotView(), new ConicsView(), new TestingView(), new DesignersView()];
     this.panels = new Map();
     this.current = 'spot';
     for (const v of this.views) {
@@ -335,6 +338,10 @@ export class Drawer {
       this.panels.set(v.id, panel);
     }
     for (const [id, label, title] of PLANNED) this.tabButton(id, label, title, true);
+    for (const id of TAB_ORDER) {
+      const b = this.tabs.querySelector(`[data-view="${id}"]`);
+      if (b) this.tabs.append(b);
+    }
     this.show('spot');
   }
 
