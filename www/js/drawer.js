@@ -7,6 +7,9 @@
 import { swatch, sourceColour, sourceMarker, markerPath, markerIsLine } from './palette.js';
 import { fmtInt, fmtNum, fmtStat, statInfo, STAT_ORDER, withUnit } from './format.js';
 import { niceStep } from './editor.js';
+import { FocusView } from './views/focus.js';
+import { EnergyView } from './views/energy.js';
+import { FluxView } from './views/flux.js';
 
 const PLANNED = [
   ['focus', 'Focus', 'Through-focus spot size and longitudinal aberration (not available yet)'],
@@ -321,7 +324,7 @@ export class Drawer {
     this.tabs = tabs;
     this.body = body;
     this.app = app;
-    this.views = [new SpotView()];
+    this.views = [new SpotView(), new FocusView(), new EnergyView(), new FluxView()];
     this.panels = new Map();
     this.current = 'spot';
     for (const v of this.views) {
@@ -334,7 +337,7 @@ export class Drawer {
       this.body.append(panel);
       this.panels.set(v.id, panel);
     }
-    for (const [id, label, title] of PLANNED) this.tabButton(id, label, title, true);
+    for (const [id, label, title] of PLANNED) if (!this.panels.has(id)) this.tabButton(id, label, title, true);
     this.show('spot');
   }
 
