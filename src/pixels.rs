@@ -202,11 +202,17 @@ pub fn map_rgba(values: &[f64], lo: f64, hi: f64) -> Vec<u8> {
 /// otherwise wash out everything else).
 pub const CAUSTIC_TOP_QUANTILE: f64 = 0.997;
 
+/// Opacity of a pixel at the median density of the lit pixels (a region
+/// crossed by evenly spread rays): a faint tint, so that only bunching
+/// stands out.
+pub const CAUSTIC_FLOOR: f64 = 0.12;
+
 /// RGBA pixels of a caustic density raster in one `colour`, the density
-/// carried by opacity: α = ln(1 + d/m) / ln(1 + p/m), m the median of the
-/// lit pixels' densities and p their [`CAUSTIC_TOP_QUANTILE`] quantile,
-/// clamped to 0..1. The logarithm keeps single rays faintly visible while
-/// the envelopes where rays bunch stand out.
+/// carried by opacity. With m the median of the lit pixels' densities and
+/// p their [`CAUSTIC_TOP_QUANTILE`] quantile, a pixel of density d gets
+/// α = F·d/m below the median and α = F + (1 − F)·ln(d/m)/ln(p/m) above
+/// it (F = [`CAUSTIC_FLOOR`], clamped to 1): evenly spread rays make a
+/// faint wash and the envelopes where rays bunch stand out on a log scale.
 pub fn caustic_rgba(density: &[f32], colour: [u8; 3]) -> Vec<u8> {
     let mut lit: Vec<f32> = density.iter().copied().filter(|d| *d > 0.0 && d.is_finite()).collect();
     let mut out = vec![0u8; 4 * density.len()];
@@ -214,17 +220,18 @@ pub fn caustic_rgba(density: &[f32], colour: [u8; 3]) -> Vec<u8> {
         return out;
     }
     let n = lit.len();
-    let pick = |v: &mut Vec<f32>, q: f64| {
+    let mut pick = |q: f64| {
         let k = ((q * (n - 1) as f64).round() as usize).min(n - 1);
-        *v.select_nth_unstable_by(k, f32::total_cmp).1 as f64
+        *lit.select_nth_unstable_by(k, f32::total_cmp).1 as f64
     };
-    let m = pick(&mut lit, 0.5);
-    let p = pick(&mut lit, CAUSTIC_TOP_QUANTILE).max(m * (1.0 + 1e-6));
-    let scale = 1.0 / (p / m).ln_1p();
+    let m = pick(0.5);
+    let p = pick(CAUSTIC_TOP_QUANTILE).max(m * 1.01);
+    let span = (p / m).ln();
     for (px, &d) in out.chunks_exact_mut(4).zip(density) {
         if d > 0.0 && d.is_finite() {
-            let a = ((d as f64 / m).ln_1p() * scale).clamp(0.0, 1.0);
-            px.copy_from_slice(&[colour[0], colour[1], colour[2], (a * 255.0).round() as u8]);
+            let r = d as f64 / m;
+            let a = if r <= 1.0 { CAUSTIC_FLOOR * r } else { CAUSTIC_FLOOR + (1.0 - CAUSTIC_FLOOR) * (r.ln() / span) };
+            px.copy_from_slice(&[colour[0], colour[1], colour[2], (a.clamp(0.0, 1.0) * 255.0).round() as u8]);
         }
     }
     out
@@ -325,7 +332,8 @@ mod tests {
         let alpha: Vec<u8> = px.chunks_exact(4).skip(1).map(|p| p[3]).collect();
         assert!(alpha.windows(2).all(|w| w[1] >= w[0]), "opacity rises with density");
         assert_eq!(*alpha.last().unwrap(), 255);
-        assert!(alpha[0] > 0, "a single faint ray is visible");
+        let floor = (CAUSTIC_FLOOR * 255.0).round() as u8;
+        assert_eq!(alpha[0], floor, "evenly spread rays make a faint wash");
         assert_eq!(&px[4..7], &[10, 20, 30]);
         assert!(caustic_rgba(&[0.0; 4], [1, 2, 3]).iter().all(|&b| b == 0));
     }

@@ -17,7 +17,7 @@ use crate::analysis::{caustic_raster, longitudinal_aberration, Analyses, SourceC
 use crate::layout::Source;
 use crate::pixels::{caustic_rgba, map_rgba};
 use crate::trace::trace_fan;
-use js_sys::Uint8ClampedArray;
+use js_sys::Uint8Array;
 use wasm_bindgen::prelude::*;
 use wasm_bindgen::Clamped;
 
@@ -163,12 +163,14 @@ impl Session {
         Ok(width * height)
     }
 
-    /// RGBA pixels of the last caustic picture, for one `ImageData`. View:
-    /// valid until the next call into the session.
-    pub fn caustic_pixels_view(&self) -> Uint8ClampedArray {
+    /// RGBA bytes of the last caustic picture. View: valid until the next
+    /// call into the session. JS wraps it as a `Uint8ClampedArray` over the
+    /// same memory (`new Uint8ClampedArray(v.buffer, v.byteOffset,
+    /// v.length)`) for one `ImageData`, without a copy.
+    pub fn caustic_pixels_view(&self) -> Uint8Array {
         // SAFETY: the view is handed straight to JS, which puts it on a
         // canvas before calling into the session again.
-        unsafe { Uint8ClampedArray::view(&self.views.caustic) }
+        unsafe { Uint8Array::view(&self.views.caustic) }
     }
 }
 

@@ -37,8 +37,10 @@ export class CausticLayer {
       try {
         const s = this.app.session;
         s.caustic_pixels(y0, z0, y1, z1, pw, ph, CAUSTIC_RAYS, dark);
-        // The view is valid until the next call into the session: use it at once.
-        const img = new ImageData(s.caustic_pixels_view(), pw, ph);
+        // The view is valid until the next call into the session: put it on
+        // the offscreen canvas at once.
+        const v = s.caustic_pixels_view();
+        const img = new ImageData(new Uint8ClampedArray(v.buffer, v.byteOffset, v.length), pw, ph);
         this.off.width = pw;
         this.off.height = ph;
         this.off.getContext('2d').putImageData(img, 0, 0);

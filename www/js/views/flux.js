@@ -173,21 +173,23 @@ export class FluxView {
     ctx.drawImage(this.bar, bx, y0, bw, S);
     ctx.strokeStyle = th.line;
     ctx.strokeRect(bx + 0.5, y0 + 0.5, bw, S);
-    const bt = ticks(0, f.peak, S, 34);
+    // Large fluxes read better in kW/m² or MW/m².
+    const [uk, uname] = f.peak >= 1e6 ? [1e-6, 'MW/m²'] : f.peak >= 1e4 ? [1e-3, 'kW/m²'] : [1, 'W/m²'];
+    const bt = ticks(0, f.peak * uk, S, 34);
     ctx.fillStyle = th.ink2;
     ctx.strokeStyle = th.ink2;
     let widest = 0;
     for (const v of bt.values) {
-      const y = y0 + S - (v / f.peak) * S;
+      const y = y0 + S - (v / (f.peak * uk)) * S;
       ctx.beginPath(); ctx.moveTo(bx + bw, y); ctx.lineTo(bx + bw + 4, y); ctx.stroke();
       const label = tickLabel(v, bt.step);
       widest = Math.max(widest, ctx.measureText(label).width);
       ctx.fillText(label, bx + bw + 6, y + 4);
     }
     ctx.fillStyle = th.ink;
-    ctx.fillText('W/m²', bx - 4, y0 - 8);
+    ctx.fillText(uname, bx - 4, y0 - 8);
     if (f.suns !== null && f.suns > 0) {
-      const sx = bx + bw + 12 + widest;
+      const sx = Math.max(bx + bw + 12 + widest, bx + ctx.measureText(uname).width + 8);
       const st = ticks(0, f.suns, S, 34);
       ctx.fillStyle = th.ink2;
       for (const v of st.values) {

@@ -55,7 +55,9 @@ export class FocusView {
       try {
         p = app.session.longitudinal_curve(screen, source, LONGITUDINAL_RAYS) ?? null;
       } catch { p = null; }
-      this.la = p ? { ...unpair(p), unit: app.session.pupil_unit(source) } : null;
+      // Pairs are [pupil height, crossing]; the plot puts the crossing across.
+      const u = p ? unpair(p) : null;
+      this.la = u ? { xs: u.ys, ys: u.xs, unit: app.session.pupil_unit(source) } : null;
     }
     return this.la;
   }
