@@ -55,10 +55,10 @@ export class EnergyView {
       marks.push({ kind: 'point', x: radii[1], y: 80, label: `EE80 ${withUnit(radii[1], 'µm', 3)}`, colour: th.ink });
       marks.push({ kind: 'hline', y: 50, dash: [2, 4] }, { kind: 'hline', y: 80, dash: [2, 4] });
     }
-    if (airy > 0 && ee && airy < 3 * ee.xs[ee.xs.length - 1]) marks.push({ kind: 'vline', x: airy, label: `Airy radius ${withUnit(airy, 'µm', 3)}` });
+    if (airy > 0 && ee) marks.push({ kind: 'vline', x: airy, label: `Airy radius ${withUnit(airy, 'µm', 3)}` });
     this.plot.set({
       title: `Encircled energy about the centroid — ${scId}${r ? `, ${r.source}` : ''}`,
-      x: { label: 'radius', unit: 'µm', include: [0], minSpan: 1 },
+      x: { label: 'radius', unit: 'µm', include: [0, airy > 0 ? 1.15 * airy : 0], minSpan: 1, min: 0 },
       y: { label: 'encircled energy', unit: '%', min: 0, max: 104 },
       series: ee ? [{ ...ee, colour: sourceColour(Math.max(0, c.source), th.dark), name: 'encircled energy', along: 'x' }] : [],
       marks,
