@@ -18,6 +18,7 @@ cargo test
 
 step "cargo clippy"
 cargo clippy --all-targets -- -D warnings
+cargo clippy --lib --target wasm32-unknown-unknown -- -D warnings
 
 step "web bundle"
 "$here/build-web.sh"

@@ -13,6 +13,7 @@ pub mod design;
 pub mod error;
 pub mod geometry;
 pub mod layout;
+pub mod pixels;
 pub mod scene;
 pub mod trace;
 #[cfg(target_arch = "wasm32")]

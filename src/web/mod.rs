@@ -4,6 +4,7 @@
 //! typed arrays over wasm memory; `bench` runs the throughput benchmark
 //! inside the browser or Node.
 
+mod analysis;
 mod bench;
 mod design;
 mod session;

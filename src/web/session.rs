@@ -16,7 +16,7 @@
 //!
 //! Small values (counts, ids, times, the report) are returned by value.
 
-use crate::analysis::trace_report;
+use crate::analysis::analyse_all;
 use crate::geometry::{Aperture, Sag, Vec3};
 use crate::layout::{decode_link, encode_link, parse_layout, Layout, Source, MAX_RAYS_PER_SOURCE};
 use crate::scene::{Part, Scene};
@@ -64,8 +64,8 @@ fn empty_layout() -> Layout {
 #[wasm_bindgen]
 pub struct Session {
     layout: Layout,
-    scene: Scene,
-    result: TraceResult,
+    pub(crate) scene: Scene,
+    pub(crate) result: TraceResult,
     /// Rays per source of the last trace (`None`: each source's own count).
     traced_rays: Option<usize>,
     report: String,
@@ -81,6 +81,8 @@ pub struct Session {
     spot_weight: Vec<f64>,
     trace_ms: f64,
     fan_ms: f64,
+    /// Curves, flux maps and pixels of the analysis views (src/web/analysis.rs).
+    pub(crate) views: super::analysis::ViewState,
 }
 
 impl Default for Session {
@@ -111,6 +113,7 @@ impl Session {
             spot_weight: Vec::new(),
             trace_ms: 0.0,
             fan_ms: 0.0,
+            views: Default::default(),
         };
         s.install(s.layout.clone());
         s
@@ -364,6 +367,7 @@ impl Session {
         self.spot_uv.clear();
         self.spot_source.clear();
         self.spot_weight.clear();
+        self.views = Default::default();
         self.build_outlines();
     }
 
@@ -384,8 +388,9 @@ impl Session {
         };
         self.trace_ms = now_ms() - t0;
         self.traced_rays = opts.rays;
-        let report = trace_report(&self.scene, &self.result);
-        self.report = serde_json::to_string(&report).map_err(|e| JsError::new(&format!("report: {e}")))?;
+        let all = analyse_all(&self.scene, &self.result);
+        self.report = serde_json::to_string(&all.report).map_err(|e| JsError::new(&format!("report: {e}")))?;
+        self.views.analyses = Some(all);
         self.retrace_fan();
         Ok(())
     }

@@ -17,6 +17,10 @@ import { BackgroundTracer } from './background.js';
 import { applyTheme, initialTheme, readTheme } from './theme.js';
 import { fmtInt, fmtNum, statInfo, withUnit } from './format.js';
 import { exportCsv, exportSvg, download, slug } from './export.js';
+import { collectAnalysis } from './views/data.js';
+import { CausticLayer } from './views/caustic.js';
+import { updateCautions } from './views/cautions.js';
+import { exportAnalysis } from './views/analysis-export.js';
 
 const AUTOSAVE_KEY = 'catoptric.autosave.v1';
 const LIVE_RAYS = 20_000;
@@ -77,6 +81,7 @@ class App {
       onDone: (gen, m) => this.workerDone(gen, m),
       onError: (gen, msg) => { this.hideProgress(); this.setTraceState('preview'); this.message(`The full trace failed: ${msg}`); },
     });
+    this.caustic = new CausticLayer(this);
     this.editor = new Editor($('canvas'), this);
     this.props = new Props($('props'), $('sheet-title'), $('btn-delete'), this);
     this.drawer = new Drawer($('drawer'), $('view-tabs'), $('view-body'), this);
@@ -426,6 +431,7 @@ class App {
       spot: null,
     };
     res.report = res.reportText ? JSON.parse(res.reportText) : null;
+    res.analysis = collectAnalysis(s);
     res.spot = (i) => {
       if (res.spots.has(i)) return res.spots.get(i);
       if (this.result !== res || i >= s.screen_count()) return null;
@@ -443,7 +449,7 @@ class App {
     const spots = new Map(m.spots.map((v, i) => [i, v]));
     const res = {
       gen, kind: 'full', reportText: m.reportText, report: JSON.parse(m.reportText),
-      launched: m.launched, escaped: m.escaped, absorbed: m.absorbed, ms: m.ms, spots,
+      launched: m.launched, escaped: m.escaped, absorbed: m.absorbed, ms: m.ms, spots, analysis: m.analysis,
       spot: (i) => spots.get(i) ?? null, background: true,
     };
     this.setResult(res);
@@ -458,6 +464,7 @@ class App {
     $('ro-time').textContent = `${fmtNum(res.ms, 3)} ms${res.background ? ' (background)' : ''}`;
     this.updateScreens();
     this.updateFigures();
+    updateCautions(this);
     this.drawer.update();
     this.requestDraw();
   }
@@ -617,6 +624,7 @@ class App {
   }
 
   exportWhat(what) {
+    if (exportAnalysis(this, what)) return;
     const name = slug(this.layout.name);
     if (what === 'png') {
       $('canvas').toBlob((b) => b && download(`${name}-drawing.png`, b), 'image/png');

@@ -10,15 +10,12 @@ import { niceStep } from './editor.js';
 import { ConicsView } from './views/conics.js';
 import { TestingView } from './views/testing.js';
 import { DesignersView } from './views/designers.js';
+import { FocusView } from './views/focus.js';
+import { EnergyView } from './views/energy.js';
+import { FluxView } from './views/flux.js';
 
 /** Tab order; views and planned tabs are sorted into it. */
 const TAB_ORDER = ['spot', 'focus', 'energy', 'flux', 'conics', 'testing', 'designers'];
-
-const PLANNED = [
-  ['focus', 'Focus', 'Through-focus spot size and longitudinal aberration (not available yet)'],
-  ['energy', 'Energy', 'Encircled-energy curve (not available yet)'],
-  ['flux', 'Flux', 'Flux map with colour bar and concentration (not available yet)'],
-];
 
 /** Flattens nested report objects into dotted keys: flux.peak_w_m2. */
 function flatten(obj, prefix = '', out = {}) {
@@ -324,7 +321,10 @@ export class Drawer {
     this.tabs = tabs;
     this.body = body;
     this.app = app;
-    this.views = [new SpotView(), new ConicsView(), new TestingView(), new DesignersView()];
+    this.views = [
+      new SpotView(), new FocusView(), new EnergyView(), new FluxView(),
+      new ConicsView(), new TestingView(), new DesignersView(),
+    ];
     this.panels = new Map();
     this.current = 'spot';
     for (const v of this.views) {
@@ -337,7 +337,6 @@ export class Drawer {
       this.body.append(panel);
       this.panels.set(v.id, panel);
     }
-    for (const [id, label, title] of PLANNED) this.tabButton(id, label, title, true);
     for (const id of TAB_ORDER) {
       const b = this.tabs.querySelector(`[data-view="${id}"]`);
       if (b) this.tabs.append(b);

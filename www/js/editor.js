@@ -160,6 +160,7 @@ export class Editor {
     ctx.fillStyle = th.bg;
     ctx.fillRect(0, 0, w, h);
     if (this.grid) this.drawGrid(th);
+    this.app.caustic?.draw(ctx, this);
     this.drawFan(th);
     this.drawElements(th);
     this.drawSources(th);

@@ -4,6 +4,7 @@
 // or { gen, type: 'error', message }.
 
 import init, { Session } from '../pkg/catoptric.js';
+import { analysisBuffers, collectAnalysis } from './views/data.js';
 
 /** Most hits per screen sent back for plotting and CSV (evenly thinned). */
 const MAX_HITS_SENT = 1_000_000;
@@ -46,8 +47,11 @@ self.onmessage = async (ev) => {
       spots.push({ uv, src, w, stride, total: n });
       transfer.push(uv.buffer, src.buffer, w.buffer);
     }
+    // Curves and flux maps of the full trace for the analysis views.
+    const analysis = collectAnalysis(s);
+    transfer.push(...analysisBuffers(analysis));
     self.postMessage({
-      gen, type: 'done',
+      gen, type: 'done', analysis,
       reportText: s.report_json(),
       launched: s.rays_launched(), escaped: s.rays_escaped(), absorbed: s.rays_absorbed(),
       ms: s.trace_ms(),

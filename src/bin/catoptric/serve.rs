@@ -8,9 +8,11 @@
 
 use crate::Failure;
 use clap::Args;
-use std::io::Write as _;
+use std::io::{Read as _, Write as _};
+use std::net::{TcpListener, TcpStream};
 use std::path::{Path, PathBuf};
 use std::sync::Arc;
+use std::time::Duration;
 
 #[derive(Args)]
 pub struct ServeArgs {
@@ -29,9 +31,6 @@ pub struct ServeArgs {
 pub const CSP: &str = "default-src 'self'; script-src 'self' 'wasm-unsafe-eval'; style-src 'self'; \
 img-src 'self' data: blob:; connect-src 'self'; worker-src 'self' blob:; object-src 'none'; \
 base-uri 'none'; frame-ancestors 'none'";
-
-/// Request threads; the page loads a handful of files at once.
-const WORKERS: usize = 4;
 
 /// Why a request path was refused.
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
@@ -140,56 +139,103 @@ pub fn content_type(path: &Path) -> &'static str {
     }
 }
 
-fn header(name: &str, value: &str) -> tiny_http::Header {
-    tiny_http::Header::from_bytes(name.as_bytes(), value.as_bytes()).expect("static header text is ASCII")
+/// Most connections served at once.
+const MAX_CONNECTIONS: usize = 64;
+/// Longest request head accepted, bytes.
+const MAX_HEAD: usize = 16 * 1024;
+/// Read and write timeout of a connection.
+const IO_TIMEOUT: Duration = Duration::from_secs(10);
+
+/// Headers sent with every response. Every connection carries one request:
+/// the page loads a few dozen small files from loopback, where a fresh
+/// connection costs nothing, and no thread ever waits on an idle kept-alive
+/// socket (a pooled server did, and Chromium stalled on module loads).
+fn common_headers() -> String {
+    format!(
+        "Content-Security-Policy: {CSP}\r\nX-Content-Type-Options: nosniff\r\nCache-Control: no-cache\r\nConnection: close\r\n"
+    )
 }
 
-fn common_headers() -> [tiny_http::Header; 4] {
-    [
-        header("Content-Security-Policy", CSP),
-        header("X-Content-Type-Options", "nosniff"),
-        header("Cache-Control", "no-cache"),
-        // One request per connection: with kept-alive connections Chromium
-        // sometimes waited for ever on a module script from tiny_http. On
-        // loopback a fresh connection per file costs nothing noticeable.
-        header("Connection", "close"),
-    ]
-}
-
-fn with_common<R: std::io::Read>(mut r: tiny_http::Response<R>) -> tiny_http::Response<R> {
-    for h in common_headers() {
-        r.add_header(h);
+/// Reads the raw request head (up to the blank line); `None` when the
+/// client went away, sent too much or timed out.
+fn read_head(stream: &mut TcpStream) -> Option<Vec<u8>> {
+    let mut head = Vec::with_capacity(1024);
+    let mut buf = [0u8; 2048];
+    while !head.windows(4).any(|w| w == b"\r\n\r\n") {
+        let n = stream.read(&mut buf).ok().filter(|&n| n > 0)?;
+        head.extend_from_slice(&buf[..n]);
+        if head.len() > MAX_HEAD {
+            return None;
+        }
     }
-    r
+    Some(head)
 }
 
-fn answer(root: &Path, req: tiny_http::Request) {
-    use tiny_http::{Method, Response};
+/// Answers one request on `stream` and closes it.
+fn answer(root: &Path, mut stream: TcpStream) {
+    let _ = stream.set_read_timeout(Some(IO_TIMEOUT));
+    let _ = stream.set_write_timeout(Some(IO_TIMEOUT));
+    let Some(head) = read_head(&mut stream) else {
+        return;
+    };
+    // The request line and headers are parsed by httparse (hyper's parser).
+    let mut headers = [httparse::EMPTY_HEADER; 64];
+    let mut req = httparse::Request::new(&mut headers);
+    let (method, target) = match req.parse(&head) {
+        Ok(httparse::Status::Complete(_)) => (req.method.unwrap_or(""), req.path.unwrap_or("")),
+        _ => ("", ""),
+    };
+    if method.is_empty() {
+        let body = "bad request\n";
+        let r = format!(
+            "HTTP/1.1 400 Bad Request\r\nContent-Type: text/plain; charset=utf-8\r\nContent-Length: {}\r\n{}\r\n{body}",
+            body.len(),
+            common_headers()
+        );
+        let _ = stream.write_all(r.as_bytes());
+        return;
+    }
+    let text = |status: u16, reason: &str, body: &str, extra: &str| {
+        format!(
+            "HTTP/1.1 {status} {reason}\r\nContent-Type: text/plain; charset=utf-8\r\nContent-Length: {}\r\n{extra}{}\r\n{body}",
+            body.len(),
+            common_headers()
+        )
+    };
     // A failed write means the client went away; nothing to do about it.
-    let _ = match req.method() {
-        Method::Get | Method::Head => match resolve(root, req.url()).and_then(|p| {
-            std::fs::File::open(&p).map(|f| (p, f)).map_err(|_| Refusal::NotFound)
-        }) {
-            Ok((path, file)) => {
-                let r = Response::from_file(file).with_header(header("Content-Type", content_type(&path)));
-                req.respond(with_common(r))
+    let _ = match method {
+        "GET" | "HEAD" => match resolve(root, target)
+            .and_then(|p| std::fs::File::open(&p).map(|f| (p, f)).map_err(|_| Refusal::NotFound))
+        {
+            Ok((path, mut file)) => {
+                let len = file.metadata().map(|m| m.len()).unwrap_or(0);
+                let head = format!(
+                    "HTTP/1.1 200 OK\r\nContent-Type: {}\r\nContent-Length: {len}\r\n{}\r\n",
+                    content_type(&path),
+                    common_headers()
+                );
+                stream.write_all(head.as_bytes()).and_then(|_| {
+                    if method == "GET" { std::io::copy(&mut file, &mut stream).map(|_| ()) } else { Ok(()) }
+                })
             }
             Err(why) => {
-                let text = if why == Refusal::NotFound { "not found\n" } else { "bad request\n" };
-                let r = Response::from_string(text)
-                    .with_status_code(why.status())
-                    .with_header(header("Content-Type", "text/plain; charset=utf-8"));
-                req.respond(with_common(r))
+                let (reason, body) = if why == Refusal::NotFound { ("Not Found", "not found\n") } else { ("Bad Request", "bad request\n") };
+                let mut r = text(why.status(), reason, body, "");
+                if method == "HEAD" {
+                    r.truncate(r.len() - body.len());
+                }
+                stream.write_all(r.as_bytes())
             }
         },
-        _ => {
-            let r = Response::from_string("method not allowed\n")
-                .with_status_code(405)
-                .with_header(header("Allow", "GET, HEAD"))
-                .with_header(header("Content-Type", "text/plain; charset=utf-8"));
-            req.respond(with_common(r))
-        }
+        _ => stream.write_all(text(405, "Method Not Allowed", "method not allowed\n", "Allow: GET, HEAD\r\n").as_bytes()),
     };
+    let _ = stream.flush();
+    // Close our side, then let the client close: dropping a socket with
+    // unread input would reset the connection and could cut the reply.
+    let _ = stream.shutdown(std::net::Shutdown::Write);
+    let _ = stream.set_read_timeout(Some(Duration::from_secs(1)));
+    let mut sink = [0u8; 512];
+    while matches!(stream.read(&mut sink), Ok(n) if n > 0) {}
 }
 
 /// The folder to serve: `--root`, else `./www`, else the crate's `www`.
@@ -216,9 +262,9 @@ pub fn run(a: ServeArgs) -> Result<String, Failure> {
         Some(path) => Some(catoptric::layout::encode_link(&crate::commands::read_layout(path)?)),
         None => None,
     };
-    let server = tiny_http::Server::http(("127.0.0.1", a.port))
+    let listener = TcpListener::bind(("127.0.0.1", a.port))
         .map_err(|e| Failure { code: 1, message: format!("cannot listen on 127.0.0.1:{}: {e}", a.port) })?;
-    let port = server.server_addr().to_ip().map(|s| s.port()).unwrap_or(a.port);
+    let port = listener.local_addr().map(|s| s.port()).unwrap_or(a.port);
     let mut out = std::io::stdout().lock();
     let _ = writeln!(out, "serving {} at http://127.0.0.1:{port}/", root.display());
     if let Some(f) = &fragment {
@@ -228,20 +274,25 @@ pub fn run(a: ServeArgs) -> Result<String, Failure> {
     let _ = out.flush();
     drop(out);
 
-    let server = Arc::new(server);
+    // A thread per connection: loopback only, one request each, at most
+    // MAX_CONNECTIONS at once (further clients are closed at once).
     let root = Arc::new(root);
-    let workers: Vec<_> = (0..WORKERS)
-        .map(|_| {
-            let (server, root) = (Arc::clone(&server), Arc::clone(&root));
-            std::thread::spawn(move || {
-                for req in server.incoming_requests() {
-                    answer(&root, req);
-                }
-            })
-        })
-        .collect();
-    for w in workers {
-        let _ = w.join();
+    let open = Arc::new(std::sync::atomic::AtomicUsize::new(0));
+    for stream in listener.incoming() {
+        let Ok(stream) = stream else { continue };
+        use std::sync::atomic::Ordering::SeqCst;
+        if open.fetch_add(1, SeqCst) >= MAX_CONNECTIONS {
+            open.fetch_sub(1, SeqCst);
+            continue;
+        }
+        let (root, count) = (Arc::clone(&root), Arc::clone(&open));
+        let spawned = std::thread::Builder::new().name("serve".into()).spawn(move || {
+            answer(&root, stream);
+            count.fetch_sub(1, SeqCst);
+        });
+        if spawned.is_err() {
+            open.fetch_sub(1, SeqCst);
+        }
     }
     Err(Failure { code: 1, message: "server stopped".into() })
 }

@@ -1,0 +1,33 @@
+// Exports of the analysis views: CSV of each curve and of the flux map, and
+// the flux view as a PNG image.
+
+import { download, slug } from '../export.js';
+
+/** Handles the analysis entries of the Export menu; false for others. */
+export function exportAnalysis(app, what) {
+  const d = app.drawer;
+  const view = (id) => d.views.find((v) => v.id === id);
+  const csv = (r) => {
+    if (!r) { app.message('Nothing to export: no curve for the chosen screen and source yet.'); return; }
+    download(`${slug(app.layout.name)}-${slug(r.name)}.csv`, new Blob([`${r.header}\n${r.rows.join('\n')}\n`], { type: 'text/csv' }));
+  };
+  // The views read the last result; make sure theirs is current.
+  const ready = (id) => { d.open(true, id); return view(id); };
+  switch (what) {
+    case 'focus-csv': csv(ready('focus')?.csv('focus')); return true;
+    case 'longitudinal-csv': csv(ready('focus')?.csv('longitudinal')); return true;
+    case 'energy-csv': csv(ready('energy')?.csv()); return true;
+    case 'flux-csv': csv(ready('flux')?.csv()); return true;
+    case 'flux-png': {
+      const v = ready('flux');
+      if (!v || !app.result) { app.message('Nothing to export yet.'); return true; }
+      // Let the drawer open and lay out before taking the picture.
+      requestAnimationFrame(() => requestAnimationFrame(() => {
+        v.update();
+        v.canvas.toBlob((b) => b && download(`${slug(app.layout.name)}-${slug(app.result.report.screens[app.spotScreen]?.id ?? 'screen')}-flux.png`, b), 'image/png');
+      }));
+      return true;
+    }
+    default: return false;
+  }
+}

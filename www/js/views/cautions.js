@@ -1,0 +1,75 @@
+// Sunlight cautions in the strip under the toolbar (#sun-caution, shown
+// whenever a sun source exists): the concentration the layout reaches, a
+// stronger warning above CONCENTRATION_CAUTION_SUNS, and the solar-filter
+// warning when the sun feeds a telescope-like system.
+
+import { fmtNum } from '../format.js';
+
+/** Peak concentration (suns) above which the page warns of burns and fire. */
+export const CONCENTRATION_CAUTION_SUNS = 10;
+/**
+ * Working f-number above which a sunlit screen is taken to sit at the focus
+ * of a telescope-like system (a slow cone: an eyepiece or a camera would go
+ * there) rather than at a solar receiver.
+ */
+export const TELESCOPE_F_NUMBER = 3;
+
+function part(box, id, cls) {
+  let el = document.getElementById(id);
+  if (!el) {
+    el = document.createElement('p');
+    el.id = id;
+    el.className = cls;
+    box.append(el);
+  }
+  return el;
+}
+
+/** Refreshes the caution lines from the current layout and report. */
+export function updateCautions(app) {
+  const box = document.getElementById('sun-caution');
+  if (!box) return;
+  const conc = part(box, 'concentration-caution', 'caution-line');
+  const filter = part(box, 'filter-caution', 'caution-line');
+  const figure = part(box, 'concentration-figure', 'caution-line muted-line');
+  conc.hidden = filter.hidden = figure.hidden = true;
+  const suns = new Set(app.layout.sources.filter((s) => s.kind === 'beam' && s.sun_half_angle_mrad > 0).map((s) => s.id));
+  const rep = app.result?.report;
+  if (!suns.size || !rep) return;
+
+  // Highest concentration on any screen.
+  let top = null;
+  for (const sc of rep.screens ?? []) {
+    const k = sc.flux?.peak_suns;
+    if (typeof k === 'number' && sc.by_source?.some((r) => suns.has(r.source)) && (!top || k > top.k)) top = { k, sc };
+  }
+  if (top && top.k > CONCENTRATION_CAUTION_SUNS) {
+    conc.hidden = false;
+    conc.dataset.suns = String(top.k);
+    conc.replaceChildren();
+    const b = document.createElement('strong');
+    b.textContent = `This layout concentrates sunlight ${fmtNum(top.k, 3)}-fold`;
+    conc.append(b, ` on screen ${top.sc.id} (${fmtNum(top.sc.flux.peak_w_m2, 3)} W/m² at the peak; above ${CONCENTRATION_CAUTION_SUNS} suns). `
+      + 'At this level skin burns and dry material can catch fire within seconds. Keep the focus clear of people, animals and anything that burns, '
+      + 'cover the mirror when it is not in use, and defer to local codes and qualified practice.');
+  } else if (top) {
+    figure.hidden = false;
+    figure.textContent = `Peak concentration ${fmtNum(top.k, 3)} suns on screen ${top.sc.id}.`;
+  }
+
+  // The sun feeding a slow, telescope-like cone.
+  let scope = null;
+  for (const sc of rep.screens ?? []) {
+    for (const r of sc.by_source ?? []) {
+      if (suns.has(r.source) && typeof r.f_number === 'number' && r.f_number > TELESCOPE_F_NUMBER && (!scope || r.f_number > scope.n)) scope = { n: r.f_number, sc };
+    }
+  }
+  if (scope) {
+    filter.hidden = false;
+    filter.replaceChildren();
+    const b = document.createElement('strong');
+    b.textContent = 'Never observe the sun without a certified solar filter.';
+    filter.append(b, ` The sun feeds an f/${fmtNum(scope.n, 2)} focus on screen ${scope.sc.id}, like a telescope: looking through such a system at the sun, `
+      + 'even for a moment, causes permanent eye damage. A filter must cover the full aperture in front of the optics and meet the applicable standard.');
+  }
+}
