@@ -1,6 +1,7 @@
 // Times the standard benchmark scenes inside the wasm build (www/pkg) under
 // Node, best of N runs each, single thread. Prints JSON on stdout:
-// {"engine":"node <version>","scenes":[{"index","key","rays","seconds"}]}.
+// {"engine":"node <version>","scenes":[{"index","key","rays","seconds","frame_ms"}]}.
+// frame_ms: one dragging frame of the page (20k rays, analyses, fan, caustic).
 // `catoptric bench` runs this and prints wasm beside native.
 //
 // Usage: node pkg-config/bench-wasm.mjs [--rays N] [--runs K] [--pkg DIR]
@@ -43,6 +44,8 @@ for (let index = 0; index < glue.bench_scene_count(); index++) {
     }
     best = Math.min(best, s);
   }
-  scenes.push({ index, key: glue.bench_scene_key(index), rays: opts.rays, seconds: best });
+  let frame = Infinity;
+  for (let r = 0; r < opts.runs; r++) frame = Math.min(frame, glue.bench_frame_ms(index));
+  scenes.push({ index, key: glue.bench_scene_key(index), rays: opts.rays, seconds: best, frame_ms: frame });
 }
 console.log(JSON.stringify({ engine: `node ${process.version}`, scenes }));

@@ -53,3 +53,17 @@ pub fn bench_scene(index: u32, rays: u32) -> f64 {
     std::hint::black_box(res.surface_hits);
     dt
 }
+
+/// Milliseconds one dragging frame of the page takes on scene `index`
+/// (see [`crate::bench_scenes::page_frame`]); NaN for an unknown scene.
+#[wasm_bindgen]
+pub fn bench_frame_ms(index: u32) -> f64 {
+    let Some(s) = scenes().into_iter().nth(index as usize) else {
+        return f64::NAN;
+    };
+    let t0 = now_ms();
+    let hits = crate::bench_scenes::page_frame(&s.layout);
+    let dt = now_ms() - t0;
+    std::hint::black_box(hits);
+    dt
+}
