@@ -158,6 +158,33 @@ pub fn solar_dish() -> Layout {
     )
 }
 
+/// Rays the page traces per source while an element is dragged.
+pub const FRAME_RAYS: usize = 20_000;
+/// Fan rays per source drawn on the layout.
+pub const FRAME_FAN_RAYS: usize = 64;
+/// Meridional rays per source behind the caustic layer.
+pub const FRAME_CAUSTIC_RAYS: usize = 2000;
+/// Caustic raster size: half of a 1400 × 900 canvas.
+pub const FRAME_CAUSTIC_SIZE: (usize, usize) = (700, 450);
+
+/// One frame of the page while dragging: compile the edited layout, trace
+/// [`FRAME_RAYS`] rays per source, run every analysis, trace the fan and
+/// rasterise the caustic over the scene. Returns the number of screen hits
+/// (so nothing can be optimised away). Timed by `catoptric bench`, natively
+/// and in wasm.
+pub fn page_frame(layout: &Layout) -> usize {
+    let scene = crate::Scene::compile(layout);
+    let res = crate::trace(&scene, crate::TraceOptions { rays: Some(FRAME_RAYS) });
+    let analyses = crate::analysis::analyse_all(&scene, &res);
+    let fan = crate::trace::trace_fan(&scene, FRAME_FAN_RAYS, None);
+    let half = 0.5 * scene.scale;
+    let view = [-half, -half, half, half];
+    let (w, h) = FRAME_CAUSTIC_SIZE;
+    let raster = crate::analysis::caustic(&scene, FRAME_CAUSTIC_RAYS, view, w, h);
+    std::hint::black_box((&analyses, &fan, &raster));
+    res.screens.iter().map(|s| s.len()).sum()
+}
+
 #[cfg(test)]
 mod tests {
     use super::*;
@@ -257,31 +284,4 @@ mod tests {
         let power: f64 = hits.weight.iter().sum();
         assert!(power > 0.99 * res.power_by_source[0], "intercept {}", power / res.power_by_source[0]);
     }
-}
-
-/// Rays the page traces per source while an element is dragged.
-pub const FRAME_RAYS: usize = 20_000;
-/// Fan rays per source drawn on the layout.
-pub const FRAME_FAN_RAYS: usize = 64;
-/// Meridional rays per source behind the caustic layer.
-pub const FRAME_CAUSTIC_RAYS: usize = 2000;
-/// Caustic raster size: half of a 1400 × 900 canvas.
-pub const FRAME_CAUSTIC_SIZE: (usize, usize) = (700, 450);
-
-/// One frame of the page while dragging: compile the edited layout, trace
-/// [`FRAME_RAYS`] rays per source, run every analysis, trace the fan and
-/// rasterise the caustic over the scene. Returns the number of screen hits
-/// (so nothing can be optimised away). Timed by `catoptric bench`, natively
-/// and in wasm.
-pub fn page_frame(layout: &Layout) -> usize {
-    let scene = crate::Scene::compile(layout);
-    let res = crate::trace(&scene, crate::TraceOptions { rays: Some(FRAME_RAYS) });
-    let analyses = crate::analysis::analyse_all(&scene, &res);
-    let fan = crate::trace::trace_fan(&scene, FRAME_FAN_RAYS, None);
-    let half = 0.5 * scene.scale;
-    let view = [-half, -half, half, half];
-    let (w, h) = FRAME_CAUSTIC_SIZE;
-    let raster = crate::analysis::caustic(&scene, FRAME_CAUSTIC_RAYS, view, w, h);
-    std::hint::black_box((&analyses, &fan, &raster));
-    res.screens.iter().map(|s| s.len()).sum()
 }
