@@ -1,4 +1,4 @@
-//! Builders and geometric helpers shared by the review tests.
+//! Builders and geometric helpers shared by the layout-level tests.
 #![allow(dead_code)]
 
 use catoptric::geometry::{reflect, Frame, Vec3};

@@ -1,9 +1,9 @@
 //! Review: aspheric coefficients and departure splines against the conics
 //! they imitate, and the general sag solver against the closed form.
 
-mod review_support;
+mod layout_support;
 use catoptric::geometry::Vec3;
-use review_support::*;
+use layout_support::*;
 use serde_json::json;
 
 /// A f/5, 200 mm mirror facing +z at the origin with the given profile,
@@ -89,7 +89,7 @@ fn parabola_drawn_as_a_departure_spline_focuses_like_the_paraboloid() {
     assert!(n > 2000);
     assert!(w < 1e-4, "extruded spline parabola: worst {w:e} mm");
     // Revolved: knots from the axis out past the rim (built even about the
-    // axis; see review_regressions.rs).
+    // axis; see regressions.rs).
     let knots: Vec<[f64; 2]> = (0..=30).map(|i| {
         let y = 5.0 * i as f64;
         [y, y * y / (4.0 * f)]

@@ -1,12 +1,12 @@
 //! Review: wavefront, Strehl and best focus on defocused, tilted and
 //! off-axis screens, and two-mirror designs over a range of parameters.
 
-mod review_support;
+mod layout_support;
 use catoptric::analysis::{focus_fit, trace_report, wavefront};
 use catoptric::design::{design_two_mirror, TwoMirrorKind, TwoMirrorSpec};
 use catoptric::geometry::{Frame, Vec3};
 use catoptric::{trace, Scene, TraceOptions};
-use review_support::*;
+use layout_support::*;
 use serde_json::json;
 
 const LAMBDA_MM: f64 = 550e-6;
@@ -68,7 +68,7 @@ fn perfect_focus_seen_on_defocused_and_tilted_screens() {
 /// Third-order coma of a paraboloid with the stop at the mirror: linear
 /// sagittal coma S = θ f/(16 N²) (Schroeder, Astronomical Optics, 2nd ed.,
 /// ch. 5, value from memory; the traced spot confirms it in
-/// review_sources.rs), so the wavefront coefficient W131 = S/(2N) =
+/// sources_and_screens.rs), so the wavefront coefficient W131 = S/(2N) =
 /// θ f/(32 N³) (transverse aberration = −(f/a)∂W/∂ρ, standard third-order
 /// theory) and the RMS wavefront with tilt removed W131/√72 (Zernike
 /// normalisation; Mahajan, Optical Imaging and Aberrations, value from

@@ -17,9 +17,9 @@
 //! aimed at one focus leaves as if from the other (the reflection is
 //! linear in the direction, so reversing the ray reverses the property).
 
-mod review_support;
+mod layout_support;
 use catoptric::geometry::Vec3;
-use review_support::*;
+use layout_support::*;
 
 const TOL: f64 = 1e-9;
 

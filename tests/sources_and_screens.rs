@@ -1,12 +1,12 @@
 //! Review: sources (power, angular distribution, out-of-plane tilt),
 //! screens (shape, face, opacity, series) and determinism.
 
-mod review_support;
+mod layout_support;
 use catoptric::analysis::spot_stats;
 use catoptric::geometry::Vec3;
 use catoptric::trace::{trace_fan, Emitter};
 use catoptric::{parse_layout, trace, TraceOptions};
-use review_support::*;
+use layout_support::*;
 use serde_json::json;
 use std::f64::consts::PI;
 

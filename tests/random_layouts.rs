@@ -5,11 +5,11 @@
 //! gets more power than was launched, and the report, fan and flux maps
 //! come out finite.
 
-mod review_support;
+mod layout_support;
 use catoptric::analysis::{analyse_all, flux_map};
 use catoptric::trace::trace_fan;
 use catoptric::{parse_layout, trace, validate, Scene, TraceOptions};
-use review_support::*;
+use layout_support::*;
 use serde_json::{json, Value};
 
 /// Log-uniform magnitude in [lo, hi].

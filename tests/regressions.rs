@@ -1,9 +1,9 @@
 //! Regression tests for bugs found in the correctness review. Each test
 //! is named after the symptom and says what broke.
 
-mod review_support;
+mod layout_support;
 use catoptric::analysis::spot_stats;
-use review_support::*;
+use layout_support::*;
 use serde_json::json;
 
 /// What broke: a revolved mirror's departure spline was the natural spline
