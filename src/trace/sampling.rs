@@ -29,23 +29,20 @@ fn wrap01(x: f64) -> f64 {
     if x >= 1.0 { x - 1.0 } else { x }
 }
 
-/// The radical inverse with a constant base: the compiler turns the
-/// divisions into multiplications (the sampler's hot spot).
-#[inline]
-fn halton_const<const B: u64>(mut i: u64) -> f64 {
-    let inv = 1.0 / B as f64;
-    let mut f = inv;
-    let mut r = 0.0;
-    while i > 0 {
-        r += f * (i % B) as f64;
-        i /= B;
-        f *= inv;
-    }
-    r
+/// The radical inverse with a constant base: inlined with the base known,
+/// the compiler turns the divisions into multiplications (the sampler's hot
+/// spot).
+#[inline(always)]
+fn halton_const<const B: u64>(i: u64) -> f64 {
+    radical_inverse(i, B)
 }
 
-fn halton_any(mut i: u64, base: u64) -> f64 {
-    let base = base.max(2);
+fn halton_any(i: u64, base: u64) -> f64 {
+    radical_inverse(i, base.max(2))
+}
+
+#[inline(always)]
+fn radical_inverse(mut i: u64, base: u64) -> f64 {
     let inv = 1.0 / base as f64;
     let mut f = inv;
     let mut r = 0.0;
