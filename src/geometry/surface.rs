@@ -85,7 +85,7 @@ impl MirrorSurface {
         if self.conic { self.intersect_conic(o, d, t_min, t_max) } else { self.intersect_general(o, d, t_min, t_max) }
     }
 
-    #[inline]
+    #[inline(always)]
     fn accept(&self, t: f64, o: &Vec3, d: &Vec3) -> Option<Hit> {
         let p = o + d * t;
         if !self.aperture.contains(p.x, p.y) {
@@ -94,6 +94,7 @@ impl MirrorSurface {
         Some(Hit { t, point: p, normal: self.normal_at(&p) })
     }
 
+    #[inline(always)]
     fn intersect_conic(&self, o: &Vec3, d: &Vec3, t_min: f64, t_max: f64) -> Option<Hit> {
         let c = self.profile.c;
         let k = self.kappa;

@@ -47,6 +47,7 @@ impl ScreenHits {
         self.weight.reserve(n);
         self.source.reserve(n);
     }
+    #[inline(always)]
     fn push(&mut self, u: f64, v: f64, d: &Vec3, opl: f64, w: f64, src: u32) {
         self.u.push(u);
         self.v.push(v);
@@ -111,7 +112,7 @@ struct Nearest {
     normal: Vec3,
 }
 
-#[inline]
+#[inline(always)]
 fn nearest(scene: &Scene, o: &Vec3, d: &Vec3) -> Option<Nearest> {
     let mut best: Option<Nearest> = None;
     let mut t_best = f64::INFINITY;
