@@ -265,3 +265,32 @@ describe('acceptance-pass regressions', () => {
     }
   });
 });
+
+describe('acceptance-pass regressions: keeping work', () => {
+  test('opening a shared link keeps the work from the last visit one Undo away', async () => {
+    const ctx = await browser.newContext({ viewport: { width: 1280, height: 800 }, colorScheme: 'light' });
+    try {
+      const page = await ctx.newPage();
+      await page.goto(server.url);
+      await settled(page);
+      await page.fill('#layout-name', 'my mirror, half parabolized');
+      await page.waitForFunction(() => JSON.parse(localStorage.getItem('catoptric.autosave.v1')).name === 'my mirror, half parabolized');
+      const link = await page.evaluate(async () => {
+        const r = await fetch('presets/cassegrain.json');
+        const s = new window.catoptric.session.constructor();
+        s.load_json(await r.text());
+        return s.link();
+      });
+      const p2 = await ctx.newPage();
+      await p2.goto(`${server.url}${link}`);
+      await settled(p2);
+      const linked = await p2.inputValue('#layout-name');
+      assert.match(linked, /Cassegrain/);
+      assert.equal(await p2.isDisabled('#btn-undo'), false, 'Undo is offered');
+      await p2.click('#btn-undo');
+      assert.equal(await p2.inputValue('#layout-name'), 'my mirror, half parabolized');
+    } finally {
+      await ctx.close();
+    }
+  });
+});

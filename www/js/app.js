@@ -761,20 +761,27 @@ class App {
   async start() {
     this.setTheme(document.documentElement.dataset.theme || 'light');
     const presets = await this.loadPresetIndex();
-    if (this.openHash()) return;
     let saved = null;
     try { saved = localStorage.getItem(AUTOSAVE_KEY); } catch { /* no storage */ }
+    let restored = false;
     if (saved) {
       try {
         this.session.load_json(saved);
         this.adopt();
         this.undo.length = 0;
         this.updateUndo();
-        return;
+        restored = true;
       } catch (e) {
         this.message(`The layout kept from your last visit could not be restored: ${errText(e)}. Opening an example instead.`);
       }
     }
+    // A shared link opens over the restored work, which stays one Undo away
+    // (the autosave now holds the linked layout).
+    if (this.openHash()) {
+      if (restored) this.message('Opened the layout from the shared link. Undo brings back the layout you were working on.', 'info');
+      return;
+    }
+    if (restored) return;
     if (presets.length) {
       await this.loadPreset(presets[0].file, presets[0].title);
       this.undo.length = 0;
