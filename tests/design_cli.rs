@@ -78,6 +78,18 @@ fn off_axis_json_contract() {
 }
 
 #[test]
+fn off_axis_text_output_carries_the_sunlight_caution() {
+    // Regression: the text report of the off-axis (offset dish) designer had
+    // no sunlight caution while the page's card showed one; the JSON output
+    // (a contract) stays free of prose.
+    let (code, out, err) = run(&["design", "off-axis", "--parent-focal", "500", "--offset", "200", "--diameter", "100"]);
+    assert_eq!(code, 0, "{err}");
+    assert!(out.contains("Caution:") && out.contains("sunlight") && out.contains("local codes"), "{out}");
+    let (_, json_out, _) = run(&["design", "off-axis", "--parent-focal", "500", "--offset", "200", "--diameter", "100", "--json"]);
+    assert!(!json_out.contains("Caution"));
+}
+
+#[test]
 fn compare_json_contract() {
     // REFERENCES.md row 5: D = 150, λ = 550 nm → N = 8.106.
     let v = json(&["compare", "--radius", "2400", "--diameter", "150", "--conics", "0,-1,-0.5", "--json"]);

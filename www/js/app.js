@@ -213,7 +213,7 @@ class App {
     try {
       if (viaLink) this.session.load_link(text); else this.session.load_json(text);
     } catch (e) {
-      this.message(`Could not open ${what}: ${errText(e)}. The current layout is unchanged.`);
+      this.message(`Could not open ${what}: ${errText(e).replace(/\.+$/, '')}. The current layout is unchanged.`);
       return false;
     }
     this.pushUndo(before);
@@ -530,7 +530,8 @@ class App {
       span.dataset.readout = key;
       const b = document.createElement('b');
       // Large micrometre figures read better in millimetres.
-      b.textContent = info.unit === 'µm' && Math.abs(value) >= 1e4 ? withUnit(value / 1000, 'mm') : withUnit(value, info.unit);
+      b.textContent = key === 'hits' ? fmtInt(value)
+        : info.unit === 'µm' && Math.abs(value) >= 1e4 ? withUnit(value / 1000, 'mm') : withUnit(value, info.unit);
       span.append(`${info.label} `, b);
       box.append(span);
     };
@@ -631,8 +632,10 @@ class App {
     } else if (what === 'svg') {
       download(`${name}-drawing.svg`, new Blob([exportSvg(this)], { type: 'image/svg+xml' }));
     } else if (what === 'spot-png') {
-      this.drawer.open(true, 'spot');
-      requestAnimationFrame(() => this.drawer.spotCanvas().toBlob((b) => b && download(`${name}-spot.png`, b), 'image/png'));
+      this.drawer.openThen('spot', () => {
+        this.drawer.views[0].draw();
+        this.drawer.spotCanvas().toBlob((b) => b && download(`${name}-spot.png`, b), 'image/png');
+      });
     } else if (what === 'csv') {
       const r = exportCsv(this);
       if (r) download(`${name}-${slug(r.screen)}-hits.csv`, new Blob([r.text], { type: 'text/csv' }));
@@ -758,20 +761,27 @@ class App {
   async start() {
     this.setTheme(document.documentElement.dataset.theme || 'light');
     const presets = await this.loadPresetIndex();
-    if (this.openHash()) return;
     let saved = null;
     try { saved = localStorage.getItem(AUTOSAVE_KEY); } catch { /* no storage */ }
+    let restored = false;
     if (saved) {
       try {
         this.session.load_json(saved);
         this.adopt();
         this.undo.length = 0;
         this.updateUndo();
-        return;
+        restored = true;
       } catch (e) {
         this.message(`The layout kept from your last visit could not be restored: ${errText(e)}. Opening an example instead.`);
       }
     }
+    // A shared link opens over the restored work, which stays one Undo away
+    // (the autosave now holds the linked layout).
+    if (this.openHash()) {
+      if (restored) this.message('Opened the layout from the shared link. Undo brings back the layout you were working on.', 'info');
+      return;
+    }
+    if (restored) return;
     if (presets.length) {
       await this.loadPreset(presets[0].file, presets[0].title);
       this.undo.length = 0;

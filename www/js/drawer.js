@@ -376,6 +376,26 @@ export class Drawer {
     else this.update();
   }
 
+  /**
+   * Opens the drawer on `view` and calls `fn` once the drawer has its full
+   * height (it slides open), so a picture taken in `fn` is not blank or cut.
+   */
+  openThen(view, fn) {
+    const was = this.isOpen();
+    this.open(true, view);
+    const run = () => requestAnimationFrame(() => requestAnimationFrame(fn));
+    if (was) { run(); return; }
+    let done = false;
+    const once = () => {
+      if (done) return;
+      done = true;
+      this.root.removeEventListener('transitionend', once);
+      run();
+    };
+    this.root.addEventListener('transitionend', once);
+    setTimeout(once, 400);
+  }
+
   update() {
     for (const v of this.views) v.update(this.app);
   }

@@ -89,9 +89,21 @@ export class Editor {
   resize() {
     const r = this.canvas.getBoundingClientRect();
     const dpr = window.devicePixelRatio || 1;
+    // While the view is still the automatic fit (nothing panned, zoomed or
+    // clicked since), a new size fits again: a caution or message strip that
+    // appears after a file opens must not clip the layout. Otherwise, when
+    // the canvas's top edge moves (such a strip appears above it while the
+    // user works), the drawing stays where it is on the page instead of
+    // jumping under the pointer; other size changes keep the centre.
+    const top = this.pageTop;
+    this.pageTop = r.top;
+    if (!this.autoFit && top !== undefined && r.top !== top && this.size.h > 1) {
+      this.view.cy -= (r.top - top + (r.height - this.size.h) / 2) / this.view.k;
+    }
     this.size = { w: Math.max(1, r.width), h: Math.max(1, r.height), dpr };
     this.canvas.width = Math.round(this.size.w * dpr);
     this.canvas.height = Math.round(this.size.h * dpr);
+    if (this.autoFit) this.fit();
     this.app.requestDraw();
   }
 
@@ -110,6 +122,7 @@ export class Editor {
       add(s.center[0] + dz * r, s.center[1] - dy * r);
       add(s.center[0] - dz * r, s.center[1] + dy * r);
     }
+    this.autoFit = true;
     if (!Number.isFinite(ymin)) { this.view = { k: 0.5, cy: 0, cz: 500 }; this.app.requestDraw(); return; }
     const span = Math.max(ymax - ymin, zmax - zmin, 1e-3);
     const pad = 0.1 * span;
@@ -125,6 +138,7 @@ export class Editor {
   }
 
   zoomAt(sx, sy, factor) {
+    this.autoFit = false;
     const [y, z] = this.toWorld(sx, sy);
     const k = Math.min(1e6, Math.max(1e-6, this.view.k * factor));
     this.view.k = k;
@@ -515,6 +529,7 @@ export class Editor {
   }
 
   onDown(e) {
+    this.autoFit = false;
     this.canvas.focus({ preventScroll: true });
     const [sx, sy] = this.local(e);
     const w = this.toWorld(sx, sy);

@@ -35,9 +35,23 @@ function sup(x) {
   return [...String(x)].map((c) => map[c] ?? c).join('');
 }
 
+/**
+ * Magnitudes below which a figure in this unit is floating-point noise of an
+ * exact result (a perfect focus gives an RMS radius of 1e-11 µm, not 0):
+ * 0.01 nm of length, a millionth of a wave. Shown as 0; hover titles and
+ * exports keep the raw value.
+ */
+const NOISE_FLOOR = { 'µm': 1e-5, mm: 1e-8, nm: 1e-2, waves: 1e-6, 'λ': 1e-6 };
+
+/** `v`, or 0 when it is below the noise floor of `unit`. */
+export function denoise(v, unit) {
+  const f = NOISE_FLOOR[unit];
+  return f && typeof v === 'number' && Math.abs(v) < f ? 0 : v;
+}
+
 /** Value plus unit, e.g. "12.5 µm". */
 export function withUnit(v, unit, sig) {
-  const n = fmtNum(v, sig);
+  const n = fmtNum(denoise(v, unit), sig);
   return unit ? `${n}${THIN}${unit}` : n;
 }
 
@@ -105,5 +119,5 @@ export function fmtStat(key, v) {
   if (typeof v === 'boolean') return v ? 'yes' : 'no';
   if (typeof v !== 'number') return v === null || v === undefined ? '–' : String(v);
   if (key === 'hits' || key.startsWith('rays_')) return fmtInt(v);
-  return fmtNum(v, 4);
+  return fmtNum(denoise(v, statInfo(key).unit), 4);
 }

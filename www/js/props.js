@@ -29,7 +29,7 @@ function setAt(obj, path, value) {
   o[path[path.length - 1]] = value;
 }
 
-const PATTERNS = [['hex', 'hexagonal lattice'], ['grid', 'square grid'], ['random', 'low-discrepancy random']];
+const PATTERNS = [['hex', 'hexagonal'], ['grid', 'square grid'], ['random', 'quasi-random']];
 
 export class Props {
   constructor(form, title, delBtn, app) {
@@ -130,7 +130,8 @@ export class Props {
     const err = document.createElement('div');
     err.className = 'field-error';
     err.hidden = true;
-    if (spec.type === 'textarea' || spec.type === 'text') row.append(label, input, err);
+    // Text boxes and unit-less selects take the unit column too.
+    if (spec.type === 'textarea' || spec.type === 'text' || (spec.type === 'select' && !spec.unit)) row.append(label, input, err);
     else row.append(label, input, unit, err);
     parent.append(row);
 
@@ -352,7 +353,7 @@ export class Props {
     const g = this.group('Beam');
     this.field(g, { label: 'diameter', unit: 'mm', type: 'number', path: [...base, 'diameter'], title: 'Diameter of the disk the rays start from, across the direction of travel' });
     this.field(g, { label: 'rays', unit: 'rays', type: 'int', path: [...base, 'rays'], title: 'Rays launched in a full 3D trace (the lattice may round this by a percent)' });
-    this.field(g, { label: 'pattern', type: 'select', path: [...base, 'pattern'], options: PATTERNS, title: 'How start points fill the disk; all are deterministic, so results repeat exactly' });
+    this.field(g, { label: 'pattern', type: 'select', path: [...base, 'pattern'], options: PATTERNS, title: 'How start points fill the disk (quasi-random: a low-discrepancy sequence); all are deterministic, so results repeat exactly' });
     this.field(g, { label: 'sun half-angle', unit: 'mrad', type: 'number', path: [...base, 'sun_half_angle_mrad'], def: 0,
       title: 'Angular radius of an extended solar disk (4.65 mrad is the mean sun); 0 for a point-like star',
       after: () => this.render() });

@@ -191,6 +191,12 @@ fn off_axis(a: OffAxisArgs) -> Result<String, Failure> {
         "rim seen from feed   {:.4}° to {:.4}° off axis: bisector {:.4}°, half-angle {:.4}°",
         f.rim_angles_deg[0], f.rim_angles_deg[1], f.bisector_off_axis_deg, f.half_angle_deg
     );
+    // The same geometry feeds an offset solar dish (the page's card says so too).
+    let _ = writeln!(
+        s,
+        "\nCaution: turned toward the sun, such a segment concentrates sunlight at the feed: burns, fire and eye injury \
+         in an instant. Never look along the beam; follow local codes and qualified practice."
+    );
     Ok(s)
 }
 

@@ -19,13 +19,13 @@ export function exportAnalysis(app, what) {
     case 'energy-csv': csv(ready('energy')?.csv()); return true;
     case 'flux-csv': csv(ready('flux')?.csv()); return true;
     case 'flux-png': {
-      const v = ready('flux');
+      const v = view('flux');
       if (!v || !app.result) { app.message('Nothing to export yet.'); return true; }
       // Let the drawer open and lay out before taking the picture.
-      requestAnimationFrame(() => requestAnimationFrame(() => {
+      d.openThen('flux', () => {
         v.update();
         v.canvas.toBlob((b) => b && download(`${slug(app.layout.name)}-${slug(app.result.report.screens[app.spotScreen]?.id ?? 'screen')}-flux.png`, b), 'image/png');
-      }));
+      });
       return true;
     }
     default: return false;

@@ -4,7 +4,7 @@
 // full-precision value, CSV export of those tables and a line plot.
 // No optics here: every number comes from the wasm functions.
 
-import { fmtNum } from '../format.js';
+import { denoise, fmtNum } from '../format.js';
 import { download, slug } from '../export.js';
 import { niceStep } from '../editor.js';
 import { sourceColour } from '../palette.js';
@@ -193,7 +193,8 @@ function valueCell(tag, key, row, value, sig) {
   c.dataset.key = key;
   if (row !== null) c.dataset.row = String(row);
   c.dataset.value = JSON.stringify(value ?? null);
-  c.textContent = Array.isArray(value) ? value.map((x) => fmtNum(x, sig)).join(', ') : typeof value === 'number' ? fmtNum(value, sig) : String(value ?? '–');
+  const u = unitOf(key);
+  c.textContent = Array.isArray(value) ? value.map((x) => fmtNum(denoise(x, u), sig)).join(', ') : typeof value === 'number' ? fmtNum(denoise(value, u), sig) : String(value ?? '–');
   if (typeof value === 'number') c.title = `${fmtNum(value, 10)}${unitOf(key) ? ` ${unitOf(key)}` : ''}`;
   return c;
 }
@@ -386,4 +387,4 @@ export function visible(el) {
   return !!el && !el.closest('[hidden]') && document.getElementById('drawer')?.dataset.open === 'true';
 }
 
-export { fmtNum };
+export { denoise, fmtNum };

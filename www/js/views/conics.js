@@ -6,8 +6,8 @@
 
 import { compare_conics_json } from '../../pkg/catoptric.js';
 import {
-  Form, button, conicMirror, csvText, debounce, errText, figureTable, fmtNum, heading, linePlot, para, rowTable,
-  saveCsv, visible,
+  Form, button, conicMirror, csvText, debounce, denoise, errText, figureTable, fmtNum, heading, linePlot, para, rowTable,
+  saveCsv, unitOf, visible,
 } from './common.js';
 
 const DEFAULT_CONICS = [0, -0.5, -1];
@@ -159,7 +159,7 @@ export class ConicsView {
         td.dataset.key = key;
         td.dataset.row = String(i);
         td.dataset.value = JSON.stringify(c[key]);
-        td.textContent = fmtNum(c[key], 5);
+        td.textContent = fmtNum(denoise(c[key], unitOf(key)), 5);
         td.title = `${title}: ${fmtNum(c[key], 10)}`;
         tr.append(td);
       });

@@ -3,7 +3,7 @@
 // diffraction-limited verdict with the criterion it rests on.
 
 import { sourceColour } from '../palette.js';
-import { fmtNum, withUnit } from '../format.js';
+import { denoise, fmtNum, withUnit } from '../format.js';
 import { LinePlot } from './plot.js';
 import { chosen, figureList, sourcePicker, unpair, visible } from './data.js';
 
@@ -79,10 +79,10 @@ export class EnergyView {
         box.dataset.verdict = ok ? 'limited' : 'not-limited';
         head.textContent = ok ? 'Diffraction limited' : 'Not diffraction limited';
         const p1 = document.createElement('p');
-        p1.textContent = `Strehl ≈ exp(−(2πσ)²) = ${fmtNum(r.strehl_estimate, 3)}, with σ = ${fmtNum(sigma, 3)} waves RMS wavefront error at λ = ${fmtNum(lambda, 4)} nm (piston, tilt and defocus removed: the best diffraction focus).`;
+        p1.textContent = `Strehl ≈ exp(−(2πσ)²) = ${fmtNum(r.strehl_estimate, 3)}, with σ = ${withUnit(sigma, 'waves', 3)} RMS wavefront error at λ = ${fmtNum(lambda, 4)} nm (piston, tilt and defocus removed: the best diffraction focus).`;
         const p2 = document.createElement('p');
         p2.textContent = `Criterion (Maréchal): σ ≤ λ/14 = ${fmtNum(MARECHAL_WAVES, 3)} waves, i.e. Strehl ≥ ${fmtNum(Math.exp(-((2 * Math.PI * MARECHAL_WAVES) ** 2)), 2)} in this form. `
-          + `σ is ${fmtNum(sigma / MARECHAL_WAVES, 3)} × the limit.`;
+          + `σ is ${fmtNum(denoise(sigma, 'waves') / MARECHAL_WAVES, 3)} × the limit.`;
         box.append(head, p1, p2);
       } else {
         box.dataset.verdict = 'undefined';
@@ -100,7 +100,7 @@ export class EnergyView {
       { key: 'ee50_radius_um', label: 'EE50 radius', value: radii?.[0] ?? null, text: radii ? withUnit(radii[0], 'µm', 6) : '–', title: 'Radius about the centroid holding 50 % of the power on the screen' },
       { key: 'ee80_radius_um', label: 'EE80 radius', value: radii?.[1] ?? null, text: radii ? withUnit(radii[1], 'µm', 6) : '–', title: 'Radius about the centroid holding 80 % of the power on the screen' },
       { key: 'airy_radius_um', label: 'Airy radius', value: airy ?? null, text: airy ? withUnit(airy, 'µm', 4) : '–', title: 'First dark ring of a perfect focus, 1.22 λ N' },
-      { key: 'ee80_over_airy', label: 'EE80 / Airy radius', value: radii && airy ? radii[1] / airy : null, text: radii && airy ? fmtNum(radii[1] / airy, 3) : '–',
+      { key: 'ee80_over_airy', label: 'EE80 / Airy radius', value: radii && airy ? radii[1] / airy : null, text: radii && airy ? fmtNum(denoise(radii[1], 'µm') / airy, 3) : '–',
         title: 'Geometric EE80 radius against the diffraction spot; well below 1 means diffraction, not the geometry, sets the spot size' },
       { key: 'strehl_estimate', label: 'Strehl estimate', value: r.strehl_estimate, text: r.strehl_estimate === null ? '–' : fmtNum(r.strehl_estimate, 4) },
       { key: 'wavefront_rms_waves', label: 'wavefront RMS', value: r.wavefront_rms_waves, text: r.wavefront_rms_waves === null ? '–' : withUnit(r.wavefront_rms_waves, 'waves', 4) },

@@ -52,7 +52,7 @@ export class TestingView {
     f.field({ name: 'conic', label: 'conic constant K', unit: '', value: '-1', title: 'Conic constant of the target surface (−1 paraboloid)' });
     f.field({ name: 'diameter', label: 'diameter D', unit: 'mm', value: '200', title: 'Clear diameter of the mirror, mm' });
     f.field({ name: 'zones', label: 'zones N', unit: '', value: '5', title: 'Number of zones of equal area in the mask (1 to 100)' });
-    f.field({ name: 'source', label: 'source', type: 'select', options: [['moving', 'moving with the knife'], ['fixed', 'fixed at the centre']], title: 'Moving: the lamp travels with the knife edge (readings about half the fixed-source ones). Fixed: the lamp stays at the vertex centre of curvature.' });
+    f.field({ name: 'source', label: 'source', type: 'select', options: [['moving', 'moving'], ['fixed', 'fixed']], title: 'Moving: the lamp travels with the knife edge (readings about half the fixed-source ones). Fixed: the lamp stays at the vertex centre of curvature.' });
     f.field({ name: 'wavelength', label: 'wavelength λ', unit: 'nm', value: '550', title: 'Wavelength for the departures in waves, nm' });
     f.finish();
     const tools = document.createElement('div');
@@ -75,7 +75,7 @@ export class TestingView {
     heading(right, 'Measured mirror', 'Build the mirror a test found and trace it');
     para(right, 'Type moving-source readings (mm, same convention) in the table’s “measured” column, or load a CSV of radius (mm), height departure from the design conic (µm unless the header names the unit).');
     this.mform = new Form(right, { id: 'measured-form', onChange: () => this.measure() });
-    this.mform.field({ name: 'tolerance_nm', label: 'tolerance', unit: 'nm', value: '35', title: 'Surface error (after removing piston and a change of radius) beyond which a zone counts as high or low, nm. A surface error shows twice as large in the wavefront.' });
+    this.mform.field({ name: 'tolerance_nm', label: 'surface tolerance', unit: 'nm', value: '35', title: 'Surface error (after removing piston and a change of radius) beyond which a zone counts as high or low, nm. A surface error shows twice as large in the wavefront.' });
     this.mform.finish();
     const mt = document.createElement('div');
     mt.className = 'row-buttons';
