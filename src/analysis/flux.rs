@@ -19,8 +19,9 @@ use crate::scene::{Part, Scene};
 use crate::trace::TraceResult;
 use serde::Serialize;
 
-/// Default flux grid, pixels per side.
-pub const DEFAULT_FLUX_GRID: usize = 64;
+/// Default flux grid, pixels per side: odd, so a pixel sits centred on the
+/// screen centre and a small centred spot is not split across four.
+pub const DEFAULT_FLUX_GRID: usize = 65;
 /// Largest flux grid side accepted.
 pub const MAX_FLUX_GRID: usize = 4096;
 

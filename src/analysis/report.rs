@@ -53,7 +53,7 @@ pub struct ScreenReport {
     pub hits: u64,
     pub power_w: f64,
     pub by_source: Vec<SourceReport>,
-    /// Flux of all sources together on a 64 × 64 grid.
+    /// Flux of all sources together on a [`DEFAULT_FLUX_GRID`]-square grid.
     pub flux: FluxStats,
 }
 

@@ -211,6 +211,9 @@ describe('the analysis views', () => {
     try {
       assert.equal(await a.page.locator('#concentration-caution').isVisible(), false);
       assert.equal(await a.page.locator('#sun-caution').isVisible(), false);
+      // A star's concentration is no burn hazard: the flux view stays calm.
+      await showView(a.page, 'flux');
+      assert.equal(await a.page.locator('#view-flux .caution').isVisible(), false);
     } finally {
       await a.ctx.close();
     }
@@ -290,7 +293,7 @@ describe('the analysis views', () => {
       assert.equal(Number(ee[ee.length - 1].split(',')[1]), 1, 'all the power within the largest radius');
       const fx = (await grab('flux-csv')).bytes.toString('utf8').trim().split('\n');
       assert.equal(fx[0], 'u_mm,v_mm,irradiance_w_m2');
-      assert.equal(fx.length, 1 + 64 * 64);
+      assert.equal(fx.length, 1 + 65 * 65, "one row per pixel of the default 65 × 65 map (DEFAULT_FLUX_GRID)");
       const png = await grab('flux-png');
       assert.match(png.name, /flux\.png$/);
       // PNG signature (ISO/IEC 15948 §5.2).

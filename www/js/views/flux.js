@@ -77,7 +77,10 @@ export class FluxView {
   figures(c) {
     const f = c.flux;
     const sc = c.sc;
-    this.caution.hidden = !(f?.suns > CONCENTRATION_CAUTION_SUNS);
+    // Burns and fire are a matter of sunlight: a star beam's "suns" only
+    // measure its concentration relative to its own irradiance.
+    const sunlit = (this.app?.layout?.sources ?? []).some((s) => s.kind === 'beam' && s.sun_half_angle_mrad > 0);
+    this.caution.hidden = !(sunlit && f?.suns > CONCENTRATION_CAUTION_SUNS);
     if (!this.caution.hidden) {
       this.caution.textContent = `${fmtNum(f.suns, 3)} suns at the peak: enough to burn skin, set things alight and injure eyes. `
         + 'Keep people, animals and flammable things out of the focus; follow local codes and qualified practice for real installations.';
