@@ -237,3 +237,31 @@ fn open_prints_the_share_link() {
     let original = catoptric::parse_layout(&std::fs::read_to_string(&layout).unwrap()).unwrap();
     assert_eq!(back, original, "round trip through the printed link");
 }
+
+#[test]
+fn json_start_line_names_the_address_and_the_link() {
+    let dir = std::env::temp_dir().join(format!("catoptric-serve-json-{}", std::process::id()));
+    std::fs::create_dir_all(dir.join("www")).unwrap();
+    let layout = Path::new(env!("CARGO_MANIFEST_DIR")).join("www/presets/sphere-f5.json");
+    let mut child = Command::new(EXE)
+        .args(["serve", "--port", "0", "--json", "--root"])
+        .arg(dir.join("www"))
+        .arg("--open")
+        .arg(&layout)
+        .stdout(Stdio::piped())
+        .stderr(Stdio::null())
+        .spawn()
+        .unwrap();
+    let rx = first_lines(&mut child);
+    let line = rx.recv_timeout(WAIT);
+    let _ = child.kill();
+    let _ = child.wait();
+    let _ = std::fs::remove_dir_all(&dir);
+    let v: serde_json::Value = serde_json::from_str(&line.expect("a start line")).expect("one JSON line");
+    let url = v["url"].as_str().unwrap();
+    assert!(url.starts_with("http://127.0.0.1:") && !url.ends_with(":0/"), "{url}");
+    let open = v["open"].as_str().unwrap();
+    assert!(open.starts_with(url));
+    let back = catoptric::layout::decode_link(open).unwrap();
+    assert_eq!(back, catoptric::parse_layout(&std::fs::read_to_string(&layout).unwrap()).unwrap());
+}

@@ -25,6 +25,9 @@ pub struct ServeArgs {
     /// Folder to serve (default: ./www, else the crate's www folder).
     #[arg(long, value_name = "DIR")]
     pub root: Option<String>,
+    /// Print the address as one JSON line: {"url", "root", "open"}.
+    #[arg(long)]
+    pub json: bool,
 }
 
 /// Content-Security-Policy sent with every response.
@@ -266,11 +269,18 @@ pub fn run(a: ServeArgs) -> Result<String, Failure> {
         .map_err(|e| Failure { code: 1, message: format!("cannot listen on 127.0.0.1:{}: {e}", a.port) })?;
     let port = listener.local_addr().map(|s| s.port()).unwrap_or(a.port);
     let mut out = std::io::stdout().lock();
-    let _ = writeln!(out, "serving {} at http://127.0.0.1:{port}/", root.display());
-    if let Some(f) = &fragment {
-        let _ = writeln!(out, "open http://127.0.0.1:{port}/{f}");
+    let url = format!("http://127.0.0.1:{port}/");
+    let open = fragment.as_ref().map(|f| format!("{url}{f}"));
+    if a.json {
+        let line = serde_json::json!({ "url": url, "root": root.display().to_string(), "open": open });
+        let _ = writeln!(out, "{line}");
+    } else {
+        let _ = writeln!(out, "serving {} at {url}", root.display());
+        if let Some(o) = &open {
+            let _ = writeln!(out, "open {o}");
+        }
+        let _ = writeln!(out, "press Ctrl-C to stop");
     }
-    let _ = writeln!(out, "press Ctrl-C to stop");
     let _ = out.flush();
     drop(out);
 
