@@ -113,11 +113,16 @@ struct Nearest {
 }
 
 #[inline(always)]
-fn nearest(scene: &Scene, o: &Vec3, d: &Vec3) -> Option<Nearest> {
+/// `skip` is an element the ray cannot meet again on this leg (the screen
+/// plane it has just crossed: a line meets a plane once), or `usize::MAX`.
+fn nearest(scene: &Scene, o: &Vec3, d: &Vec3, skip: usize) -> Option<Nearest> {
     let mut best: Option<Nearest> = None;
     let mut t_best = f64::INFINITY;
     let eps = scene.t_eps;
     for (i, e) in scene.elements.iter().enumerate() {
+        if i == skip {
+            continue;
+        }
         // Bounding sphere reject.
         let oc = e.bound_center - o;
         let tca = oc.dot(d);
@@ -176,11 +181,12 @@ pub(crate) fn propagate<O: Observer>(
     obs: &mut O,
 ) -> (Fate, Ray) {
     let mut bounces = 0u32;
+    let mut skip = usize::MAX;
     // Each event is a reflection or a screen crossing; a ray cannot cross
     // more screens than exist between two reflections.
     let max_events = (scene.max_bounces as usize + 1) * (scene.elements.len() + 1);
     for _ in 0..max_events {
-        let Some(n) = nearest(scene, &ray.origin, &ray.dir) else {
+        let Some(n) = nearest(scene, &ray.origin, &ray.dir, skip) else {
             return (Fate::Escaped, ray);
         };
         *hits += 1;
@@ -214,8 +220,11 @@ pub(crate) fn propagate<O: Observer>(
                 if *opaque {
                     return (Fate::Absorbed, ray);
                 }
+                skip = n.index;
+                continue;
             }
         }
+        skip = usize::MAX;
     }
     (Fate::Absorbed, ray)
 }
