@@ -6,7 +6,10 @@ use crate::layout::{Element, Form, Layout, ScreenShape, Source};
 /// What an element does to a ray.
 #[derive(Debug, Clone)]
 pub enum Part {
-    Mirror { surface: MirrorSurface, reflectivity: f64 },
+    /// `no_return`: a pure conic that is flat or convex (c ≤ 0) lies wholly
+    /// behind its tangent planes, so a ray leaving its face cannot meet it
+    /// again before another reflection.
+    Mirror { surface: MirrorSurface, reflectivity: f64, no_return: bool },
     /// Plane detector at local z = 0 looking along local +z; `half` is half
     /// the side (square) or the radius (circle).
     Screen { half: f64, circle: bool, opaque: bool, index: usize },
@@ -90,7 +93,7 @@ impl Scene {
                     elements.push(SceneElement {
                         id: m.id.clone(),
                         frame,
-                        part: Part::Mirror { surface, reflectivity: m.reflectivity },
+                        part: Part::Mirror { no_return: surface.profile.is_conic() && surface.profile.c <= 0.0, surface, reflectivity: m.reflectivity },
                         bound_center,
                         bound_radius,
                     });

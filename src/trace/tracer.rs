@@ -198,7 +198,7 @@ pub(crate) fn propagate<O: Observer>(
         ray.origin = p;
         ray.opl += n.t;
         match &e.part {
-            Part::Mirror { reflectivity, .. } => {
+            Part::Mirror { reflectivity, no_return, .. } => {
                 let ld = e.frame.to_local_dir(&ray.dir);
                 if ld.dot(&n.normal) >= 0.0 {
                     return (Fate::Absorbed, ray); // back face
@@ -211,6 +211,7 @@ pub(crate) fn propagate<O: Observer>(
                 let r = reflect(&ld, &n.normal);
                 // Renormalise: keeps |dir| = 1 over many bounces.
                 ray.dir = e.frame.to_world_dir(&r).normalize();
+                skip = if *no_return { n.index } else { usize::MAX };
             }
             Part::Screen { opaque, index, .. } => {
                 let ld = e.frame.to_local_dir(&ray.dir);
@@ -221,10 +222,8 @@ pub(crate) fn propagate<O: Observer>(
                     return (Fate::Absorbed, ray);
                 }
                 skip = n.index;
-                continue;
             }
         }
-        skip = usize::MAX;
     }
     (Fate::Absorbed, ray)
 }
