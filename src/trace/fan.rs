@@ -60,14 +60,7 @@ pub fn trace_fan(scene: &Scene, per_source: usize, extend: Option<f64>) -> Fan {
             }
         }
         for s in scratch.iter_mut() {
-            s.u.clear();
-            s.v.clear();
-            s.du.clear();
-            s.dv.clear();
-            s.dw.clear();
-            s.opl.clear();
-            s.weight.clear();
-            s.source.clear();
+            s.clear();
         }
     }
     fan

@@ -125,39 +125,45 @@ pub fn disk_points(pattern: Pattern, n: usize, seed: u64) -> Vec<[f64; 2]> {
             // Area per point: s² (grid) or s²√3/2 (hex).
             let cell = if hex { 3f64.sqrt() / 2.0 } else { 1.0 };
             let mut s = (std::f64::consts::PI / (n as f64 * cell)).sqrt();
-            let mut pts = lattice(hex, s);
-            let mut best = pts.clone();
+            // Tune the spacing on counts alone, then lay the points once.
+            let mut count = lattice(hex, s, |_, _| {});
+            let (mut best_s, mut best_n) = (s, count);
             for _ in 0..4 {
-                if pts.len() == n {
+                if count == n {
                     break;
                 }
-                s *= (pts.len() as f64 / n as f64).sqrt();
-                pts = lattice(hex, s);
-                if pts.len().abs_diff(n) < best.len().abs_diff(n) {
-                    best = pts.clone();
+                s *= (count as f64 / n as f64).sqrt();
+                count = lattice(hex, s, |_, _| {});
+                if count.abs_diff(n) < best_n.abs_diff(n) {
+                    (best_s, best_n) = (s, count);
                 }
             }
-            best
+            let mut pts = Vec::with_capacity(best_n);
+            lattice(hex, best_s, |x, y| pts.push([x, y]));
+            pts
         }
     }
 }
 
-fn lattice(hex: bool, s: f64) -> Vec<[f64; 2]> {
+/// Visits the lattice points (spacing `s`) inside the unit disk, row by
+/// row; returns how many there are.
+fn lattice(hex: bool, s: f64, mut visit: impl FnMut(f64, f64)) -> usize {
     let row = if hex { s * 3f64.sqrt() / 2.0 } else { s };
     let jmax = (1.0 / row).floor() as i64;
     let imax = (1.0 / s).ceil() as i64 + 1;
-    let mut out = Vec::with_capacity(((std::f64::consts::PI / (s * row)) * 1.05) as usize + 8);
+    let mut n = 0;
     for j in -jmax..=jmax {
         let y = j as f64 * row;
         let shift = if hex && j.rem_euclid(2) == 1 { 0.5 * s } else { 0.0 };
         for i in -imax..=imax {
             let x = i as f64 * s + shift;
             if x * x + y * y <= 1.0 + 1e-12 {
-                out.push([x, y]);
+                visit(x, y);
+                n += 1;
             }
         }
     }
-    out
+    n
 }
 
 #[cfg(test)]

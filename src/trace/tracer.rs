@@ -36,6 +36,17 @@ impl ScreenHits {
     pub fn is_empty(&self) -> bool {
         self.u.is_empty()
     }
+    /// Drops every hit, keeping the capacity.
+    pub fn clear(&mut self) {
+        self.u.clear();
+        self.v.clear();
+        self.du.clear();
+        self.dv.clear();
+        self.dw.clear();
+        self.opl.clear();
+        self.weight.clear();
+        self.source.clear();
+    }
     /// Room for `n` more hits in every column.
     pub fn reserve(&mut self, n: usize) {
         self.u.reserve(n);
@@ -235,13 +246,28 @@ pub fn trace(scene: &Scene, opts: TraceOptions) -> TraceResult {
 
 /// Traces every source, calling `progress(done, total)` after each batch.
 pub fn trace_with(scene: &Scene, opts: TraceOptions, progress: &mut dyn FnMut(u64, u64)) -> TraceResult {
+    let mut res = TraceResult::default();
+    trace_into(scene, opts, &mut res, progress);
+    res
+}
+
+/// Traces into `res`, reusing its buffers (a front end re-tracing on every
+/// edit keeps one result and saves the allocation and first-touch cost).
+/// Everything in `res` is replaced.
+pub fn trace_into(scene: &Scene, opts: TraceOptions, res: &mut TraceResult, progress: &mut dyn FnMut(u64, u64)) {
     let emitters: Vec<Emitter> =
         scene.sources.iter().map(|s| Emitter::new(s, opts.rays.unwrap_or(s.rays() as usize))).collect();
     let total: u64 = emitters.iter().map(|e| e.len() as u64).sum();
-    let mut res = TraceResult {
-        screens: vec![ScreenHits::default(); scene.screen_ids.len()],
-        ..Default::default()
-    };
+    res.rays_launched = 0;
+    res.rays_escaped = 0;
+    res.rays_absorbed = 0;
+    res.surface_hits = 0;
+    res.launched_by_source.clear();
+    res.power_by_source.clear();
+    res.screens.resize_with(scene.screen_ids.len(), ScreenHits::default);
+    for s in &mut res.screens {
+        s.clear();
+    }
     // Most screens see each ray at most once: reserve that much up front
     // (untouched capacity costs no memory traffic) instead of growing by
     // copying.
@@ -271,5 +297,4 @@ pub fn trace_with(scene: &Scene, opts: TraceOptions, progress: &mut dyn FnMut(u6
         }
     }
     res.rays_launched = done;
-    res
 }
