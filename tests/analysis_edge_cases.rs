@@ -1,4 +1,4 @@
-//! Review: wavefront, Strehl and best focus on defocused, tilted and
+//! Wavefront, Strehl and best focus on defocused, tilted and
 //! off-axis screens, and two-mirror designs over a range of parameters.
 
 mod layout_support;

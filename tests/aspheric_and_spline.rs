@@ -1,5 +1,8 @@
-//! Review: aspheric coefficients and departure splines against the conics
+//! Aspheric coefficients and departure splines against the conics
 //! they imitate, and the general sag solver against the closed form.
+//! Sources: the ISO 10110-12 sag form and the sphere/paraboloid difference
+//! ρ⁴/(8R³) (REFERENCES.md rows 1 and 5); comparing a closed form with the
+//! general path is common practice (STYLE.md).
 
 mod layout_support;
 use catoptric::geometry::Vec3;
@@ -103,7 +106,8 @@ fn parabola_drawn_as_a_departure_spline_focuses_like_the_paraboloid() {
 /// The general (iterative) solver against the closed-form conic: the same
 /// conic forced through the general path by an all-zero departure gives
 /// the same hits to well under 1e-9 mm, for every conic type, revolved and
-/// extruded, on and off axis, at an odd placement.
+/// extruded, on and off axis, at an odd placement (common practice: a
+/// closed form against the general path).
 #[test]
 fn general_solver_traces_like_the_closed_form() {
     let pl = PLACES[1];
@@ -144,7 +148,8 @@ fn general_solver_traces_like_the_closed_form() {
 
 /// A linear departure on an extruded flat is a tilted plane: its
 /// reflection equals that of a flat turned by the same angle (law of
-/// reflection; a natural spline through collinear knots is that line).
+/// reflection, e.g. Hecht, Optics, ch. 4; a natural spline through
+/// collinear knots is that line, by its definition).
 #[test]
 fn linear_departure_is_a_tilted_flat() {
     let tilt = 3.0f64.to_radians();

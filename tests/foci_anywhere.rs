@@ -1,4 +1,4 @@
-//! Review: focal properties of every conic type, concave and convex,
+//! Focal properties of every conic type, concave and convex,
 //! revolved and extruded, full and off-axis, at odd placements in the
 //! layout plane (rotated by 37°, 180°, −90°, 123.456° and moved thousands
 //! of mm from the origin). Each traced or reflected ray must pass within

@@ -2,6 +2,8 @@
 //! the offending field named (DESIGN.md §4), round trips are exact, and no
 //! input makes the library panic (common practice: fuzz the boundary).
 
+mod common;
+use common::Rng;
 use catoptric::layout::{decode_link, encode_link, parse_layout};
 use catoptric::{trace, Scene, TraceOptions};
 use serde_json::{json, Value};
@@ -146,20 +148,6 @@ fn miniz_deflate(b: &[u8]) -> String {
     base64::engine::general_purpose::URL_SAFE_NO_PAD.encode(miniz_oxide::deflate::compress_to_vec(b, 6))
 }
 
-/// SplitMix64, for deterministic fuzzing.
-struct Rng(u64);
-impl Rng {
-    fn u(&mut self) -> u64 {
-        self.0 = self.0.wrapping_add(0x9e37_79b9_7f4a_7c15);
-        let mut z = self.0;
-        z = (z ^ (z >> 30)).wrapping_mul(0xbf58_476d_1ce4_e5b9);
-        z = (z ^ (z >> 27)).wrapping_mul(0x94d0_49bb_1331_11eb);
-        z ^ (z >> 31)
-    }
-    fn pick<T: Clone>(&mut self, xs: &[T]) -> T {
-        xs[(self.u() % xs.len() as u64) as usize].clone()
-    }
-}
 
 /// Replace one leaf (chosen at random) of a JSON tree.
 fn mutate(v: &mut Value, rng: &mut Rng) {

@@ -1,4 +1,4 @@
-//! Review: random layouts built from random valid values (not mutations of
+//! Random layouts built from random valid values (not mutations of
 //! one file), traced with few rays. Never panic on input (DESIGN.md §8):
 //! every launched ray is counted as escaped or absorbed, every hit is
 //! finite with a unit direction arriving on the sensitive face, no screen

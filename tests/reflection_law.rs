@@ -3,24 +3,12 @@
 //! The law of reflection (incidence = reflection, normal coplanar, unit
 //! directions) is textbook optics, e.g. Hecht, Optics, ch. 4.
 
+mod common;
+use common::Rng;
 use catoptric::geometry::{reflect, Aperture, MirrorSurface, NaturalSpline, Profile, Sag, Vec3};
 use catoptric::layout::parse_layout;
 use catoptric::{trace, Scene, TraceOptions};
 
-/// Small deterministic generator (SplitMix64) for property tests.
-struct Rng(u64);
-impl Rng {
-    fn next(&mut self) -> f64 {
-        self.0 = self.0.wrapping_add(0x9e37_79b9_7f4a_7c15);
-        let mut z = self.0;
-        z = (z ^ (z >> 30)).wrapping_mul(0xbf58_476d_1ce4_e5b9);
-        z = (z ^ (z >> 27)).wrapping_mul(0x94d0_49bb_1331_11eb);
-        ((z ^ (z >> 31)) >> 11) as f64 / (1u64 << 53) as f64
-    }
-    fn range(&mut self, a: f64, b: f64) -> f64 {
-        a + (b - a) * self.next()
-    }
-}
 
 fn random_surface(rng: &mut Rng, general: bool) -> MirrorSurface {
     let r = rng.range(200.0, 3000.0) * if rng.next() < 0.3 { -1.0 } else { 1.0 };
@@ -154,7 +142,8 @@ fn grazing_rim_hole_and_back_face() {
 }
 
 /// Light trapped between two facing concave mirrors stops at the bounce
-/// limit and is counted as absorbed, never looping for ever.
+/// limit and is counted as absorbed, never looping for ever (a confocal
+/// cavity re-images near-axial rays onto themselves: common practice).
 #[test]
 fn bounce_limit_ends_trapped_rays() {
     let text = r#"{"format":"catoptric-layout","version":1,"name":"cavity","wavelength_nm":550,"max_bounces":50,

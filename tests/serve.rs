@@ -202,13 +202,16 @@ fn open_with_a_bad_layout_fails_cleanly() {
     assert!(String::from_utf8_lossy(&out.stderr).contains("layout.json"));
 }
 
-#[test]
-fn open_prints_the_share_link() {
-    let dir = std::env::temp_dir().join(format!("catoptric-serve-open-{}", std::process::id()));
+/// Starts `serve --port 0 --open <preset>` on an empty temporary root;
+/// returns the root's parent folder, the layout path and the child.
+fn serve_opening(tag: &str, preset: &str, extra: &[&str]) -> (PathBuf, PathBuf, Child) {
+    let dir = std::env::temp_dir().join(format!("catoptric-serve-{tag}-{}", std::process::id()));
     std::fs::create_dir_all(dir.join("www")).unwrap();
-    let layout = Path::new(env!("CARGO_MANIFEST_DIR")).join("www/presets/paraboloid-f5.json");
-    let mut child = Command::new(EXE)
-        .args(["serve", "--port", "0", "--root"])
+    let layout = Path::new(env!("CARGO_MANIFEST_DIR")).join("www/presets").join(preset);
+    let child = Command::new(EXE)
+        .args(["serve", "--port", "0"])
+        .args(extra)
+        .arg("--root")
         .arg(dir.join("www"))
         .arg("--open")
         .arg(&layout)
@@ -216,6 +219,12 @@ fn open_prints_the_share_link() {
         .stderr(Stdio::null())
         .spawn()
         .unwrap();
+    (dir, layout, child)
+}
+
+#[test]
+fn open_prints_the_share_link() {
+    let (dir, layout, mut child) = serve_opening("open", "paraboloid-f5.json", &[]);
     let rx = first_lines(&mut child);
     let mut found = None;
     for _ in 0..3 {
@@ -240,18 +249,7 @@ fn open_prints_the_share_link() {
 
 #[test]
 fn json_start_line_names_the_address_and_the_link() {
-    let dir = std::env::temp_dir().join(format!("catoptric-serve-json-{}", std::process::id()));
-    std::fs::create_dir_all(dir.join("www")).unwrap();
-    let layout = Path::new(env!("CARGO_MANIFEST_DIR")).join("www/presets/sphere-f5.json");
-    let mut child = Command::new(EXE)
-        .args(["serve", "--port", "0", "--json", "--root"])
-        .arg(dir.join("www"))
-        .arg("--open")
-        .arg(&layout)
-        .stdout(Stdio::piped())
-        .stderr(Stdio::null())
-        .spawn()
-        .unwrap();
+    let (dir, layout, mut child) = serve_opening("json", "sphere-f5.json", &["--json"]);
     let rx = first_lines(&mut child);
     let line = rx.recv_timeout(WAIT);
     let _ = child.kill();

@@ -1,4 +1,4 @@
-//! Review: sources (power, angular distribution, out-of-plane tilt),
+//! Sources (power, angular distribution, out-of-plane tilt),
 //! screens (shape, face, opacity, series) and determinism.
 
 mod layout_support;

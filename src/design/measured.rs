@@ -30,11 +30,11 @@
 //! `high` (glass to remove there); one below by more is `low` (its
 //! surroundings must come down).
 
-use super::{bad, checked, conic_reaches, conic_sag, finite, new_layout, positive, LAYOUT_RAYS, MAX_MM as MAX_LENGTH_MM};
+use super::{bad, checked, conic_reaches, conic_sag, finite, fit_piston_focus, new_layout, positive, star_beam, MAX_MM as MAX_LENGTH_MM};
 use crate::error::InputError;
 use crate::geometry::NaturalSpline;
 use crate::layout::{
-    ApertureSpec, Beam, Element, Form, Layout, Mirror, Pattern, ProfileSpec, Screen, ScreenShape, Source,
+    ApertureSpec, Element, Form, Layout, Mirror, ProfileSpec, Screen, ScreenShape,
 };
 use serde::Serialize;
 
@@ -231,17 +231,7 @@ pub fn measured_layout(name: &str, radius: f64, conic: f64, d: f64, departure: &
         shape: ScreenShape::Square,
         opaque: false,
     });
-    let beam = Source::Beam(Beam {
-        id: "on-axis".to_string(),
-        center: [0.0, -0.25 * radius],
-        direction_deg: 0.0,
-        out_of_plane_deg: 0.0,
-        diameter: d,
-        rays: LAYOUT_RAYS,
-        pattern: Pattern::Hex,
-        sun_half_angle_mrad: 0.0,
-        irradiance_w_m2: 1000.0,
-    });
+    let beam = star_beam("on-axis", [0.0, -0.25 * radius], 0.0, d);
     let notes = "Design conic plus the departure found by a test.".to_string();
     checked(new_layout(name.to_string(), notes, vec![Element::Mirror(m), screen], vec![beam]))
 }
@@ -288,20 +278,7 @@ pub fn zones_needing_work(
     }
     let grid = integrate_readings(radius, conic, a, readings)?;
     // Area-weighted least squares of Δz ≈ p + q ρ² over the grid.
-    let (mut sw, mut sx, mut sxx, mut sy, mut sxy) = (0.0, 0.0, 0.0, 0.0, 0.0);
-    for &[r, z] in &grid {
-        let w = r.max(1e-12);
-        let x = r * r;
-        let y = z - conic_sag(radius, conic, r);
-        sw += w;
-        sx += w * x;
-        sxx += w * x * x;
-        sy += w * y;
-        sxy += w * x * y;
-    }
-    let det = sw * sxx - sx * sx;
-    let q = if det.abs() > 0.0 { (sw * sxy - sx * sy) / det } else { 0.0 };
-    let p = (sy - q * sx) / sw;
+    let (p, q) = fit_piston_focus(grid.iter().map(|&[r, z]| (r.max(1e-12), r * r, z - conic_sag(radius, conic, r))));
     let step = a / RK_STEPS as f64;
     Ok(readings
         .iter()
@@ -355,24 +332,14 @@ pub fn departures_needing_work(knots: &[[f64; 2]], tolerance_nm: f64) -> Result<
         return Err(bad("csv", format!("needs between 2 and {MAX_ROWS} rows of radius, departure")));
     }
     let n = knots.len();
-    let (mut sw, mut sx, mut sxx, mut sy, mut sxy) = (0.0, 0.0, 0.0, 0.0, 0.0);
-    for i in 0..n {
+    let (p, q) = fit_piston_focus((0..n).map(|i| {
         let [r, y] = knots[i];
         let lo = if i == 0 { r } else { 0.5 * (r + knots[i - 1][0]) };
         let hi = if i + 1 == n { r } else { 0.5 * (r + knots[i + 1][0]) };
         // Annulus area between the midpoints (over π); the innermost row
         // keeps a sliver so a lone centre sample still counts.
-        let w = (hi * hi - lo * lo).max(1e-12 * r.max(1.0));
-        let x = r * r;
-        sw += w;
-        sx += w * x;
-        sxx += w * x * x;
-        sy += w * y;
-        sxy += w * x * y;
-    }
-    let det = sw * sxx - sx * sx;
-    let q = if det.abs() > 1e-30 * sxx.max(1.0) { (sw * sxy - sx * sy) / det } else { 0.0 };
-    let p = (sy - q * sx) / sw;
+        ((hi * hi - lo * lo).max(1e-12 * r.max(1.0)), r * r, y)
+    }));
     Ok(knots
         .iter()
         .map(|&[r, y]| {

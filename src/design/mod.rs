@@ -37,7 +37,7 @@ pub use zones::{
 
 use crate::error::InputError;
 use crate::geometry::Profile;
-use crate::layout::{validate, Element, Layout, Source, FORMAT_TAG, FORMAT_VERSION};
+use crate::layout::{validate, Beam, Element, Layout, Pattern, Source, FORMAT_TAG, FORMAT_VERSION};
 
 /// Wavelength of generated layouts and the default test wavelength, nm.
 pub const DEFAULT_WAVELENGTH_NM: f64 = 550.0;
@@ -88,7 +88,7 @@ pub(crate) fn conic_reaches(field: &str, radius: f64, conic: f64, a: f64) -> Res
         return Err(bad(
             field,
             format!(
-                "a conic with R = {radius} mm and K = {conic} ends at ρ = {limit:.4} mm, inside the semi-diameter {a} mm; use a smaller diameter or conic constant"
+                "a conic with R = {radius} mm and K = {conic} ends at ρ = {limit:.4} mm; the semi-diameter {a} mm must stay below that: use a smaller diameter or conic constant"
             ),
         ));
     }
@@ -138,4 +138,37 @@ pub(crate) fn checked(layout: Layout) -> Result<Layout, InputError> {
 /// positions) are never rounded.
 pub(crate) fn tidy(v: f64, step: f64) -> f64 {
     (v / step).ceil() * step
+}
+
+/// The collimated test beam (a star: no solar disk, 1000 W/m²) every
+/// designer puts in its layout.
+pub(crate) fn star_beam(id: &str, center: [f64; 2], direction_deg: f64, diameter: f64) -> Source {
+    Source::Beam(Beam {
+        id: id.to_string(),
+        center,
+        direction_deg,
+        out_of_plane_deg: 0.0,
+        diameter,
+        rays: LAYOUT_RAYS,
+        pattern: Pattern::Hex,
+        sun_half_angle_mrad: 0.0,
+        irradiance_w_m2: 1000.0,
+    })
+}
+
+/// Weighted least squares of y ≈ p + q·x over (w, x, y) samples; returns
+/// (p, q), with q = 0 when the xs do not spread (a single zone). Used with
+/// x = ρ² to take piston and focus out of a surface departure.
+pub(crate) fn fit_piston_focus(samples: impl Iterator<Item = (f64, f64, f64)>) -> (f64, f64) {
+    let (mut sw, mut sx, mut sxx, mut sy, mut sxy) = (0.0, 0.0, 0.0, 0.0, 0.0);
+    for (w, x, y) in samples {
+        sw += w;
+        sx += w * x;
+        sxx += w * x * x;
+        sy += w * y;
+        sxy += w * x * y;
+    }
+    let det = sw * sxx - sx * sx;
+    let q = if det.abs() > 1e-30 * sxx.max(1.0) { (sw * sxy - sx * sy) / det } else { 0.0 };
+    (if sw > 0.0 { (sy - q * sx) / sw } else { 0.0 }, q)
 }

@@ -47,10 +47,10 @@
 //! field angle a beam `off-axis` comes in at θ with its chief ray through
 //! the primary vertex.
 
-use super::{bad, checked, conic_reaches, conic_sag, finite, new_layout, positive, tidy, LAYOUT_RAYS};
+use super::{bad, checked, conic_reaches, conic_sag, finite, new_layout, positive, star_beam, tidy};
 use crate::error::InputError;
 use crate::layout::{
-    ApertureSpec, Beam, Element, Form, Layout, Mirror, Pattern, ProfileSpec, Screen, ScreenShape, Source,
+    ApertureSpec, Element, Form, Layout, Mirror, ProfileSpec, Screen, ScreenShape,
 };
 use serde::Serialize;
 
@@ -308,17 +308,7 @@ fn build_layout(
     let launch = tidy(sep + sec_sag + 0.05 * d_prim + 1.0, 1.0);
     let beam = |id: &str, deg: f64| {
         let (s, c) = deg.to_radians().sin_cos();
-        Source::Beam(Beam {
-            id: id.to_string(),
-            center: [-launch * s + 0.0, -launch * c],
-            direction_deg: deg,
-            out_of_plane_deg: 0.0,
-            diameter: d_prim,
-            rays: LAYOUT_RAYS,
-            pattern: Pattern::Hex,
-            sun_half_angle_mrad: 0.0,
-            irradiance_w_m2: 1000.0,
-        })
+        star_beam(id, [-launch * s + 0.0, -launch * c], deg, d_prim)
     };
     let mut sources = vec![beam("on-axis", 0.0)];
     if field > 0.0 {

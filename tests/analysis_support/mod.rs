@@ -1,7 +1,9 @@
 //! Layout builders shared by the analysis tests.
 #![allow(dead_code)]
 
-use catoptric::{parse_layout, trace, Scene, TraceOptions, TraceResult};
+#[path = "../common/mod.rs"]
+mod common;
+pub use common::*;
 
 /// A revolved (or extruded) mirror facing −z with its vertex at z = `z`.
 pub fn mirror(id: &str, z: f64, radius: f64, conic: f64, diameter: f64, extruded_length: Option<f64>) -> String {
@@ -40,20 +42,5 @@ pub fn layout(elements: &[String], sources: &[String]) -> String {
     )
 }
 
-/// Parses, validates and compiles a layout text.
-pub fn scene(text: &str) -> Scene {
-    let l = parse_layout(text).unwrap_or_else(|e| panic!("test layout rejected: {e}"));
-    Scene::compile(&l)
-}
 
-/// Compiles and traces with each source's own ray count.
-pub fn run(text: &str) -> (Scene, TraceResult) {
-    let s = scene(text);
-    let r = trace(&s, TraceOptions::default());
-    (s, r)
-}
 
-/// Relative error |a − b| / |b|.
-pub fn rel(a: f64, b: f64) -> f64 {
-    (a - b).abs() / b.abs()
-}

@@ -8,38 +8,24 @@
 
 import { after, before, describe, test } from 'node:test';
 import assert from 'node:assert/strict';
-import { execFileSync } from 'node:child_process';
-import { mkdtempSync, readFileSync, rmSync, writeFileSync } from 'node:fs';
-import { tmpdir } from 'node:os';
+import { readFileSync, writeFileSync } from 'node:fs';
 import { join } from 'node:path';
-import { WWW, launchBrowser, serverBinary, startServer, watchPage } from './harness.mjs';
+import { WWW, close, native, setUp, settled, tearDown, watchPage } from './harness.mjs';
 
-const READY_MS = 60_000;
+let env;
 let server;
 let browser;
 let origin;
 let scratch;
 
 before(async () => {
-  server = await startServer();
-  origin = server.url.slice(0, -1);
-  browser = await launchBrowser();
-  scratch = mkdtempSync(join(tmpdir(), 'catoptric-analysis-'));
+  env = await setUp('catoptric-analysis-');
+  ({ server, browser, origin, scratch } = env);
 });
 
-after(async () => {
-  await browser?.close();
-  await server?.stop();
-  if (scratch) rmSync(scratch, { recursive: true, force: true });
-});
+after(() => tearDown(env));
 
-function native(args) {
-  return execFileSync(serverBinary(), args, { encoding: 'utf8' });
-}
 
-function close(a, b) {
-  return Math.abs(a - b) <= 1e-6 * Math.max(Math.abs(a), Math.abs(b)) + 1e-9;
-}
 
 const preset = (file) => join(WWW, 'presets', file);
 
@@ -63,12 +49,6 @@ async function openLayout(path) {
   return { ctx, page, seen };
 }
 
-async function settled(page) {
-  await page.waitForFunction(
-    () => document.body.dataset.ready === 'true' && document.body.dataset.trace === 'full',
-    null, { timeout: READY_MS },
-  );
-}
 
 /** Opens the drawer on view `id` and waits until its figures are drawn. */
 async function showView(page, id) {

@@ -17,40 +17,26 @@
 
 import { after, before, describe, test } from 'node:test';
 import assert from 'node:assert/strict';
-import { execFileSync } from 'node:child_process';
-import { mkdirSync, mkdtempSync, readFileSync, rmSync, writeFileSync } from 'node:fs';
-import { tmpdir } from 'node:os';
+import { mkdirSync, readFileSync, writeFileSync } from 'node:fs';
 import { join } from 'node:path';
-import { launchBrowser, serverBinary, startServer, watchPage } from './harness.mjs';
+import { READY_MS, close, native, setUp, settled, tearDown, watchPage } from './harness.mjs';
 
-const READY_MS = 30_000;
 const SHOTS = process.env.CATOPTRIC_SHOTS || '';
+let env;
 let server;
 let browser;
 let origin;
 let scratch;
 
 before(async () => {
-  server = await startServer();
-  origin = server.url.slice(0, -1);
-  browser = await launchBrowser();
-  scratch = mkdtempSync(join(tmpdir(), 'catoptric-design-'));
+  env = await setUp('catoptric-design-');
+  ({ server, browser, origin, scratch } = env);
   if (SHOTS) mkdirSync(SHOTS, { recursive: true });
 });
 
-after(async () => {
-  await browser?.close();
-  await server?.stop();
-  if (scratch) rmSync(scratch, { recursive: true, force: true });
-});
+after(() => tearDown(env));
 
-function native(args) {
-  return execFileSync(serverBinary(), args, { encoding: 'utf8' });
-}
 
-function close(a, b) {
-  return Math.abs(a - b) <= 1e-6 * Math.max(Math.abs(a), Math.abs(b)) + 1e-9;
-}
 
 /** Asserts a page value equals a native one (numbers, arrays, strings). */
 function same(got, want, what) {
@@ -89,12 +75,6 @@ async function openView(view) {
   return { ctx, page, seen };
 }
 
-async function settled(page) {
-  await page.waitForFunction(
-    () => document.body.dataset.ready === 'true' && document.body.dataset.trace === 'full',
-    null, { timeout: READY_MS },
-  );
-}
 
 /** Fills named fields of a form and waits until its output is computed. */
 async function fill(page, formId, outSel, values) {

@@ -8,8 +8,9 @@
 // else the newer of target/release/catoptric and target/debug/catoptric
 // (under $CARGO_TARGET_DIR when set).
 
-import { spawn } from 'node:child_process';
-import { existsSync, statSync } from 'node:fs';
+import { execFileSync, spawn } from 'node:child_process';
+import { existsSync, mkdtempSync, rmSync, statSync } from 'node:fs';
+import { tmpdir } from 'node:os';
 import { createRequire } from 'node:module';
 import { dirname, join, resolve } from 'node:path';
 import { fileURLToPath } from 'node:url';
@@ -121,4 +122,48 @@ export function watchPage(page, origin) {
     if (!u.startsWith(origin) && !u.startsWith('data:') && !u.startsWith('blob:')) external.push(u);
   });
   return { errors, external };
+}
+
+/** Longest wait for the page to finish its full trace, ms. */
+export const READY_MS = 60_000;
+
+/** Waits until the page has traced its current layout with the full ray count. */
+export async function settled(page, timeout = READY_MS) {
+  await page.waitForFunction(
+    () => document.body.dataset.ready === 'true' && document.body.dataset.trace === 'full',
+    null, { timeout },
+  );
+}
+
+/** Runs the native `catoptric` with `args` and returns its stdout. */
+export function native(args) {
+  return execFileSync(serverBinary(), args, { encoding: 'utf8' });
+}
+
+/**
+ * Equality of one figure computed by the same Rust core built for two
+ * targets (common practice): a relative 1e-6, plus 1e-9 in the figure's unit
+ * for values that are rounding noise around zero.
+ */
+export function close(a, b) {
+  return Math.abs(a - b) <= 1e-6 * Math.max(Math.abs(a), Math.abs(b)) + 1e-9;
+}
+
+/**
+ * What a test file needs before its first test: the page server, a browser,
+ * the page origin and (with `scratchPrefix`) a scratch folder. Pair with
+ * tearDown().
+ */
+export async function setUp(scratchPrefix) {
+  const server = await startServer();
+  const browser = await launchBrowser();
+  const scratch = scratchPrefix ? mkdtempSync(join(tmpdir(), scratchPrefix)) : undefined;
+  return { server, browser, origin: server.url.slice(0, -1), scratch };
+}
+
+/** Closes what setUp() opened; safe on a partial set-up. */
+export async function tearDown(env) {
+  await env?.browser?.close();
+  await env?.server?.stop();
+  if (env?.scratch) rmSync(env.scratch, { recursive: true, force: true });
 }

@@ -4,30 +4,20 @@
 
 import { after, before, describe, test } from 'node:test';
 import assert from 'node:assert/strict';
-import { launchBrowser, startServer, watchPage } from './harness.mjs';
+import { READY_MS, setUp, settled, tearDown, watchPage } from './harness.mjs';
 
-const READY_MS = 30_000;
+let env;
 let server;
 let browser;
 let origin;
 
 before(async () => {
-  server = await startServer();
-  origin = server.url.slice(0, -1);
-  browser = await launchBrowser();
+  env = await setUp();
+  ({ server, browser, origin } = env);
 });
 
-after(async () => {
-  await browser?.close();
-  await server?.stop();
-});
+after(() => tearDown(env));
 
-async function settled(page) {
-  await page.waitForFunction(
-    () => document.body.dataset.ready === 'true' && document.body.dataset.trace === 'full',
-    null, { timeout: READY_MS },
-  );
-}
 
 /** A fresh context at 1280×800 with the first example (200 mm f/5 paraboloid). */
 async function openPage() {

@@ -11,31 +11,23 @@
 
 import { after, before, describe, test } from 'node:test';
 import assert from 'node:assert/strict';
-import { execFileSync } from 'node:child_process';
-import { mkdtempSync, readFileSync, rmSync, writeFileSync } from 'node:fs';
-import { tmpdir } from 'node:os';
+import { readFileSync, writeFileSync } from 'node:fs';
 import { join } from 'node:path';
 import { deflateRawSync } from 'node:zlib';
-import { WWW, launchBrowser, serverBinary, startServer, watchPage } from './harness.mjs';
+import { WWW, close, native, setUp, settled, tearDown, watchPage } from './harness.mjs';
 
-const READY_MS = 30_000;
+let env;
 let server;
 let browser;
 let origin;
 let scratch;
 
 before(async () => {
-  server = await startServer();
-  origin = server.url.slice(0, -1);
-  browser = await launchBrowser();
-  scratch = mkdtempSync(join(tmpdir(), 'catoptric-web-'));
+  env = await setUp('catoptric-web-');
+  ({ server, browser, origin, scratch } = env);
 });
 
-after(async () => {
-  await browser?.close();
-  await server?.stop();
-  if (scratch) rmSync(scratch, { recursive: true, force: true });
-});
+after(() => tearDown(env));
 
 /** A fresh browser context (empty storage) with the page opened at `hash`. */
 async function openPage(hash = '', { context } = {}) {
@@ -47,13 +39,6 @@ async function openPage(hash = '', { context } = {}) {
   return { ctx, page, seen };
 }
 
-/** Waits until the page has traced its current layout with the full ray count. */
-async function settled(page) {
-  await page.waitForFunction(
-    () => document.body.dataset.ready === 'true' && document.body.dataset.trace === 'full',
-    null, { timeout: READY_MS },
-  );
-}
 
 /** Every statistics cell: "screen|source|key" -> value. */
 async function readStats(page) {
@@ -70,13 +55,7 @@ async function layoutOf(page) {
   return page.evaluate(() => JSON.parse(window.catoptric.session.layout_json()));
 }
 
-function native(args) {
-  return execFileSync(serverBinary(), args, { encoding: 'utf8' });
-}
 
-function close(a, b) {
-  return Math.abs(a - b) <= 1e-6 * Math.max(Math.abs(a), Math.abs(b)) + 1e-9;
-}
 
 /** Asserts the page's cells match the native report (and that there are some). */
 function assertMatchesNative(stats, report) {

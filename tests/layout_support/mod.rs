@@ -3,7 +3,11 @@
 
 use catoptric::geometry::{reflect, Frame, Vec3};
 use catoptric::scene::Part;
-use catoptric::{parse_layout, trace, Scene, TraceOptions, TraceResult};
+use catoptric::{Scene, TraceResult};
+
+#[path = "../common/mod.rs"]
+mod common;
+pub use common::*;
 use serde_json::{json, Value};
 
 /// A mirror element. `length` Some(l) makes it extruded.
@@ -47,21 +51,12 @@ pub fn beam(id: &str, center: [f64; 2], direction_deg: f64, diameter: f64, rays:
 }
 
 pub fn layout(elements: &[Value], sources: &[Value]) -> String {
-    json!({ "format": "catoptric-layout", "version": 1, "name": "review", "wavelength_nm": 550,
+    json!({ "format": "catoptric-layout", "version": 1, "name": "test layout", "wavelength_nm": 550,
             "max_bounces": 16, "elements": elements, "sources": sources })
     .to_string()
 }
 
-pub fn scene(text: &str) -> Scene {
-    let l = parse_layout(text).unwrap_or_else(|e| panic!("test layout rejected: {e}"));
-    Scene::compile(&l)
-}
 
-pub fn run(text: &str) -> (Scene, TraceResult) {
-    let s = scene(text);
-    let r = trace(&s, TraceOptions::default());
-    (s, r)
-}
 
 /// A placement of a mirror's local frame in the layout plane.
 #[derive(Debug, Clone, Copy)]
@@ -143,27 +138,4 @@ pub fn bounce(scene: &Scene, index: usize, o: &Vec3, d: &Vec3) -> Option<(Vec3, 
     }
     let r = reflect(&ld, &h.normal);
     Some((e.frame.to_world_point(&h.point), e.frame.to_world_dir(&r).normalize()))
-}
-
-/// Relative error |a − b| / |b|.
-pub fn rel(a: f64, b: f64) -> f64 {
-    (a - b).abs() / b.abs().max(1e-300)
-}
-
-/// Small deterministic generator (SplitMix64).
-pub struct Rng(pub u64);
-impl Rng {
-    pub fn next(&mut self) -> f64 {
-        self.0 = self.0.wrapping_add(0x9e37_79b9_7f4a_7c15);
-        let mut z = self.0;
-        z = (z ^ (z >> 30)).wrapping_mul(0xbf58_476d_1ce4_e5b9);
-        z = (z ^ (z >> 27)).wrapping_mul(0x94d0_49bb_1331_11eb);
-        ((z ^ (z >> 31)) >> 11) as f64 / (1u64 << 53) as f64
-    }
-    pub fn range(&mut self, a: f64, b: f64) -> f64 {
-        a + (b - a) * self.next()
-    }
-    pub fn int(&mut self, n: u64) -> u64 {
-        ((self.next() * n as f64) as u64).min(n - 1)
-    }
 }

@@ -13,6 +13,7 @@ import { DesignersView } from './views/designers.js';
 import { FocusView } from './views/focus.js';
 import { EnergyView } from './views/energy.js';
 import { FluxView } from './views/flux.js';
+import { prepareCanvas } from './views/plot.js';
 
 /** Tab order; views and planned tabs are sorted into it. */
 const TAB_ORDER = ['spot', 'focus', 'energy', 'flux', 'conics', 'testing', 'designers'];
@@ -189,18 +190,10 @@ class SpotView {
     if (!app || !this.canvas) return;
     if (document.getElementById('drawer')?.dataset.open !== 'true') return;
     const cv = this.canvas;
-    const r = cv.getBoundingClientRect();
-    if (r.width < 2 || r.height < 2) return;
-    const dpr = window.devicePixelRatio || 1;
-    cv.width = Math.round(r.width * dpr);
-    cv.height = Math.round(r.height * dpr);
-    const ctx = cv.getContext('2d');
-    ctx.setTransform(dpr, 0, 0, dpr, 0, 0);
     const th = app.theme;
-    const W = r.width, H = r.height;
-    ctx.fillStyle = th.bg;
-    ctx.fillRect(0, 0, W, H);
-    ctx.font = '12px system-ui, sans-serif';
+    const prep = prepareCanvas(cv, 2, th.bg);
+    if (!prep) return;
+    const { ctx, W, H } = prep;
     this.legend.replaceChildren();
     const res = app.result;
     const sc = res?.report?.screens?.[app.spotScreen];

@@ -23,7 +23,7 @@ enum Cmd {
         /// Layout file (.json).
         layout: String,
         /// Rays per source, instead of each source's own count.
-        #[arg(long)]
+        #[arg(long, allow_negative_numbers = true)]
         rays: Option<u64>,
         /// Machine-readable output.
         #[arg(long)]

@@ -8,6 +8,7 @@ import { denoise, fmtNum } from '../format.js';
 import { download, slug } from '../export.js';
 import { niceStep } from '../editor.js';
 import { sourceColour } from '../palette.js';
+import { prepareCanvas } from './plot.js';
 
 /** Text of a thrown error. */
 export function errText(e) {
@@ -294,17 +295,9 @@ export function saveCsv(app, what, text) {
  * with units. Colours follow the source palette by series index.
  */
 export function linePlot(canvas, theme, { series, xLabel, yLabel, empty }) {
-  const r = canvas.getBoundingClientRect();
-  if (r.width < 2 || r.height < 2) return;
-  const dpr = window.devicePixelRatio || 1;
-  canvas.width = Math.round(r.width * dpr);
-  canvas.height = Math.round(r.height * dpr);
-  const ctx = canvas.getContext('2d');
-  ctx.setTransform(dpr, 0, 0, dpr, 0, 0);
-  const W = r.width, H = r.height;
-  ctx.fillStyle = theme.bg;
-  ctx.fillRect(0, 0, W, H);
-  ctx.font = '12px system-ui, sans-serif';
+  const prep = prepareCanvas(canvas, 2, theme.bg);
+  if (!prep) return;
+  const { ctx, W, H } = prep;
   if (!series?.length) {
     ctx.fillStyle = theme.ink2;
     ctx.textAlign = 'center';

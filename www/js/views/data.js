@@ -81,6 +81,23 @@ export function visible(panel) {
 }
 
 /**
+ * The side column of an analysis view: a tool row with the source picker
+ * and a note. Returns { side, picker, note }; the caller appends the rest.
+ */
+export function viewSide(app) {
+  const side = document.createElement('div');
+  side.className = 'view-side';
+  const tools = document.createElement('div');
+  tools.className = 'view-tools';
+  const picker = sourcePicker(app);
+  const note = document.createElement('span');
+  note.className = 'muted';
+  tools.append(picker, note);
+  side.append(tools);
+  return { side, picker, note };
+}
+
+/**
  * A <select> of the sources that reach the chosen screen; picking one makes
  * it the source of every analysis view.
  */

@@ -5,7 +5,7 @@
 import { sourceColour } from '../palette.js';
 import { denoise, fmtNum, withUnit } from '../format.js';
 import { LinePlot } from './plot.js';
-import { chosen, figureList, sourcePicker, unpair, visible } from './data.js';
+import { chosen, figureList, unpair, viewSide, visible } from './data.js';
 
 /** Maréchal criterion: RMS wavefront error ≤ λ/14 (Born & Wolf, Principles of Optics). */
 export const MARECHAL_WAVES = 1 / 14;
@@ -23,18 +23,13 @@ export class EnergyView {
     el.classList.add('view');
     this.plot = new LinePlot('Encircled energy against radius');
     this.plot.canvas.id = 'energy-canvas';
-    const side = document.createElement('div');
-    side.className = 'view-side';
-    const tools = document.createElement('div');
-    tools.className = 'view-tools';
-    this.picker = sourcePicker(app);
-    this.note = document.createElement('span');
-    this.note.className = 'muted';
-    tools.append(this.picker, this.note);
+    const { side, picker, note } = viewSide(app);
+    this.picker = picker;
+    this.note = note;
     this.verdict = document.createElement('div');
     this.verdict.id = 'energy-verdict';
     this.figs = document.createElement('div');
-    side.append(tools, this.verdict, this.figs);
+    side.append(this.verdict, this.figs);
     el.append(this.plot.el, side);
   }
 

@@ -6,7 +6,7 @@
 
 import { colour_map_rgba } from '../../pkg/catoptric.js';
 import { fmtNum, withUnit } from '../format.js';
-import { ticks, tickLabel } from './plot.js';
+import { prepareCanvas, ticks, tickLabel } from './plot.js';
 import { chosen, figureList, visible } from './data.js';
 import { CONCENTRATION_CAUTION_SUNS } from './cautions.js';
 
@@ -105,17 +105,10 @@ export class FluxView {
   draw() {
     const app = this.app, cv = this.canvas;
     if (!app || !cv || !visible(this.panel)) return;
-    const r = cv.getBoundingClientRect();
-    if (r.width < 60 || r.height < 60) return;
-    const dpr = window.devicePixelRatio || 1;
-    cv.width = Math.round(r.width * dpr);
-    cv.height = Math.round(r.height * dpr);
-    const ctx = cv.getContext('2d');
-    ctx.setTransform(dpr, 0, 0, dpr, 0, 0);
-    const th = app.theme, W = r.width, H = r.height;
-    ctx.fillStyle = th.bg;
-    ctx.fillRect(0, 0, W, H);
-    ctx.font = '12px system-ui, sans-serif';
+    const th = app.theme;
+    const prep = prepareCanvas(cv, 60, th.bg);
+    if (!prep) return;
+    const { ctx, W, H } = prep;
     const c = this.current ?? chosen(app);
     const f = c.flux;
     const centre = (msg) => { ctx.fillStyle = th.ink2; ctx.textAlign = 'center'; ctx.fillText(msg, W / 2, H / 2); ctx.textAlign = 'left'; };

@@ -5,7 +5,7 @@
 import { sourceColour } from '../palette.js';
 import { fmtNum, withUnit } from '../format.js';
 import { LinePlot } from './plot.js';
-import { chosen, figureList, sourcePicker, unpair, visible } from './data.js';
+import { chosen, figureList, unpair, viewSide, visible } from './data.js';
 
 /** Meridional rays of the longitudinal aberration curve (odd: one on axis). */
 export const LONGITUDINAL_RAYS = 101;
@@ -27,21 +27,16 @@ export class FocusView {
     this.tf.canvas.id = 'focus-canvas';
     this.lp = new LinePlot('Longitudinal aberration: axial crossing against pupil height');
     this.lp.canvas.id = 'longitudinal-canvas';
-    const side = document.createElement('div');
-    side.className = 'view-side';
-    const tools = document.createElement('div');
-    tools.className = 'view-tools';
-    this.picker = sourcePicker(app);
-    this.note = document.createElement('span');
-    this.note.className = 'muted';
-    tools.append(this.picker, this.note);
+    const { side, picker, note } = viewSide(app);
+    this.picker = picker;
+    this.note = note;
     this.figs = document.createElement('div');
     const help = document.createElement('p');
     help.className = 'muted small';
     help.textContent = 'Shifts and crossings are along the screen’s axis: positive toward the arriving light, '
       + 'negative beyond the screen. The through-focus curve moves the screen plane along straight ray '
       + 'paths; the longitudinal aberration traces a fan of rays across the pupil.';
-    side.append(tools, this.figs, help);
+    side.append(this.figs, help);
     el.append(this.tf.el, this.lp.el, side);
   }
 

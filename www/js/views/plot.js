@@ -12,6 +12,27 @@
 import { niceStep } from '../editor.js';
 import { fmtNum } from '../format.js';
 
+/**
+ * Sizes `canvas` to its on-page box at the device pixel ratio, clears it to
+ * `bg` and sets the plot font. Returns { ctx, W, H } in CSS pixels, or null
+ * when the box is smaller than `minSide` (hidden or collapsed).
+ */
+export function prepareCanvas(canvas, minSide, bg) {
+  const r = canvas.getBoundingClientRect();
+  if (r.width < minSide || r.height < minSide) return null;
+  const dpr = window.devicePixelRatio || 1;
+  canvas.width = Math.round(r.width * dpr);
+  canvas.height = Math.round(r.height * dpr);
+  const ctx = canvas.getContext('2d');
+  ctx.setTransform(dpr, 0, 0, dpr, 0, 0);
+  const W = r.width, H = r.height;
+  ctx.fillStyle = bg;
+  ctx.fillRect(0, 0, W, H);
+  ctx.font = '12px system-ui, sans-serif';
+  return { ctx, W, H };
+}
+
+
 const M = { left: 62, right: 14, top: 24, bottom: 38 };
 const MINUS = '\u2212';
 
@@ -84,17 +105,9 @@ export class LinePlot {
     const cv = this.canvas, spec = this.spec, th = this.theme;
     this.hoverText = null;
     if (!spec || !th) return;
-    const r = cv.getBoundingClientRect();
-    if (r.width < 40 || r.height < 40) return;
-    const dpr = window.devicePixelRatio || 1;
-    cv.width = Math.round(r.width * dpr);
-    cv.height = Math.round(r.height * dpr);
-    const ctx = cv.getContext('2d');
-    ctx.setTransform(dpr, 0, 0, dpr, 0, 0);
-    const W = r.width, H = r.height;
-    ctx.fillStyle = th.bg;
-    ctx.fillRect(0, 0, W, H);
-    ctx.font = '12px system-ui, sans-serif';
+    const prep = prepareCanvas(cv, 40, th.bg);
+    if (!prep) return;
+    const { ctx, W, H } = prep;
     if (spec.title) {
       ctx.fillStyle = th.ink;
       ctx.fillText(spec.title, M.left, 15);
