@@ -174,7 +174,7 @@ pub const FRAME_CAUSTIC_SIZE: (usize, usize) = (700, 450);
 /// and in wasm.
 pub fn page_frame(layout: &Layout) -> usize {
     let scene = crate::Scene::compile(layout);
-    let res = crate::trace(&scene, crate::TraceOptions { rays: Some(FRAME_RAYS) });
+    let res = crate::trace(&scene, crate::TraceOptions { rays: Some(FRAME_RAYS), ..Default::default() });
     let analyses = crate::analysis::analyse_all(&scene, &res);
     let fan = crate::trace::trace_fan(&scene, FRAME_FAN_RAYS, None);
     let half = 0.5 * scene.scale;
@@ -254,7 +254,7 @@ mod tests {
         // Optics, 7th ed., §8.5.2).
         for (layout, n) in [(paraboloid_f4(), 4.0), (two_mirror(), 16.0)] {
             let scene = Scene::compile(&layout);
-            let res = trace(&scene, TraceOptions { rays: Some(4000) });
+            let res = trace(&scene, TraceOptions { rays: Some(4000), ..Default::default() });
             let hits = &res.screens[0];
             assert!(hits.len() > 1000, "{}: {} hits", layout.name, hits.len());
             let airy_mm = 1.22 * 550e-6 * n;
@@ -274,7 +274,7 @@ mod tests {
         let rho = 2.0 * f / (1.0 + psi.cos());
         let limit = rho * ts.sin() / (psi + ts).cos();
         let scene = Scene::compile(&solar_dish());
-        let res = trace(&scene, TraceOptions { rays: Some(20_000) });
+        let res = trace(&scene, TraceOptions { rays: Some(20_000), ..Default::default() });
         let hits = &res.screens[0];
         let r_max = hits.u.iter().zip(&hits.v).map(|(u, v)| u.hypot(*v)).fold(0.0, f64::max);
         assert!(r_max <= limit * (1.0 + 1e-3), "r_max {r_max} mm, limit {limit} mm");

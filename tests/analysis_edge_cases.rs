@@ -155,7 +155,7 @@ fn two_mirror_designs_over_a_range_of_parameters() {
                 }
                 // Trace the generated layout.
                 let scene = Scene::compile(&des.layout);
-                let res = trace(&scene, TraceOptions { rays: Some(6000) });
+                let res = trace(&scene, TraceOptions { rays: Some(6000), ..Default::default() });
                 let h = &res.screens[0];
                 let open = 1.0 - des.obstruction_fraction.powi(2);
                 assert!(h.len() as f64 > 0.9 * open * res.rays_launched as f64, "{what}: {} hits", h.len());

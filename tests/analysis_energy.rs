@@ -13,9 +13,9 @@ fn uniform_disk_encloses_r_squared() {
     let a = 0.05;
     let pts = disk_points(Pattern::Random, 200_000, 7);
     let mut h = ScreenHits::default();
-    for p in &pts {
-        h.u.push(1.0 + a * p[0]);
-        h.v.push(-2.0 + a * p[1]);
+    for (x, y) in pts.x.iter().zip(&pts.y) {
+        h.u.push(1.0 + a * x);
+        h.v.push(-2.0 + a * y);
         h.du.push(0.0);
         h.dv.push(0.0);
         h.dw.push(-1.0);

@@ -122,7 +122,7 @@ fn measured_layout_traces_like_the_surface_it_carries() {
         let l = measured_layout("test", R, k, D, dep).unwrap();
         let l = parse_layout(&l.to_json_pretty()).unwrap();
         let scene = Scene::compile(&l);
-        let res = trace(&scene, TraceOptions { rays: Some(5000) });
+        let res = trace(&scene, TraceOptions { rays: Some(5000), ..Default::default() });
         spot_stats(&res.screens[0], Some(0)).rms_radius
     };
     let zero = [[0.0, 0.0], [100.0, 0.0]];

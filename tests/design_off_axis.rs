@@ -56,7 +56,7 @@ fn traced_segment_focuses_perfectly_at_the_reported_distance() {
         let d = design(f, h, dia);
         let layout = parse_layout(&d.layout.to_json_pretty()).expect("layout parses");
         let scene = Scene::compile(&layout);
-        let res = trace(&scene, TraceOptions { rays: Some(20_000) });
+        let res = trace(&scene, TraceOptions { rays: Some(20_000), ..Default::default() });
         let st = spot_stats(&res.screens[0], Some(0));
         assert!(st.hits as f64 > 0.95 * res.rays_launched as f64, "h {h}: {} of {}", st.hits, res.rays_launched);
         assert!(st.rms_radius < 1e-5, "h {h}: RMS {} µm", st.rms_radius * 1e3);

@@ -30,7 +30,7 @@ fn design(kind: TwoMirrorKind, field: f64) -> TwoMirrorDesign {
 /// RMS spot radius (mm) of `source` on the screen `focus`.
 fn rms_at_focus(d: &TwoMirrorDesign, source: &str, rays: usize) -> (f64, u64) {
     let scene = Scene::compile(&d.layout);
-    let res = trace(&scene, TraceOptions { rays: Some(rays) });
+    let res = trace(&scene, TraceOptions { rays: Some(rays), ..Default::default() });
     let si = scene.screen_ids.iter().position(|s| s == "focus").expect("screen focus");
     let src = d.layout.sources.iter().position(|s| s.id() == source).expect("source") as u32;
     let st = spot_stats(&res.screens[si], Some(src));

@@ -189,7 +189,7 @@ fn mutate(v: &mut Value, rng: &mut Rng) {
 fn exercise(text: &str) {
     if let Ok(l) = parse_layout(text) {
         let scene = Scene::compile(&l);
-        let r = trace(&scene, TraceOptions { rays: Some(16) });
+        let r = trace(&scene, TraceOptions { rays: Some(16), ..Default::default() });
         assert_eq!(r.rays_launched, r.rays_escaped + r.rays_absorbed);
         let _ = catoptric::trace::trace_fan(&scene, 8, None);
         let _ = catoptric::analysis::trace_report(&scene, &r);

@@ -73,7 +73,7 @@ pub fn trace_meridional(scene: &Scene, source: usize, n: usize) -> Option<TraceR
         .collect();
     let mut probe_scene = scene.clone();
     probe_scene.sources = probes;
-    Some(trace(&probe_scene, TraceOptions { rays: Some(1) }))
+    Some(trace(&probe_scene, TraceOptions { rays: Some(1), ..Default::default() }))
 }
 
 /// The longitudinal aberration of `n` meridional rays of source number

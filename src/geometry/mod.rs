@@ -44,6 +44,15 @@ pub const SAG_SOLVE_MAX_ITER: usize = 80;
 /// Pieces of the in-slab path scanned for a sign change.
 pub const SAG_BRACKET_STEPS: usize = 24;
 
+/// `v` scaled to unit length: one square root and one division (the
+/// tracers' normals and directions all go through this, so the batched
+/// and reference tracers round alike).
+#[inline(always)]
+pub fn unit(v: &Vec3) -> Vec3 {
+    let inv = 1.0 / (v.x * v.x + v.y * v.y + v.z * v.z).sqrt();
+    Vec3::new(v.x * inv, v.y * inv, v.z * inv)
+}
+
 /// Mirror reflection of `d` about unit normal `n`: d − 2(d·n)n.
 #[inline]
 pub fn reflect(d: &Vec3, n: &Vec3) -> Vec3 {

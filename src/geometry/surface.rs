@@ -2,7 +2,7 @@
 
 use super::aperture::slab;
 use super::{
-    solve_quadratic, Aperture, Profile, Sag, Vec3, SAG_BRACKET_STEPS, SAG_SOLVE_MAX_ITER, SAG_SOLVE_REL,
+    solve_quadratic, unit, Aperture, Profile, Sag, Vec3, SAG_BRACKET_STEPS, SAG_SOLVE_MAX_ITER, SAG_SOLVE_REL,
 };
 
 /// A ray–surface hit in local coordinates: `point = o + t·d`, `normal` unit
@@ -61,20 +61,20 @@ impl MirrorSurface {
 
     /// Unit normal at a local surface point.
     #[inline]
-    fn normal_at(&self, p: &Vec3) -> Vec3 {
+    pub fn normal_at(&self, p: &Vec3) -> Vec3 {
         if self.conic {
             // Gradient of the quadric c(x²+y²) − 2z + (1+K)c z², negated.
             let nx = if self.extruded { 0.0 } else { -self.profile.c * p.x };
-            Vec3::new(nx, -self.profile.c * p.y, 1.0 - self.kappa * p.z).normalize()
+            unit(&Vec3::new(nx, -self.profile.c * p.y, 1.0 - self.kappa * p.z))
         } else if self.extruded {
-            Vec3::new(0.0, -self.profile.slope(p.y), 1.0).normalize()
+            unit(&Vec3::new(0.0, -self.profile.slope(p.y), 1.0))
         } else {
             let rho = (p.x * p.x + p.y * p.y).sqrt();
             if rho == 0.0 {
                 return Vec3::new(0.0, 0.0, 1.0);
             }
             let s = self.profile.slope(rho) / rho;
-            Vec3::new(-s * p.x, -s * p.y, 1.0).normalize()
+            unit(&Vec3::new(-s * p.x, -s * p.y, 1.0))
         }
     }
 

@@ -2,6 +2,7 @@
 //! lattices, and a seeded low-discrepancy (Halton) sequence.
 
 use crate::layout::Pattern;
+use std::sync::{Arc, Mutex, OnceLock};
 
 /// Radical inverse of `i` in `base` (the Halton sequence's coordinate).
 #[inline]
@@ -103,67 +104,187 @@ pub fn halton_disk(i: u64, bases: (u64, u64), rot: (f64, f64)) -> [f64; 2] {
 
 /// About `n` points on the unit disk in the given pattern (exactly `n` for
 /// `random`; lattices keep the points that fall inside the disk, with the
-/// spacing tuned so the count is close to `n`).
-pub fn disk_points(pattern: Pattern, n: usize, seed: u64) -> Vec<[f64; 2]> {
-    let n = n.max(1);
+/// spacing tuned so the count is close to `n`). The last few point sets
+/// are kept and shared: re-tracing the same sources lays no new points.
+pub fn disk_points(pattern: Pattern, n: usize, seed: u64) -> Arc<DiskPoints> {
+    let key = (pattern, n.max(1), if pattern == Pattern::Random { seed } else { 0 });
+    let cache = CACHE.get_or_init(|| Mutex::new(Vec::new()));
+    if let Ok(c) = cache.lock() {
+        if let Some((_, p)) = c.iter().find(|(k, _)| *k == key) {
+            return Arc::clone(p);
+        }
+    }
+    let pts = Arc::new(lay_points(pattern, key.1, seed));
+    if let Ok(mut c) = cache.lock() {
+        if c.len() >= CACHE_SETS {
+            c.remove(0);
+        }
+        c.push((key, Arc::clone(&pts)));
+    }
+    pts
+}
+
+/// Point sets kept by [`disk_points`].
+const CACHE_SETS: usize = 8;
+type Key = (Pattern, usize, u64);
+type Cache = Mutex<Vec<(Key, Arc<DiskPoints>)>>;
+static CACHE: OnceLock<Cache> = OnceLock::new();
+
+/// Points on the unit disk as two columns (x, y), ready to be scaled
+/// into a batch of rays.
+#[derive(Debug, Clone, Default, PartialEq)]
+pub struct DiskPoints {
+    pub x: Vec<f64>,
+    pub y: Vec<f64>,
+}
+
+impl DiskPoints {
+    fn with_capacity(n: usize) -> DiskPoints {
+        DiskPoints { x: Vec::with_capacity(n), y: Vec::with_capacity(n) }
+    }
+    fn push(&mut self, x: f64, y: f64) {
+        self.x.push(x);
+        self.y.push(y);
+    }
+    pub fn len(&self) -> usize {
+        self.x.len()
+    }
+    pub fn is_empty(&self) -> bool {
+        self.x.is_empty()
+    }
+    /// Point `i` as [x, y].
+    pub fn get(&self, i: usize) -> [f64; 2] {
+        [self.x[i], self.y[i]]
+    }
+}
+
+fn lay_points(pattern: Pattern, n: usize, seed: u64) -> DiskPoints {
     match pattern {
         Pattern::Random => {
             let rot = rotation(seed, 1);
-            (0..n as u64)
-                .map(|i| {
-                    let u = wrap01(halton2(i + 1) + rot.0);
-                    let v = wrap01(halton_const::<3>(i + 1) + rot.1);
-                    square_to_disk(u, v)
-                })
-                .collect()
+            let mut pts = DiskPoints::with_capacity(n);
+            for i in 0..n as u64 {
+                let u = wrap01(halton2(i + 1) + rot.0);
+                let v = wrap01(halton_const::<3>(i + 1) + rot.1);
+                let [x, y] = square_to_disk(u, v);
+                pts.push(x, y);
+            }
+            pts
         }
         Pattern::Hex | Pattern::Grid => {
             if n == 1 {
-                return vec![[0.0, 0.0]];
+                return DiskPoints { x: vec![0.0], y: vec![0.0] };
             }
             let hex = pattern == Pattern::Hex;
             // Area per point: s² (grid) or s²√3/2 (hex).
             let cell = if hex { 3f64.sqrt() / 2.0 } else { 1.0 };
             let mut s = (std::f64::consts::PI / (n as f64 * cell)).sqrt();
-            // Tune the spacing on counts alone, then lay the points once.
-            let mut count = lattice(hex, s, |_, _| {});
+            // Tune the spacing on counts alone (O(rows) each), then lay the
+            // points once.
+            let mut count = lattice_count(hex, s);
             let (mut best_s, mut best_n) = (s, count);
             for _ in 0..4 {
                 if count == n {
                     break;
                 }
                 s *= (count as f64 / n as f64).sqrt();
-                count = lattice(hex, s, |_, _| {});
+                count = lattice_count(hex, s);
                 if count.abs_diff(n) < best_n.abs_diff(n) {
                     (best_s, best_n) = (s, count);
                 }
             }
-            let mut pts = Vec::with_capacity(best_n);
-            lattice(hex, best_s, |x, y| pts.push([x, y]));
+            let mut pts = DiskPoints::with_capacity(best_n);
+            lattice(hex, best_s, |x, y| pts.push(x, y));
             pts
         }
     }
 }
 
+/// Is lattice point (x, y) inside the unit disk? (The one test both the
+/// counter and the layer use.)
+#[inline(always)]
+fn inside(x: f64, y: f64) -> bool {
+    x * x + y * y <= 1.0 + 1e-12
+}
+
+/// Row geometry of the lattice: (row pitch, rows either side of the
+/// centre, column index bound).
+fn rows(hex: bool, s: f64) -> (f64, i64, i64) {
+    let row = if hex { s * 3f64.sqrt() / 2.0 } else { s };
+    (row, (1.0 / row).floor() as i64, (1.0 / s).ceil() as i64 + 1)
+}
+
+#[inline(always)]
+fn shift(hex: bool, j: i64, s: f64) -> f64 {
+    if hex && j.rem_euclid(2) == 1 { 0.5 * s } else { 0.0 }
+}
+
+/// The run of column indices of row `j` inside the disk, found from the
+/// circle's chord and then settled with the exact test at both ends (the
+/// test is monotone in |x| along a row).
+fn row_span(hex: bool, s: f64, j: i64, row: f64, imax: i64) -> Option<(i64, i64)> {
+    let y = j as f64 * row;
+    let sh = shift(hex, j, s);
+    let at = |i: i64| inside(i as f64 * s + sh, y);
+    let half = (1.0 - y * y).max(0.0).sqrt();
+    let mut lo = (((-half - sh) / s).ceil() as i64).clamp(-imax, imax);
+    let mut hi = (((half - sh) / s).floor() as i64).clamp(-imax, imax);
+    while lo > -imax && at(lo - 1) {
+        lo -= 1;
+    }
+    while lo <= hi && !at(lo) {
+        lo += 1;
+    }
+    while hi < imax && at(hi + 1) {
+        hi += 1;
+    }
+    while hi >= lo && !at(hi) {
+        hi -= 1;
+    }
+    (lo <= hi).then_some((lo, hi))
+}
+
+/// How many lattice points (spacing `s`) lie inside the unit disk.
+fn lattice_count(hex: bool, s: f64) -> usize {
+    let (row, jmax, imax) = rows(hex, s);
+    (-jmax..=jmax).filter_map(|j| row_span(hex, s, j, row, imax)).map(|(a, b)| (b - a + 1) as usize).sum()
+}
+
 /// Visits the lattice points (spacing `s`) inside the unit disk, row by
 /// row; returns how many there are.
 fn lattice(hex: bool, s: f64, mut visit: impl FnMut(f64, f64)) -> usize {
-    let row = if hex { s * 3f64.sqrt() / 2.0 } else { s };
-    let jmax = (1.0 / row).floor() as i64;
-    let imax = (1.0 / s).ceil() as i64 + 1;
+    let (row, jmax, imax) = rows(hex, s);
     let mut n = 0;
     for j in -jmax..=jmax {
         let y = j as f64 * row;
-        let shift = if hex && j.rem_euclid(2) == 1 { 0.5 * s } else { 0.0 };
-        for i in -imax..=imax {
-            let x = i as f64 * s + shift;
-            if x * x + y * y <= 1.0 + 1e-12 {
-                visit(x, y);
+        let sh = shift(hex, j, s);
+        if let Some((a, b)) = row_span(hex, s, j, row, imax) {
+            for i in a..=b {
+                visit(i as f64 * s + sh, y);
                 n += 1;
             }
         }
     }
     n
+}
+
+/// The lattice by testing every candidate point (the definition the row
+/// spans must agree with).
+#[cfg(test)]
+fn lattice_brute(hex: bool, s: f64) -> Vec<[f64; 2]> {
+    let (row, jmax, imax) = rows(hex, s);
+    let mut out = Vec::new();
+    for j in -jmax..=jmax {
+        let y = j as f64 * row;
+        let sh = shift(hex, j, s);
+        for i in -imax..=imax {
+            let x = i as f64 * s + sh;
+            if inside(x, y) {
+                out.push([x, y]);
+            }
+        }
+    }
+    out
 }
 
 #[cfg(test)]
@@ -178,10 +299,19 @@ mod tests {
                 // Lattices come in whole rings: close for large n, looser for small.
                 let tol = if n >= 1000 { 0.03 } else { 0.15 };
                 assert!(rel < tol || (n < 10 && p.len() <= 2 * n), "{pat:?} {n} -> {}", p.len());
-                assert!(p.iter().all(|q| q[0] * q[0] + q[1] * q[1] <= 1.0 + 1e-9));
+                assert!(p.x.iter().zip(&p.y).all(|(x, y)| x * x + y * y <= 1.0 + 1e-9));
             }
         }
         assert_eq!(disk_points(Pattern::Random, 50, 9), disk_points(Pattern::Random, 50, 9));
+        // Row spans settle on exactly the points the full scan keeps.
+        for hex in [true, false] {
+            for s in [0.3, 0.1, 0.0371, 0.01, 1.0 / 7.0, 0.5, 2.0] {
+                let mut fast = Vec::new();
+                let n = lattice(hex, s, |x, y| fast.push([x, y]));
+                assert_eq!(fast, lattice_brute(hex, s), "hex {hex} s {s}");
+                assert_eq!(n, lattice_count(hex, s));
+            }
+        }
         assert!((halton(5, 2) - 0.625).abs() < 1e-15);
         // Bit reversal equals the digit loop.
         for i in [1u64, 2, 3, 12345, 987_654_321, (1 << 52) + 17] {

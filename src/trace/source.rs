@@ -1,6 +1,6 @@
 //! Turning a layout source into rays.
 
-use super::sampling::{disk_points, halton_disk, rotation, seed_of};
+use super::sampling::{disk_points, halton_disk, rotation, seed_of, DiskPoints};
 use crate::geometry::{Frame, Vec3};
 use crate::layout::Source;
 
@@ -23,7 +23,7 @@ pub struct Emitter {
     axis: Vec3,
     e1: Vec3,
     e2: Vec3,
-    points: Vec<[f64; 2]>,
+    points: std::sync::Arc<DiskPoints>,
     kind: Kind,
     /// Power carried by each ray, W.
     pub ray_weight: f64,
@@ -113,7 +113,7 @@ impl Emitter {
     /// Ray number `i` (0 ≤ i < len()).
     #[inline]
     pub fn ray(&self, i: usize) -> Ray {
-        let [a, b] = self.points[i];
+        let [a, b] = self.points.get(i);
         match self.kind {
             Kind::Beam { radius, sun_half } => {
                 let origin = self.frame.origin + (self.e1 * a + self.e2 * b) * radius;
@@ -127,6 +127,37 @@ impl Emitter {
             }
             Kind::Lamp { one_minus_cos } => {
                 Ray { origin: self.frame.origin, dir: self.cone_dir(a, b, one_minus_cos), weight: self.ray_weight, opl: 0.0 }
+            }
+        }
+    }
+
+    /// Writes rays `start..start + ox.len()` into columns (origin, direction),
+    /// exactly as [`Emitter::ray`] makes them; every ray carries
+    /// [`Emitter::ray_weight`] and starts with zero path.
+    pub fn fill(&self, start: usize, o: [&mut [f64]; 3], d: [&mut [f64]; 3]) {
+        let [ox, oy, oz] = o;
+        let [dx, dy, dz] = d;
+        let n = ox.len();
+        let (px, py) = (&self.points.x[start..start + n], &self.points.y[start..start + n]);
+        match self.kind {
+            Kind::Beam { radius, sun_half: 0.0 } => {
+                let (o, e1, e2, a) = (self.frame.origin, self.e1, self.e2, self.axis);
+                for k in 0..n {
+                    let (p, q) = (px[k], py[k]);
+                    ox[k] = o.x + (e1.x * p + e2.x * q) * radius;
+                    oy[k] = o.y + (e1.y * p + e2.y * q) * radius;
+                    oz[k] = o.z + (e1.z * p + e2.z * q) * radius;
+                }
+                dx[..n].fill(a.x);
+                dy[..n].fill(a.y);
+                dz[..n].fill(a.z);
+            }
+            _ => {
+                for k in 0..n {
+                    let r = self.ray(start + k);
+                    (ox[k], oy[k], oz[k]) = (r.origin.x, r.origin.y, r.origin.z);
+                    (dx[k], dy[k], dz[k]) = (r.dir.x, r.dir.y, r.dir.z);
+                }
             }
         }
     }

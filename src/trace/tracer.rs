@@ -2,13 +2,9 @@
 //! off mirror fronts, dies on mirror backs, and is recorded by screens.
 
 use super::source::{Emitter, Ray};
-use crate::geometry::{reflect, Vec3};
+use crate::geometry::{reflect, unit, Vec3};
 use crate::scene::{Part, Scene};
 
-/// Rays are launched and traced in batches of this many.
-pub const BATCH: usize = 4096;
-/// Most hits per screen reserved before tracing.
-const RESERVE_CAP: usize = 1 << 21;
 
 /// Hits recorded on one screen, as parallel arrays (one entry per hit).
 /// Positions are screen coordinates (u along global x, v along the
@@ -58,6 +54,21 @@ impl ScreenHits {
         self.weight.reserve(n);
         self.source.reserve(n);
     }
+    /// Appends every hit of `o`.
+    pub fn append(&mut self, o: &ScreenHits) {
+        self.extend_range(o, 0..o.len());
+    }
+    /// Appends hits `r` of `o`.
+    pub fn extend_range(&mut self, o: &ScreenHits, r: std::ops::Range<usize>) {
+        self.u.extend_from_slice(&o.u[r.clone()]);
+        self.v.extend_from_slice(&o.v[r.clone()]);
+        self.du.extend_from_slice(&o.du[r.clone()]);
+        self.dv.extend_from_slice(&o.dv[r.clone()]);
+        self.dw.extend_from_slice(&o.dw[r.clone()]);
+        self.opl.extend_from_slice(&o.opl[r.clone()]);
+        self.weight.extend_from_slice(&o.weight[r.clone()]);
+        self.source.extend_from_slice(&o.source[r]);
+    }
     #[inline(always)]
     fn push(&mut self, u: f64, v: f64, d: &Vec3, opl: f64, w: f64, src: u32) {
         self.u.push(u);
@@ -76,6 +87,12 @@ impl ScreenHits {
 pub struct TraceOptions {
     /// Rays per source instead of each source's own `rays`.
     pub rays: Option<usize>,
+    /// Threads to trace on (natively); `None` uses every core. The result
+    /// is the same whatever the count.
+    pub threads: Option<usize>,
+    /// Compiled kernel copy to run; `None` picks the best the machine has
+    /// (tests run each one against the reference).
+    pub kernel: Option<super::Kernel>,
 }
 
 /// Everything a trace produced.
@@ -221,7 +238,7 @@ pub(crate) fn propagate<O: Observer>(
                 }
                 let r = reflect(&ld, &n.normal);
                 // Renormalise: keeps |dir| = 1 over many bounces.
-                ray.dir = e.frame.to_world_dir(&r).normalize();
+                ray.dir = unit(&e.frame.to_world_dir(&r));
                 skip = if *no_return { n.index } else { usize::MAX };
             }
             Part::Screen { opaque, index, .. } => {
@@ -239,62 +256,23 @@ pub(crate) fn propagate<O: Observer>(
     (Fate::Absorbed, ray)
 }
 
-/// Traces every source of the scene.
-pub fn trace(scene: &Scene, opts: TraceOptions) -> TraceResult {
-    trace_with(scene, opts, &mut |_, _| {})
-}
-
-/// Traces every source, calling `progress(done, total)` after each batch.
-pub fn trace_with(scene: &Scene, opts: TraceOptions, progress: &mut dyn FnMut(u64, u64)) -> TraceResult {
-    let mut res = TraceResult::default();
-    trace_into(scene, opts, &mut res, progress);
-    res
-}
-
-/// Traces into `res`, reusing its buffers (a front end re-tracing on every
-/// edit keeps one result and saves the allocation and first-touch cost).
-/// Everything in `res` is replaced.
-pub fn trace_into(scene: &Scene, opts: TraceOptions, res: &mut TraceResult, progress: &mut dyn FnMut(u64, u64)) {
+/// Traces every source with the scalar reference tracer: one ray at a
+/// time through [`propagate`], on one thread. The batched tracer
+/// (`trace::trace`) is tested against it; it is kept simple on purpose.
+pub fn trace_reference(scene: &Scene, opts: TraceOptions) -> TraceResult {
     let emitters: Vec<Emitter> =
         scene.sources.iter().map(|s| Emitter::new(s, opts.rays.unwrap_or(s.rays() as usize))).collect();
-    let total: u64 = emitters.iter().map(|e| e.len() as u64).sum();
-    res.rays_launched = 0;
-    res.rays_escaped = 0;
-    res.rays_absorbed = 0;
-    res.surface_hits = 0;
-    res.launched_by_source.clear();
-    res.power_by_source.clear();
-    res.screens.resize_with(scene.screen_ids.len(), ScreenHits::default);
-    for s in &mut res.screens {
-        s.clear();
-    }
-    // Most screens see each ray at most once: reserve that much up front
-    // (untouched capacity costs no memory traffic) instead of growing by
-    // copying.
-    for s in &mut res.screens {
-        s.reserve((total as usize).min(RESERVE_CAP));
-    }
-    let mut done = 0u64;
-    let mut batch: Vec<Ray> = Vec::with_capacity(BATCH);
+    let mut res = TraceResult { screens: vec![ScreenHits::default(); scene.screen_ids.len()], ..Default::default() };
     for (si, em) in emitters.iter().enumerate() {
-        let n = em.len();
-        res.launched_by_source.push(n as u64);
+        res.launched_by_source.push(em.len() as u64);
         res.power_by_source.push(em.power_w);
-        let mut start = 0;
-        while start < n {
-            let end = (start + BATCH).min(n);
-            batch.clear();
-            batch.extend((start..end).map(|i| em.ray(i)));
-            for r in &batch {
-                match propagate(scene, *r, si as u32, &mut res.screens, &mut res.surface_hits, &mut Quiet).0 {
-                    Fate::Escaped => res.rays_escaped += 1,
-                    Fate::Absorbed => res.rays_absorbed += 1,
-                }
+        for i in 0..em.len() {
+            match propagate(scene, em.ray(i), si as u32, &mut res.screens, &mut res.surface_hits, &mut Quiet).0 {
+                Fate::Escaped => res.rays_escaped += 1,
+                Fate::Absorbed => res.rays_absorbed += 1,
             }
-            done += (end - start) as u64;
-            start = end;
-            progress(done, total);
         }
+        res.rays_launched += em.len() as u64;
     }
-    res.rays_launched = done;
+    res
 }

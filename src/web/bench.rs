@@ -47,7 +47,7 @@ pub fn bench_scene(index: u32, rays: u32) -> f64 {
     }
     let scene = Scene::compile(&s.layout);
     let t0 = now_ms();
-    let res = trace(&scene, TraceOptions { rays: Some(rays as usize) });
+    let res = trace(&scene, TraceOptions { rays: Some(rays as usize), ..Default::default() });
     let dt = (now_ms() - t0) / 1000.0;
     // Keep the result alive so the trace cannot be optimised away.
     std::hint::black_box(res.surface_hits);

@@ -377,7 +377,7 @@ impl Session {
                 return Err(JsError::new(&format!("rays per source: must be between 1 and {MAX_RAYS_PER_SOURCE} (got {n})")));
             }
         }
-        let opts = TraceOptions { rays: rays.map(|n| n as usize) };
+        let opts = TraceOptions { rays: rays.map(|n| n as usize), ..Default::default() };
         let t0 = now_ms();
         self.result = match progress {
             None => trace_with(&self.scene, opts, &mut |_, _| {}),

@@ -139,3 +139,115 @@ pub fn bounce(scene: &Scene, index: usize, o: &Vec3, d: &Vec3) -> Option<(Vec3, 
     let r = reflect(&ld, &h.normal);
     Some((e.frame.to_world_point(&h.point), e.frame.to_world_dir(&r).normalize()))
 }
+
+// ----- random valid layouts (property tests) -----------------------------
+
+/// Log-uniform magnitude in [lo, hi].
+pub fn mag(rng: &mut Rng, lo: f64, hi: f64) -> f64 {
+    (lo.ln() + (hi.ln() - lo.ln()) * rng.next()).exp()
+}
+
+pub fn sign(rng: &mut Rng) -> f64 {
+    if rng.next() < 0.5 { -1.0 } else { 1.0 }
+}
+
+pub fn random_mirror(rng: &mut Rng, i: usize, size: f64) -> Value {
+    let d = mag(rng, 0.01 * size, size);
+    let radius = if rng.next() < 0.15 { None } else { Some(sign(rng) * mag(rng, 0.3 * d, 100.0 * size)) };
+    let conic = match rng.int(5) {
+        0 => 0.0,
+        1 => -1.0,
+        2 => rng.range(-1.0, 0.0),
+        3 => -mag(rng, 1.0, 100.0),
+        _ => mag(rng, 1e-3, 10.0),
+    };
+    let offset = if rng.next() < 0.3 { rng.range(-d, d) } else { 0.0 };
+    // Keep ρ inside the conic's domain.
+    let mut diameter = d;
+    if let Some(r) = radius {
+        if conic > -1.0 {
+            let lim = r.abs() / (1.0 + conic).sqrt();
+            let rho = offset.abs() + 0.5 * diameter;
+            if rho >= 0.999 * lim {
+                diameter = (2.0 * (0.99 * lim - offset.abs())).max(1e-3 * lim);
+            }
+        }
+    }
+    let hole = if rng.next() < 0.3 { rng.range(0.0, 0.9) * diameter } else { 0.0 };
+    let extruded = rng.next() < 0.3;
+    let mut profile = json!({ "radius": radius, "conic": conic });
+    if rng.next() < 0.3 {
+        let n = 1 + rng.int(4) as usize;
+        let scale = 1e-3 * diameter;
+        let a: Vec<f64> = (0..n).map(|k| rng.range(-1.0, 1.0) * scale / (0.5 * diameter).powi(4 + 2 * k as i32)).collect();
+        profile["aspheric"] = json!(a);
+    }
+    if rng.next() < 0.3 {
+        let n = 2 + rng.int(12) as usize;
+        let span = offset.abs() + diameter;
+        let start = if extruded { -span } else { 0.0 };
+        let step = (span - start) / (n - 1) as f64;
+        let knots: Vec<[f64; 2]> = (0..n).map(|k| [start + step * k as f64, rng.range(-0.01, 0.01) * diameter]).collect();
+        profile["departure"] = json!(knots);
+    }
+    let mut m = json!({
+        "kind": "mirror", "id": format!("m{i}"),
+        "vertex": [rng.range(-size, size), rng.range(-size, size)],
+        "axis_deg": rng.range(-360.0, 360.0),
+        "form": if extruded { "extruded" } else { "revolved" },
+        "profile": profile,
+        "aperture": { "diameter": diameter, "offset": offset, "hole": hole },
+        "reflectivity": if rng.next() < 0.2 { rng.next() } else { 1.0 },
+    });
+    if extruded {
+        m["length"] = json!(mag(rng, 0.01 * size, 2.0 * size));
+    }
+    m
+}
+
+pub fn random_layout(rng: &mut Rng) -> String {
+    let size = mag(rng, 1.0, 1e5);
+    let mut elements = Vec::new();
+    for i in 0..(1 + rng.int(5) as usize) {
+        elements.push(random_mirror(rng, i, size));
+    }
+    for i in 0..(1 + rng.int(3) as usize) {
+        elements.push(json!({
+            "kind": "screen", "id": format!("s{i}"),
+            "center": [rng.range(-size, size), rng.range(-size, size)],
+            "axis_deg": rng.range(-180.0, 540.0),
+            "size": mag(rng, 1e-3 * size, 3.0 * size),
+            "shape": if rng.next() < 0.5 { "circle" } else { "square" },
+            "opaque": rng.next() < 0.5,
+        }));
+    }
+    let mut sources = Vec::new();
+    for i in 0..(1 + rng.int(3) as usize) {
+        let pattern = ["hex", "grid", "random"][rng.int(3) as usize];
+        let rays = 1 + rng.int(300);
+        if rng.next() < 0.5 {
+            sources.push(json!({
+                "kind": "beam", "id": format!("b{i}"),
+                "center": [rng.range(-size, size), rng.range(-size, size)],
+                "direction_deg": rng.range(-720.0, 720.0),
+                "out_of_plane_deg": if rng.next() < 0.3 { rng.range(-89.0, 89.0) } else { 0.0 },
+                "diameter": mag(rng, 1e-3 * size, 2.0 * size), "rays": rays, "pattern": pattern,
+                "sun_half_angle_mrad": if rng.next() < 0.4 { rng.range(0.0, 200.0) } else { 0.0 },
+                "irradiance_w_m2": if rng.next() < 0.1 { 0.0 } else { mag(rng, 1.0, 1e6) },
+            }));
+        } else {
+            sources.push(json!({
+                "kind": "point", "id": format!("p{i}"),
+                "center": [rng.range(-size, size), rng.range(-size, size)],
+                "direction_deg": rng.range(-720.0, 720.0),
+                "cone_half_angle_deg": rng.range(1e-6, 180.0), "rays": rays, "pattern": pattern,
+                "power_w": if rng.next() < 0.1 { 0.0 } else { mag(rng, 1e-3, 1e6) },
+            }));
+        }
+    }
+    json!({ "format": "catoptric-layout", "version": 1, "name": "fuzz",
+            "wavelength_nm": rng.range(100.0, 100000.0), "max_bounces": 1 + rng.int(40),
+            "elements": elements, "sources": sources })
+    .to_string()
+}
+

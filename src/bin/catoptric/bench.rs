@@ -96,7 +96,7 @@ fn time_scene(s: &BenchScene, rays: u64) -> Row {
     let mut res = TraceResult::default();
     for _ in 0..RUNS {
         let t0 = Instant::now();
-        trace_into(&scene, TraceOptions { rays: Some(rays as usize) }, &mut res, &mut |_, _| {});
+        trace_into(&scene, TraceOptions { rays: Some(rays as usize), ..Default::default() }, &mut res, &mut |_, _| {});
         best = best.min(t0.elapsed().as_secs_f64());
         launched = res.rays_launched;
         hits = res.surface_hits;

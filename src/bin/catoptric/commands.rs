@@ -31,7 +31,7 @@ pub fn trace(path: &str, rays: Option<u64>, json: bool) -> Result<String, Failur
         }
     }
     let scene = Scene::compile(&layout);
-    let res = catoptric::trace(&scene, TraceOptions { rays: rays.map(|n| n as usize) });
+    let res = catoptric::trace(&scene, TraceOptions { rays: rays.map(|n| n as usize), ..Default::default() });
     let report = trace_report(&scene, &res);
     Ok(if json { to_json(&report) } else { table(&layout, &report) })
 }

@@ -1,0 +1,166 @@
+//! The scene flattened for the batched tracer: one plain record per
+//! element (frame as cos/sin of its axis, curvature, conic, aperture,
+//! bounding sphere), grouped by what the element does so that the kind is
+//! decided once per element per batch, never per ray.
+
+use crate::geometry::{Aperture, MirrorSurface};
+use crate::scene::{Part, Scene};
+
+/// A layout-plane frame: origin (0, y, z), local z at angle θ from +z
+/// toward +y; `c`, `s` are cos θ and sin θ. Local x is global x.
+#[derive(Debug, Clone, Copy)]
+pub(crate) struct PlaneFrame {
+    pub oy: f64,
+    pub oz: f64,
+    pub c: f64,
+    pub s: f64,
+}
+
+impl PlaneFrame {
+    /// World direction → local (same rounding as `Frame::to_local_dir`).
+    #[inline(always)]
+    pub fn dir_to_local(&self, x: f64, y: f64, z: f64) -> (f64, f64, f64) {
+        (x, y * self.c - z * self.s, y * self.s + z * self.c)
+    }
+    /// World point → local.
+    #[inline(always)]
+    pub fn point_to_local(&self, x: f64, y: f64, z: f64) -> (f64, f64, f64) {
+        self.dir_to_local(x, y - self.oy, z - self.oz)
+    }
+    /// Local direction → world.
+    #[inline(always)]
+    pub fn dir_to_world(&self, x: f64, y: f64, z: f64) -> (f64, f64, f64) {
+        (x, self.c * y + self.s * z, -self.s * y + self.c * z)
+    }
+    /// Local point → world (same rounding as `Frame::to_world_point`).
+    #[inline(always)]
+    pub fn point_to_world(&self, x: f64, y: f64, z: f64) -> (f64, f64, f64) {
+        (x, self.oy + self.c * y + self.s * z, self.oz + -self.s * y + self.c * z)
+    }
+}
+
+/// Clear aperture of a conic mirror as plain numbers: a disk (radius²,
+/// hole²) or a strip (half width, half hole, half length) about local
+/// y = `offset`.
+#[derive(Debug, Clone, Copy)]
+pub(crate) struct Clear {
+    pub offset: f64,
+    pub strip: bool,
+    /// Disk: r², hole². Strip: half width, half hole.
+    pub outer: f64,
+    pub inner: f64,
+    /// Strip only: half length along x (∞ for disks).
+    pub half_length: f64,
+}
+
+impl Clear {
+    fn of(a: &Aperture) -> Clear {
+        match *a {
+            Aperture::Disk { offset, r, hole } => {
+                Clear { offset, strip: false, outer: r * r, inner: hole * hole, half_length: f64::INFINITY }
+            }
+            Aperture::Strip { offset, half_width, half_hole, half_length } => {
+                Clear { offset, strip: true, outer: half_width, inner: half_hole, half_length }
+            }
+        }
+    }
+    /// Same test as `Aperture::contains`, branch-free.
+    #[inline(always)]
+    pub fn contains(&self, x: f64, y: f64) -> bool {
+        let dy = y - self.offset;
+        if self.strip {
+            let a = dy.abs();
+            (a <= self.outer) & (a >= self.inner) & (x.abs() <= self.half_length)
+        } else {
+            let q = x * x + dy * dy;
+            (q <= self.outer) & (q >= self.inner)
+        }
+    }
+}
+
+/// A mirror whose surface is a pure conic (closed-form intersection).
+#[derive(Debug, Clone, Copy)]
+pub(crate) struct ConicRec {
+    /// Vertex curvature 1/R.
+    pub c: f64,
+    /// (1 + K)·c.
+    pub kappa: f64,
+    /// Extruded along x (a trough) instead of revolved.
+    pub extruded: bool,
+    pub clear: Clear,
+}
+
+/// What an element does, as the batched kernels see it.
+#[derive(Debug, Clone, Copy)]
+pub(crate) enum Kind {
+    Conic(ConicRec),
+    /// Aspheric or spline mirror: solved per ray by the exact scalar solver
+    /// of the scene element (`Scene::elements[index]`).
+    General,
+    Screen { half: f64, circle: bool, opaque: bool, screen: usize },
+}
+
+/// One element ready for the kernels.
+#[derive(Debug, Clone, Copy)]
+pub(crate) struct Rec {
+    pub frame: PlaneFrame,
+    pub kind: Kind,
+    /// Bounding sphere: centre and radius (world).
+    pub bx: f64,
+    pub by: f64,
+    pub bz: f64,
+    pub br: f64,
+    /// Mirrors: power kept per reflection, and whether a ray leaving the
+    /// face can meet it again on its next leg (see `Part::Mirror`).
+    pub reflectivity: f64,
+    pub no_return: bool,
+}
+
+/// The flattened scene.
+#[derive(Debug, Clone)]
+pub(crate) struct Compiled {
+    pub recs: Vec<Rec>,
+}
+
+impl Compiled {
+    pub fn new(scene: &Scene) -> Compiled {
+        let recs = scene
+            .elements
+            .iter()
+            .map(|e| {
+                let f = &e.frame;
+                let frame = PlaneFrame { oy: f.origin.y, oz: f.origin.z, c: f.ez.z, s: f.ez.y };
+                let (kind, reflectivity, no_return) = match &e.part {
+                    Part::Mirror { surface, reflectivity, no_return } => (mirror_kind(surface), *reflectivity, *no_return),
+                    Part::Screen { half, circle, opaque, index } => {
+                        (Kind::Screen { half: *half, circle: *circle, opaque: *opaque, screen: *index }, 1.0, false)
+                    }
+                };
+                Rec {
+                    frame,
+                    kind,
+                    bx: e.bound_center.x,
+                    by: e.bound_center.y,
+                    bz: e.bound_center.z,
+                    br: e.bound_radius,
+                    reflectivity,
+                    no_return,
+                }
+            })
+            .collect();
+        Compiled { recs }
+    }
+}
+
+fn mirror_kind(s: &MirrorSurface) -> Kind {
+    if s.profile.is_conic() {
+        Kind::Conic(ConicRec {
+            c: s.profile.c,
+            kappa: (1.0 + s.profile.k) * s.profile.c,
+            extruded: s.extruded,
+            clear: Clear::of(&s.aperture),
+        })
+    } else {
+        Kind::General
+    }
+}

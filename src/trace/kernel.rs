@@ -1,0 +1,673 @@
+//! The batched tracer: rays in structure-of-arrays batches, one
+//! branch-free kernel per element kind that keeps the nearest hit of every
+//! ray in the batch, then one pass that reflects, records and retires.
+//!
+//! Each round moves every live ray by one event (a reflection or a screen
+//! crossing); live rays are kept packed at the front of the columns, in
+//! ray order. A ray's fate depends only on its own data and the scene, so
+//! any split of the rays into batches, chunks or threads gives the same
+//! hits; hits are recorded in ray order.
+//!
+//! The kernels are written as plain loops over the columns, which the
+//! compiler vectorises. On x86-64 with AVX2 they are compiled a second time
+//! for it and chosen at run time; the arithmetic is the same operations in
+//! the same order (no fused multiply–add), so every build gives identical
+//! bits. The scalar tracer (`tracer::propagate`) is the reference this one
+//! is tested against.
+
+// Negated comparisons (`!(a >= b)`) are deliberate throughout: they treat
+// NaN exactly as the reference tracer's early `continue`s do.
+#![allow(clippy::neg_cmp_op_on_partial_ord)]
+
+use super::compiled::{Compiled, ConicRec, Kind, Rec};
+use super::source::Emitter;
+use super::tracer::ScreenHits;
+use crate::geometry::Vec3;
+use crate::scene::{Part, Scene};
+
+/// Rays per batch.
+pub const LANES: usize = 1024;
+const NONE: u32 = u32::MAX;
+
+/// Counters of a traced range of rays.
+#[derive(Debug, Clone, Copy, Default, PartialEq, Eq)]
+pub(crate) struct Tally {
+    pub escaped: u64,
+    pub absorbed: u64,
+    pub surface_hits: u64,
+}
+
+/// Where a batch's hits on one screen start in the output, and their ray
+/// numbers while they may need reordering.
+#[derive(Debug, Clone, Default)]
+struct Recorded {
+    start: usize,
+    rays: Vec<u32>,
+    sorted: bool,
+}
+
+/// A batch of rays as columns, plus per-round scratch.
+pub(crate) struct Batch {
+    ox: Vec<f64>,
+    oy: Vec<f64>,
+    oz: Vec<f64>,
+    dx: Vec<f64>,
+    dy: Vec<f64>,
+    dz: Vec<f64>,
+    opl: Vec<f64>,
+    w: Vec<f64>,
+    /// Ray number within the batch (for ordering the hits).
+    ray: Vec<u32>,
+    bounces: Vec<u32>,
+    /// Element the ray cannot meet on this leg, or NONE.
+    skip: Vec<u32>,
+    // Nearest hit so far this round.
+    t: Vec<f64>,
+    best: Vec<u32>,
+    hx: Vec<f64>,
+    hy: Vec<f64>,
+    hz: Vec<f64>,
+    /// Cull pass: does the ray reach the element's bounding sphere, and
+    /// where it enters it.
+    keep: Vec<bool>,
+    t0: Vec<f64>,
+    /// After shading: does the ray go on?
+    alive: Vec<bool>,
+    /// Per element this round: did any ray take it as its nearest hit so
+    /// far (a later element may have taken the ray since)?
+    touched: Vec<bool>,
+    /// Lane lists for gathers.
+    sel: Vec<u32>,
+    recorded: Vec<Recorded>,
+}
+
+impl Batch {
+    pub fn new() -> Batch {
+        let col = || vec![0.0; LANES];
+        Batch {
+            ox: col(),
+            oy: col(),
+            oz: col(),
+            dx: col(),
+            dy: col(),
+            dz: col(),
+            opl: col(),
+            w: col(),
+            ray: vec![0; LANES],
+            bounces: vec![0; LANES],
+            skip: vec![NONE; LANES],
+            t: col(),
+            best: vec![NONE; LANES],
+            hx: col(),
+            hy: col(),
+            hz: col(),
+            keep: vec![false; LANES],
+            t0: col(),
+            alive: vec![false; LANES],
+            touched: Vec::new(),
+            sel: vec![0; LANES],
+            recorded: Vec::new(),
+        }
+    }
+}
+
+/// Which compiled copy of the kernels runs.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum Kernel {
+    /// Portable code (SSE2 on x86-64, simd128 in a wasm build with it).
+    Portable,
+    /// x86-64 with AVX2, chosen at run time.
+    Avx2,
+    /// x86-64 with AVX-512 (F and VL), chosen at run time: twice the
+    /// vector registers, so the long kernels do not spill.
+    Avx512,
+}
+
+impl Kernel {
+    /// The best kernel this machine runs.
+    pub fn detect() -> Kernel {
+        *Kernel::available().last().unwrap_or(&Kernel::Portable)
+    }
+
+    /// Every kernel this machine runs, portable first.
+    pub fn available() -> Vec<Kernel> {
+        #[allow(unused_mut)]
+        let mut v = vec![Kernel::Portable];
+        #[cfg(target_arch = "x86_64")]
+        {
+            if std::arch::is_x86_feature_detected!("avx2") {
+                v.push(Kernel::Avx2);
+                if std::arch::is_x86_feature_detected!("avx512f") && std::arch::is_x86_feature_detected!("avx512vl") {
+                    v.push(Kernel::Avx512);
+                }
+            }
+        }
+        v
+    }
+
+    /// Short name for reports.
+    pub fn name(self) -> &'static str {
+        match self {
+            Kernel::Portable => {
+                if cfg!(target_arch = "wasm32") { "wasm simd128" } else { "portable" }
+            }
+            Kernel::Avx2 => "avx2",
+            Kernel::Avx512 => "avx512",
+        }
+    }
+}
+
+/// Compiles each kernel body once per instruction set and makes a
+/// dispatcher `name(kernel, args…)` that runs the chosen copy. The bodies
+/// are `#[inline(always)]` plain loops; only the code generation differs
+/// (same operations, no fused multiply–add), so every copy gives the same
+/// bits.
+macro_rules! kernels {
+    ($( $(#[$doc:meta])* fn $name:ident => $body:ident ( $($a:ident : $t:ty),* ) -> $r:ty; )*) => { $(
+        $(#[$doc])*
+        #[allow(clippy::too_many_arguments)]
+        fn $name(kernel: Kernel, $($a: $t),*) -> $r {
+            #[cfg(target_arch = "x86_64")]
+            {
+                #[target_feature(enable = "avx2")]
+                fn avx2($($a: $t),*) -> $r {
+                    $body($($a),*)
+                }
+                #[target_feature(enable = "avx2,avx512f,avx512vl")]
+                fn avx512($($a: $t),*) -> $r {
+                    $body($($a),*)
+                }
+                match kernel {
+                    // SAFETY: `Kernel::available` offers these only when
+                    // the CPU has the features.
+                    Kernel::Avx2 => return unsafe { avx2($($a),*) },
+                    Kernel::Avx512 => return unsafe { avx512($($a),*) },
+                    Kernel::Portable => {}
+                }
+            }
+            let _ = kernel;
+            $body($($a),*)
+        }
+    )* };
+}
+
+kernels! {
+    /// Bounding-sphere cull of every ray against one element.
+    fn cull_pass => cull_body(r: &Rec, k: u32, eps: f64, b: &mut Batch, n: usize) -> usize;
+    /// Nearest hits on a conic mirror.
+    fn conic => conic_body(r: &Rec, cr: &ConicRec, k: u32, eps: f64, b: &mut Batch, n: usize) -> usize;
+    /// Nearest hits on a screen.
+    fn screen => screen_body(r: &Rec, half: f64, circle: bool, k: u32, eps: f64, b: &mut Batch, n: usize) -> usize;
+    /// Reflection off a conic mirror.
+    fn reflect_conic => reflect_conic_body(rec: &Rec, cr: &ConicRec, k: u32, max_bounces: u32, b: &mut Batch, n: usize) -> ();
+    /// Crossing a screen.
+    fn cross => cross_body(rec: &Rec, k: u32, opaque: bool, b: &mut Batch, n: usize) -> ();
+}
+
+/// Traces rays `range` of `em` (source number `src`), appending the screen
+/// hits to `out` (one per screen) in ray order.
+#[allow(clippy::too_many_arguments)]
+pub(crate) fn trace_range(
+    scene: &Scene,
+    comp: &Compiled,
+    kernel: Kernel,
+    em: &Emitter,
+    src: u32,
+    range: std::ops::Range<usize>,
+    batch: &mut Batch,
+    out: &mut [ScreenHits],
+) -> Tally {
+    let mut tally = Tally::default();
+    batch.recorded.resize_with(out.len(), Recorded::default);
+    batch.touched.resize(comp.recs.len(), false);
+    let mut start = range.start;
+    while start < range.end {
+        let end = (start + LANES).min(range.end);
+        let n = end - start;
+        {
+            let b = &mut *batch;
+            em.fill(start, [&mut b.ox[..n], &mut b.oy[..n], &mut b.oz[..n]], [&mut b.dx[..n], &mut b.dy[..n], &mut b.dz[..n]]);
+        }
+        batch.opl[..n].fill(0.0);
+        batch.w[..n].fill(em.ray_weight);
+        for (k, r) in batch.ray[..n].iter_mut().enumerate() {
+            *r = k as u32;
+        }
+        batch.bounces[..n].fill(0);
+        batch.skip[..n].fill(NONE);
+        for (r, o) in batch.recorded.iter_mut().zip(out.iter()) {
+            r.start = o.len();
+            r.rays.clear();
+            r.sorted = true;
+        }
+        run_batch(scene, comp, kernel, batch, n, src, out, &mut tally);
+        order_hits(batch, out);
+        start = end;
+    }
+    tally
+}
+
+/// Puts a batch's hits on each screen in ray order. They already are unless
+/// a ray met one screen in two different rounds; then a stable sort by ray
+/// number (rounds keep their order) rearranges that batch's run.
+fn order_hits(b: &mut Batch, out: &mut [ScreenHits]) {
+    for (r, o) in b.recorded.iter().zip(out.iter_mut()) {
+        if r.sorted {
+            continue;
+        }
+        let mut idx: Vec<usize> = (0..r.rays.len()).collect();
+        idx.sort_by_key(|&j| r.rays[j]);
+        let s = r.start;
+        for col in [&mut o.u, &mut o.v, &mut o.du, &mut o.dv, &mut o.dw, &mut o.opl, &mut o.weight] {
+            let old: Vec<f64> = col[s..].to_vec();
+            for (dst, &j) in col[s..].iter_mut().zip(&idx) {
+                *dst = old[j];
+            }
+        }
+    }
+}
+
+#[allow(clippy::too_many_arguments)]
+fn run_batch(
+    scene: &Scene,
+    comp: &Compiled,
+    kernel: Kernel,
+    b: &mut Batch,
+    mut n: usize,
+    src: u32,
+    out: &mut [ScreenHits],
+    tally: &mut Tally,
+) {
+    let max_events = (scene.max_bounces as usize + 1) * (scene.elements.len() + 1);
+    let eps = scene.t_eps;
+    for _ in 0..max_events {
+        if n == 0 {
+            return;
+        }
+        b.t[..n].fill(f64::INFINITY);
+        b.best[..n].fill(NONE);
+        b.touched.fill(false);
+        for (k, rec) in comp.recs.iter().enumerate() {
+            if let Kind::General = rec.kind {
+                b.touched[k] = general(scene, rec, k, eps, b, n) > 0;
+                continue;
+            }
+            let kept = cull_pass(kernel, rec, k as u32, eps, b, n);
+            if kept == 0 {
+                continue; // the whole batch passes this element by
+            }
+            let hits = match rec.kind {
+                Kind::Conic(ref cr) => conic(kernel, rec, cr, k as u32, eps, b, n),
+                Kind::Screen { half, circle, .. } => screen(kernel, rec, half, circle, k as u32, eps, b, n),
+                Kind::General => 0,
+            };
+            b.touched[k] = hits > 0;
+        }
+        n = shade(scene, comp, kernel, b, n, src, out, tally);
+    }
+    // Rays still going after the event limit are counted as absorbed.
+    tally.absorbed += n as u64;
+}
+
+/// Bounding-sphere cull, exactly as the reference tracer does it: keeps a
+/// ray that passes within the radius of the centre, not wholly behind its
+/// origin, and not wholly beyond the nearest hit so far. Returns (keep, t0)
+/// with t0 where the ray enters the sphere: solving from there keeps the
+/// intersection precise for rays launched far away.
+#[inline(always)]
+#[allow(clippy::too_many_arguments)]
+fn cull(r: &Rec, eps: f64, ox: f64, oy: f64, oz: f64, dx: f64, dy: f64, dz: f64, t_best: f64) -> (bool, f64) {
+    let (cx, cy, cz) = (r.bx - ox, r.by - oy, r.bz - oz);
+    let tca = cx * dx + cy * dy + cz * dz;
+    let d2 = (cx * cx + cy * cy + cz * cz) - tca * tca;
+    let r2 = r.br * r.br;
+    let thc = (r2 - d2).sqrt();
+    let keep = !(d2 > r2) & !(tca + thc <= eps) & !(tca - thc >= t_best);
+    (keep, (tca - thc).max(0.0))
+}
+
+/// The cull of every ray against element `k` into the `keep`/`t0`
+/// columns (a ray told to skip `k` is not kept); returns how many are kept.
+#[inline(always)]
+fn cull_body(r: &Rec, k: u32, eps: f64, b: &mut Batch, n: usize) -> usize {
+    let (ox, oy, oz) = (&b.ox[..n], &b.oy[..n], &b.oz[..n]);
+    let (dx, dy, dz) = (&b.dx[..n], &b.dy[..n], &b.dz[..n]);
+    let (skip, tb) = (&b.skip[..n], &b.t[..n]);
+    let (keep, t0) = (&mut b.keep[..n], &mut b.t0[..n]);
+    let mut kept = 0;
+    for i in 0..n {
+        let (kp, t) = cull(r, eps, ox[i], oy[i], oz[i], dx[i], dy[i], dz[i], tb[i]);
+        let kp = kp & (skip[i] != k);
+        keep[i] = kp;
+        t0[i] = t;
+        kept += kp as usize;
+    }
+    kept
+}
+
+
+#[inline(always)]
+fn conic_body(r: &Rec, cr: &ConicRec, k: u32, eps: f64, b: &mut Batch, n: usize) -> usize {
+    let f = r.frame;
+    let (c, kap) = (cr.c, cr.kappa);
+    let xs = if cr.extruded { 0.0 } else { 1.0 };
+    let (ox, oy, oz) = (&b.ox[..n], &b.oy[..n], &b.oz[..n]);
+    let (dx, dy, dz) = (&b.dx[..n], &b.dy[..n], &b.dz[..n]);
+    let (keep, t0s) = (&b.keep[..n], &b.t0[..n]);
+    let (tb, best) = (&mut b.t[..n], &mut b.best[..n]);
+    let (hx, hy, hz) = (&mut b.hx[..n], &mut b.hy[..n], &mut b.hz[..n]);
+    let mut hits = 0;
+    for i in 0..n {
+        let t0 = t0s[i];
+        let (lx, ly, lz) = f.point_to_local(ox[i] + dx[i] * t0, oy[i] + dy[i] * t0, oz[i] + dz[i] * t0);
+        let (ldx, ldy, ldz) = f.dir_to_local(dx[i], dy[i], dz[i]);
+        // c(x² + y²) − 2z + (1+K)c z² = 0 along the ray (x dropped for a trough).
+        let (qx, qdx) = (lx * xs, ldx * xs);
+        let qa = c * (qdx * qdx + ldy * ldy) + kap * ldz * ldz;
+        let qb = c * (qx * qdx + ly * ldy) - ldz + kap * lz * ldz;
+        let qc = c * (qx * qx + ly * ly) - 2.0 * lz + kap * lz * lz;
+        let disc = qb * qb - qa * qc;
+        let q = -(qb + disc.sqrt().copysign(qb));
+        let (r1, r2) = (q / qa, qc / q);
+        let (t_min, t_max) = (eps - t0, tb[i] - t0);
+        let ok = keep[i] & (0.0..f64::INFINITY).contains(&disc);
+        // The sag branch through the vertex has (1+K)c·z < 1.
+        let v1 = ok & (r1 > t_min) & (r1 < t_max) & (kap * (lz + r1 * ldz) < 1.0) & cr.clear.contains(lx + r1 * ldx, ly + r1 * ldy);
+        let v2 = ok & (r2 > t_min) & (r2 < t_max) & (kap * (lz + r2 * ldz) < 1.0) & cr.clear.contains(lx + r2 * ldx, ly + r2 * ldy);
+        let a1 = if v1 { r1 } else { f64::INFINITY };
+        let a2 = if v2 { r2 } else { f64::INFINITY };
+        let t = if a2 < a1 { a2 } else { a1 };
+        let hit = v1 | v2;
+        hits += hit as usize;
+        tb[i] = if hit { t0 + t } else { tb[i] };
+        best[i] = if hit { k } else { best[i] };
+        hx[i] = if hit { lx + ldx * t } else { hx[i] };
+        hy[i] = if hit { ly + ldy * t } else { hy[i] };
+        hz[i] = if hit { lz + ldz * t } else { hz[i] };
+    }
+    hits
+}
+
+#[inline(always)]
+fn screen_body(r: &Rec, half: f64, circle: bool, k: u32, eps: f64, b: &mut Batch, n: usize) -> usize {
+    let f = r.frame;
+    let (ox, oy, oz) = (&b.ox[..n], &b.oy[..n], &b.oz[..n]);
+    let (dx, dy, dz) = (&b.dx[..n], &b.dy[..n], &b.dz[..n]);
+    let (keep, t0s) = (&b.keep[..n], &b.t0[..n]);
+    let (tb, best) = (&mut b.t[..n], &mut b.best[..n]);
+    let (hx, hy, hz) = (&mut b.hx[..n], &mut b.hy[..n], &mut b.hz[..n]);
+    let mut hits = 0;
+    for i in 0..n {
+        let t0 = t0s[i];
+        let (lx, ly, lz) = f.point_to_local(ox[i] + dx[i] * t0, oy[i] + dy[i] * t0, oz[i] + dz[i] * t0);
+        let (ldx, ldy, ldz) = f.dir_to_local(dx[i], dy[i], dz[i]);
+        let tl = -lz / ldz;
+        let t = t0 + tl;
+        let (px, py) = (lx + ldx * tl, ly + ldy * tl);
+        let inside =
+            if circle { px * px + py * py <= half * half } else { (px.abs() <= half) & (py.abs() <= half) };
+        let hit = keep[i] & (ldz != 0.0) & (t > eps) & (t < tb[i]) & inside;
+        hits += hit as usize;
+        tb[i] = if hit { t } else { tb[i] };
+        best[i] = if hit { k } else { best[i] };
+        hx[i] = if hit { px } else { hx[i] };
+        hy[i] = if hit { py } else { hy[i] };
+        hz[i] = if hit { lz + ldz * tl } else { hz[i] };
+    }
+    hits
+}
+
+
+/// Aspheric and spline mirrors: the exact scalar solver, ray by ray, from
+/// the bounding sphere's entry point (as the reference tracer does).
+fn general(scene: &Scene, r: &Rec, k: usize, eps: f64, b: &mut Batch, n: usize) -> usize {
+    let e = &scene.elements[k];
+    let Part::Mirror { surface, .. } = &e.part else { return 0 };
+    let mut hits = 0;
+    let r2 = r.br * r.br;
+    for i in 0..n {
+        if b.skip[i] == k as u32 {
+            continue;
+        }
+        let o = Vec3::new(b.ox[i], b.oy[i], b.oz[i]);
+        let d = Vec3::new(b.dx[i], b.dy[i], b.dz[i]);
+        let oc = e.bound_center - o;
+        let tca = oc.dot(&d);
+        let d2 = oc.norm_squared() - tca * tca;
+        if d2 > r2 {
+            continue;
+        }
+        let thc = (r2 - d2).sqrt();
+        if tca + thc <= eps || tca - thc >= b.t[i] {
+            continue;
+        }
+        let t0 = (tca - thc).max(0.0);
+        let lo = e.frame.to_local_point(&(o + d * t0));
+        let ld = e.frame.to_local_dir(&d);
+        if let Some(h) = surface.intersect(&lo, &ld, eps - t0, b.t[i] - t0) {
+            b.t[i] = t0 + h.t;
+            b.best[i] = k as u32;
+            (b.hx[i], b.hy[i], b.hz[i]) = (h.point.x, h.point.y, h.point.z);
+            hits += 1;
+        }
+    }
+    hits
+}
+
+/// Applies every ray's nearest hit, element by element (reflect, record,
+/// absorb), counts the rays that escaped, then packs the live rays to the
+/// front in order. Returns how many live on.
+#[allow(clippy::too_many_arguments)]
+fn shade(
+    scene: &Scene,
+    comp: &Compiled,
+    kernel: Kernel,
+    b: &mut Batch,
+    n: usize,
+    src: u32,
+    out: &mut [ScreenHits],
+    tally: &mut Tally,
+) -> usize {
+    let escaped = b.best[..n].iter().map(|&k| (k == NONE) as usize).sum::<usize>();
+    tally.escaped += escaped as u64;
+    tally.surface_hits += (n - escaped) as u64;
+    b.alive[..n].fill(false);
+    for k in 0..comp.recs.len() {
+        if !b.touched[k] {
+            continue;
+        }
+        let rec = &comp.recs[k];
+        match rec.kind {
+            Kind::Screen { opaque, screen, .. } => record(rec, k as u32, opaque, kernel, b, n, src, &mut out[screen], screen),
+            Kind::Conic(ref cr) => reflect_conic(kernel, rec, cr, k as u32, scene.max_bounces, b, n),
+            Kind::General => reflect_general(scene, rec, k, b, n),
+        }
+    }
+    // Pack the live rays to the front, in order.
+    let live = b.alive[..n].iter().map(|&a| a as usize).sum::<usize>();
+    tally.absorbed += (n - escaped - live) as u64;
+    if live < n {
+        let mut j = 0;
+        for i in 0..n {
+            b.sel[j] = i as u32;
+            j += b.alive[i] as usize;
+        }
+        let sel = &b.sel[..live];
+        for col in [&mut b.ox, &mut b.oy, &mut b.oz, &mut b.dx, &mut b.dy, &mut b.dz, &mut b.opl, &mut b.w] {
+            gather(col, sel);
+        }
+        for col in [&mut b.ray, &mut b.bounces, &mut b.skip] {
+            gather(col, sel);
+        }
+    }
+    live
+}
+
+/// col[j] = col[sel[j]] for ascending `sel` (sel[j] ≥ j, so in place).
+#[inline]
+fn gather<T: Copy>(col: &mut [T], sel: &[u32]) {
+    for (j, &i) in sel.iter().enumerate() {
+        col[j] = col[i as usize];
+    }
+}
+
+/// Screen `k`: rays arriving on the sensitive face are recorded (in the
+/// screen frame); the ray goes on unless the screen is opaque.
+#[allow(clippy::too_many_arguments)]
+fn record(rec: &Rec, k: u32, opaque: bool, kernel: Kernel, b: &mut Batch, n: usize, src: u32, o: &mut ScreenHits, screen: usize) {
+    cross(kernel, rec, k, opaque, b, n);
+    // Lanes that arrived on the face, in order (listed in `sel` unless
+    // that is every lane).
+    let arrived = |i: usize| (b.best[i] == k) & (b.t[i] < 0.0);
+    let m = (0..n).map(|i| arrived(i) as usize).sum::<usize>();
+    if m == 0 {
+        return;
+    }
+    if m < n {
+        let mut j = 0;
+        for i in 0..n {
+            b.sel[j] = i as u32;
+            j += arrived(i) as usize;
+        }
+    } else {
+        for (i, s) in b.sel[..n].iter_mut().enumerate() {
+            *s = i as u32;
+        }
+    }
+    let lanes = &b.sel[..m];
+    let r = &mut b.recorded[screen];
+    if r.rays.last().is_some_and(|&last| last > b.ray[lanes[0] as usize]) {
+        r.sorted = false;
+    }
+    // The hit columns hold (u, v, du) and t0, t hold (dv, dw): see `cross`.
+    let cols: [(&mut Vec<f64>, &[f64]); 7] = [
+        (&mut o.u, &b.hx),
+        (&mut o.v, &b.hy),
+        (&mut o.du, &b.hz),
+        (&mut o.dv, &b.t0),
+        (&mut o.dw, &b.t),
+        (&mut o.opl, &b.opl),
+        (&mut o.weight, &b.w),
+    ];
+    if m == n {
+        // Every ray of the round arrived here: plain copies.
+        for (dst, c) in cols {
+            dst.extend_from_slice(&c[..n]);
+        }
+    } else {
+        for (dst, c) in cols {
+            dst.extend(lanes.iter().map(|&i| c[i as usize]));
+        }
+    }
+    o.source.extend(std::iter::repeat_n(src, m));
+    r.rays.extend(lanes.iter().map(|&i| b.ray[i as usize]));
+}
+
+/// The crossing itself, for every lane whose nearest hit is screen `k`:
+/// the path grows, the ray restarts at the hit, and the record's
+/// direction in the screen frame goes into the free columns hz, t0, t
+/// (t < 0: arriving on the sensitive face).
+#[inline(always)]
+fn cross_body(rec: &Rec, k: u32, opaque: bool, b: &mut Batch, n: usize) {
+    let f = rec.frame;
+    let best = &b.best[..n];
+    let (hx, hy, hz) = (&b.hx[..n], &b.hy[..n], &mut b.hz[..n]);
+    let (ox, oy, oz) = (&mut b.ox[..n], &mut b.oy[..n], &mut b.oz[..n]);
+    let (dx, dy, dz) = (&b.dx[..n], &b.dy[..n], &b.dz[..n]);
+    let (t, t0, opl) = (&mut b.t[..n], &mut b.t0[..n], &mut b.opl[..n]);
+    for i in 0..n {
+        let m = best[i] == k;
+        let (wx, wy, wz) = f.point_to_world(hx[i], hy[i], hz[i]);
+        let (ldx, ldy, ldz) = f.dir_to_local(dx[i], dy[i], dz[i]);
+        opl[i] = if m { opl[i] + t[i] } else { opl[i] };
+        ox[i] = if m { wx } else { ox[i] };
+        oy[i] = if m { wy } else { oy[i] };
+        oz[i] = if m { wz } else { oz[i] };
+        hz[i] = if m { ldx } else { hz[i] };
+        t0[i] = if m { ldy } else { t0[i] };
+        t[i] = if m { ldz } else { t[i] };
+    }
+    // The ray's state in a loop of its own (one type per loop vectorises).
+    let (skip, alive) = (&mut b.skip[..n], &mut b.alive[..n]);
+    for i in 0..n {
+        let m = best[i] == k;
+        skip[i] = if m { k } else { skip[i] };
+        alive[i] = if m { !opaque } else { alive[i] };
+    }
+}
+
+#[inline(always)]
+fn reflect_conic_body(rec: &Rec, cr: &ConicRec, k: u32, max_bounces: u32, b: &mut Batch, n: usize) {
+    let f = rec.frame;
+    let best = &b.best[..n];
+    let t = &b.t[..n];
+    let (hx, hy, hz) = (&b.hx[..n], &b.hy[..n], &b.hz[..n]);
+    let (ox, oy, oz) = (&mut b.ox[..n], &mut b.oy[..n], &mut b.oz[..n]);
+    let (dx, dy, dz) = (&mut b.dx[..n], &mut b.dy[..n], &mut b.dz[..n]);
+    let (opl, w, dn_col) = (&mut b.opl[..n], &mut b.w[..n], &mut b.t0[..n]);
+    // Floating-point columns first (one loop of one type vectorises)…
+    for i in 0..n {
+        let m = best[i] == k;
+        let (px, py, pz) = (hx[i], hy[i], hz[i]);
+        let (nx, ny, nz) = unit(if cr.extruded { 0.0 } else { -cr.c * px }, -cr.c * py, 1.0 - cr.kappa * pz);
+        let (ldx, ldy, ldz) = f.dir_to_local(dx[i], dy[i], dz[i]);
+        let dn = ldx * nx + ldy * ny + ldz * nz;
+        let s = 2.0 * dn;
+        let (gx, gy, gz) = f.dir_to_world(ldx - nx * s, ldy - ny * s, ldz - nz * s);
+        let (ux, uy, uz) = unit(gx, gy, gz);
+        let (wx, wy, wz) = f.point_to_world(px, py, pz);
+        ox[i] = if m { wx } else { ox[i] };
+        oy[i] = if m { wy } else { oy[i] };
+        oz[i] = if m { wz } else { oz[i] };
+        dx[i] = if m { ux } else { dx[i] };
+        dy[i] = if m { uy } else { dy[i] };
+        dz[i] = if m { uz } else { dz[i] };
+        opl[i] = if m { opl[i] + t[i] } else { opl[i] };
+        w[i] = if m { w[i] * rec.reflectivity } else { w[i] };
+        dn_col[i] = dn;
+    }
+    // …then the ray's state: the back face absorbs, so does the bounce
+    // limit or a ray with no power left.
+    let skip_next = if rec.no_return { k } else { NONE };
+    let (bounces, skip, alive) = (&mut b.bounces[..n], &mut b.skip[..n], &mut b.alive[..n]);
+    let (dn, w) = (&b.t0[..n], &b.w[..n]);
+    for i in 0..n {
+        let m = best[i] == k;
+        let nb = bounces[i] + 1;
+        let lives = !(dn[i] >= 0.0) & (nb <= max_bounces) & !(w[i] <= 0.0);
+        bounces[i] = if m { nb } else { bounces[i] };
+        skip[i] = if m { skip_next } else { skip[i] };
+        alive[i] = if m { lives } else { alive[i] };
+    }
+}
+
+/// Aspheric and spline mirrors: the same reflection with the exact normal.
+fn reflect_general(scene: &Scene, rec: &Rec, k: usize, b: &mut Batch, n: usize) {
+    let Part::Mirror { surface, .. } = &scene.elements[k].part else { return };
+    let f = rec.frame;
+    for i in 0..n {
+        if b.best[i] != k as u32 {
+            continue;
+        }
+        let (px, py, pz) = (b.hx[i], b.hy[i], b.hz[i]);
+        let m = surface.normal_at(&Vec3::new(px, py, pz));
+        let (ldx, ldy, ldz) = f.dir_to_local(b.dx[i], b.dy[i], b.dz[i]);
+        let dn = ldx * m.x + ldy * m.y + ldz * m.z;
+        let s = 2.0 * dn;
+        let (gx, gy, gz) = f.dir_to_world(ldx - m.x * s, ldy - m.y * s, ldz - m.z * s);
+        (b.dx[i], b.dy[i], b.dz[i]) = unit(gx, gy, gz);
+        (b.ox[i], b.oy[i], b.oz[i]) = f.point_to_world(px, py, pz);
+        b.opl[i] += b.t[i];
+        b.bounces[i] += 1;
+        b.w[i] *= rec.reflectivity;
+        b.skip[i] = if rec.no_return { k as u32 } else { NONE };
+        b.alive[i] = !(dn >= 0.0) && b.bounces[i] <= scene.max_bounces && !(b.w[i] <= 0.0);
+    }
+}
+
+/// (x, y, z) scaled to unit length, as `geometry::unit` rounds it.
+#[inline(always)]
+fn unit(x: f64, y: f64, z: f64) -> (f64, f64, f64) {
+    let inv = 1.0 / (x * x + y * y + z * z).sqrt();
+    (x * inv, y * inv, z * inv)
+}

@@ -1,0 +1,212 @@
+//! Running a whole trace: every source's rays, in numbered chunks spread
+//! over the threads (natively) and merged back in ray order, so the result
+//! is bit-identical whatever the thread count. A trace can also be cut
+//! into numbered slices (the page's worker pool traces one slice each) and
+//! the slices merged into exactly the whole trace.
+
+use super::compiled::Compiled;
+use super::kernel::{trace_range, Batch, Kernel, Tally};
+use super::source::Emitter;
+use super::tracer::{ScreenHits, TraceOptions, TraceResult};
+use crate::scene::Scene;
+
+/// Rays per chunk: the unit of work handed to a thread. Fixed, so the
+/// split never depends on the thread count.
+pub const CHUNK: usize = 16 * super::kernel::LANES;
+/// Most hits per screen reserved before tracing.
+const RESERVE_CAP: usize = 1 << 21;
+
+/// Threads a trace uses: `opts.threads`, or every core the OS offers.
+pub fn thread_count(opts: &TraceOptions) -> usize {
+    match opts.threads {
+        Some(n) => n.max(1),
+        None => std::thread::available_parallelism().map(|n| n.get()).unwrap_or(1),
+    }
+}
+
+fn emitters(scene: &Scene, opts: &TraceOptions) -> Vec<Emitter> {
+    scene.sources.iter().map(|s| Emitter::new(s, opts.rays.unwrap_or(s.rays() as usize))).collect()
+}
+
+/// Ray numbers of slice `k` of `parts` of a source with `n` rays.
+pub fn slice_range(n: usize, k: usize, parts: usize) -> std::ops::Range<usize> {
+    let parts = parts.max(1);
+    let at = |j: usize| ((n as u128 * j as u128) / parts as u128) as usize;
+    at(k.min(parts))..at((k + 1).min(parts))
+}
+
+fn reset(res: &mut TraceResult, scene: &Scene, reserve: usize) {
+    res.rays_launched = 0;
+    res.rays_escaped = 0;
+    res.rays_absorbed = 0;
+    res.surface_hits = 0;
+    res.launched_by_source.clear();
+    res.power_by_source.clear();
+    res.screens.resize_with(scene.screen_ids.len(), ScreenHits::default);
+    for s in &mut res.screens {
+        s.clear();
+        // Untouched capacity costs no memory traffic; growing by copying does.
+        s.reserve(reserve.min(RESERVE_CAP));
+    }
+}
+
+fn add_tally(res: &mut TraceResult, t: &Tally) {
+    res.rays_escaped += t.escaped;
+    res.rays_absorbed += t.absorbed;
+    res.surface_hits += t.surface_hits;
+}
+
+/// Traces into `res`, reusing its buffers; `progress(done, total)` is
+/// called on the calling thread as chunks finish. Everything in `res` is
+/// replaced.
+pub fn trace_into(scene: &Scene, opts: TraceOptions, res: &mut TraceResult, progress: &mut dyn FnMut(u64, u64)) {
+    trace_part(scene, opts, 0, 1, res, progress);
+}
+
+/// Traces slice `k` of `parts` (each source's rays numbered and cut into
+/// `parts` equal runs; see [`slice_range`]) into `res`. `launched_by_source`
+/// counts the slice's rays; `power_by_source` is each source's whole power.
+pub fn trace_part(
+    scene: &Scene,
+    opts: TraceOptions,
+    k: usize,
+    parts: usize,
+    res: &mut TraceResult,
+    progress: &mut dyn FnMut(u64, u64),
+) {
+    let ems = emitters(scene, &opts);
+    let ranges: Vec<_> = ems.iter().map(|e| slice_range(e.len(), k, parts)).collect();
+    let total: u64 = ranges.iter().map(|r| r.len() as u64).sum();
+    reset(res, scene, total as usize);
+    for (em, r) in ems.iter().zip(&ranges) {
+        res.launched_by_source.push(r.len() as u64);
+        res.power_by_source.push(em.power_w);
+    }
+    res.rays_launched = total;
+    let comp = Compiled::new(scene);
+    let kernel = opts.kernel.unwrap_or_else(Kernel::detect);
+    let threads = thread_count(&opts);
+    // Chunks in ray order: (source, ray range).
+    let chunks: Vec<(usize, std::ops::Range<usize>)> = ranges
+        .iter()
+        .enumerate()
+        .flat_map(|(si, r)| {
+            (r.start..r.end).step_by(CHUNK).map(move |a| (si, a..(a + CHUNK).min(r.end)))
+        })
+        .collect();
+    let mut done = 0u64;
+    if threads <= 1 || chunks.len() <= 1 {
+        let mut batch = Batch::new();
+        for (si, r) in chunks {
+            let t = trace_range(scene, &comp, kernel, &ems[si], si as u32, r.clone(), &mut batch, &mut res.screens);
+            add_tally(res, &t);
+            done += r.len() as u64;
+            progress(done, total);
+        }
+        return;
+    }
+    parallel(scene, &comp, kernel, &ems, &chunks, threads, res, &mut |n| {
+        done += n;
+        progress(done, total);
+    });
+}
+
+#[cfg(not(target_arch = "wasm32"))]
+#[allow(clippy::too_many_arguments)]
+fn parallel(
+    scene: &Scene,
+    comp: &Compiled,
+    kernel: Kernel,
+    ems: &[Emitter],
+    chunks: &[(usize, std::ops::Range<usize>)],
+    threads: usize,
+    res: &mut TraceResult,
+    progress: &mut dyn FnMut(u64),
+) {
+    use rayon::prelude::*;
+    let screens = res.screens.len();
+    let work = |wave: &[(usize, std::ops::Range<usize>)]| -> Vec<(Vec<ScreenHits>, Tally)> {
+        wave.par_iter()
+            .map_init(Batch::new, |batch, (si, r)| {
+                let mut out = vec![ScreenHits::default(); screens];
+                let t = trace_range(scene, comp, kernel, &ems[*si], *si as u32, r.clone(), batch, &mut out);
+                (out, t)
+            })
+            .collect()
+    };
+    // A pool of the asked size unless the global one already is.
+    let pool = (threads != rayon::current_num_threads())
+        .then(|| rayon::ThreadPoolBuilder::new().num_threads(threads).build().ok())
+        .flatten();
+    // Waves of a few chunks per thread: progress is reported between them.
+    for group in chunks.chunks(threads * 4) {
+        let outs = match &pool {
+            Some(p) => p.install(|| work(group)),
+            None => work(group),
+        };
+        for (out, t) in outs {
+            add_tally(res, &t);
+            for (dst, src) in res.screens.iter_mut().zip(&out) {
+                dst.append(src);
+            }
+        }
+        progress(group.iter().map(|c| c.1.len() as u64).sum());
+    }
+}
+
+/// Without threads (a wasm module): the chunks one after another.
+#[cfg(target_arch = "wasm32")]
+#[allow(clippy::too_many_arguments)]
+fn parallel(
+    scene: &Scene,
+    comp: &Compiled,
+    kernel: Kernel,
+    ems: &[Emitter],
+    chunks: &[(usize, std::ops::Range<usize>)],
+    _threads: usize,
+    res: &mut TraceResult,
+    progress: &mut dyn FnMut(u64),
+) {
+    let mut batch = Batch::new();
+    for (si, r) in chunks {
+        let t = trace_range(scene, comp, kernel, &ems[*si], *si as u32, r.clone(), &mut batch, &mut res.screens);
+        add_tally(res, &t);
+        progress(r.len() as u64);
+    }
+}
+
+/// Merges the slices `0..parts.len()` of one trace (from [`trace_part`]
+/// with the same scene and options) into exactly the whole trace.
+pub fn merge_parts(parts: &[TraceResult]) -> TraceResult {
+    let mut res = TraceResult::default();
+    let Some(first) = parts.first() else { return res };
+    let sources = first.launched_by_source.len();
+    res.power_by_source = first.power_by_source.clone();
+    res.launched_by_source = vec![0; sources];
+    res.screens = vec![ScreenHits::default(); first.screens.len()];
+    for p in parts {
+        res.rays_launched += p.rays_launched;
+        res.rays_escaped += p.rays_escaped;
+        res.rays_absorbed += p.rays_absorbed;
+        res.surface_hits += p.surface_hits;
+        for (a, b) in res.launched_by_source.iter_mut().zip(&p.launched_by_source) {
+            *a += b;
+        }
+    }
+    // Hits are in (source, ray) order within each part: source by source,
+    // slice by slice.
+    for (s, dst) in res.screens.iter_mut().enumerate() {
+        let total: usize = parts.iter().map(|p| p.screens.get(s).map_or(0, |h| h.len())).sum();
+        dst.reserve(total);
+        let mut at: Vec<usize> = vec![0; parts.len()];
+        for src in 0..sources as u32 {
+            for (p, pos) in parts.iter().zip(at.iter_mut()) {
+                let Some(h) = p.screens.get(s) else { continue };
+                let end = *pos + h.source[*pos..].partition_point(|&x| x == src);
+                dst.extend_range(h, *pos..end);
+                *pos = end;
+            }
+        }
+    }
+    res
+}

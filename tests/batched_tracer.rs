@@ -1,0 +1,168 @@
+//! The batched, multi-threaded tracer against the scalar reference tracer
+//! (`trace_reference`, one ray at a time): same fates, same hits, bit for
+//! bit, on the presets, the benchmark scenes and random valid layouts;
+//! identical results whatever the thread count; slices of a trace merge
+//! into exactly the whole trace; a result traced into twice holds only the
+//! second trace. Common practice for an optimised kernel: keep the simple
+//! version as the oracle.
+
+mod layout_support;
+use catoptric::bench_scenes::scenes;
+use catoptric::trace::{merge_parts, Kernel, trace_into, trace_part, trace_reference, TraceOptions, TraceResult};
+use catoptric::{parse_layout, trace, Scene};
+use layout_support::*;
+
+fn opts(rays: Option<usize>, threads: usize) -> TraceOptions {
+    TraceOptions { rays, threads: Some(threads), ..Default::default() }
+}
+
+/// Bit-for-bit equality of two results, with a message naming the first
+/// difference.
+fn same(a: &TraceResult, b: &TraceResult, what: &str) {
+    assert_eq!(
+        (a.rays_launched, a.rays_escaped, a.rays_absorbed, a.surface_hits),
+        (b.rays_launched, b.rays_escaped, b.rays_absorbed, b.surface_hits),
+        "{what}: counters"
+    );
+    assert_eq!(a.launched_by_source, b.launched_by_source, "{what}");
+    assert_eq!(a.power_by_source, b.power_by_source, "{what}");
+    assert_eq!(a.screens.len(), b.screens.len(), "{what}");
+    for (k, (x, y)) in a.screens.iter().zip(&b.screens).enumerate() {
+        assert_eq!(x.len(), y.len(), "{what}: hits on screen {k}");
+        let cols = |h: &catoptric::trace::ScreenHits| {
+            [h.u.clone(), h.v.clone(), h.du.clone(), h.dv.clone(), h.dw.clone(), h.opl.clone(), h.weight.clone()]
+        };
+        for (c, (p, q)) in cols(x).iter().zip(cols(y).iter()).enumerate() {
+            for (i, (u, v)) in p.iter().zip(q).enumerate() {
+                assert!(u.to_bits() == v.to_bits() || (u.is_nan() && v.is_nan()), "{what}: screen {k} column {c} hit {i}: {u} vs {v}");
+            }
+        }
+        assert_eq!(x.source, y.source, "{what}: sources on screen {k}");
+    }
+}
+
+fn presets() -> Vec<(String, String)> {
+    let dir = concat!(env!("CARGO_MANIFEST_DIR"), "/www/presets");
+    let mut out = Vec::new();
+    for e in std::fs::read_dir(dir).unwrap() {
+        let p = e.unwrap().path();
+        if p.extension().is_some_and(|x| x == "json") && !p.ends_with("index.json") {
+            out.push((p.display().to_string(), std::fs::read_to_string(&p).unwrap()));
+        }
+    }
+    assert!(out.len() >= 5, "presets found: {}", out.len());
+    out
+}
+
+#[test]
+fn presets_and_bench_scenes_match_the_reference_bit_for_bit() {
+    let mut layouts: Vec<(String, Scene)> = presets().into_iter().map(|(n, t)| (n, scene(&t))).collect();
+    layouts.extend(scenes().into_iter().map(|s| (s.key.to_string(), Scene::compile(&s.layout))));
+    for (name, sc) in &layouts {
+        let reference = trace_reference(sc, opts(Some(3000), 1));
+        assert!(reference.surface_hits > 0, "{name}: nothing hit");
+        for k in Kernel::available() {
+            let o = TraceOptions { kernel: Some(k), ..opts(Some(3000), 1) };
+            same(&trace(sc, o), &reference, &format!("{name}, kernel {}", k.name()));
+        }
+    }
+}
+
+#[test]
+fn random_layouts_match_the_reference_bit_for_bit_with_every_kernel() {
+    let kernels = Kernel::available();
+    assert_eq!(kernels[0], Kernel::Portable);
+    let mut rng = Rng(0x5eed_ba7c);
+    let mut traced = 0;
+    for case in 0..400 {
+        let text = random_layout(&mut rng);
+        let Ok(layout) = parse_layout(&text) else { continue };
+        let sc = Scene::compile(&layout);
+        let reference = trace_reference(&sc, opts(None, 1));
+        for &k in &kernels {
+            let o = TraceOptions { kernel: Some(k), ..opts(None, 2) };
+            same(&trace(&sc, o), &reference, &format!("case {case}, kernel {}: {text}", k.name()));
+        }
+        traced += 1;
+    }
+    assert!(traced > 200, "only {traced} random layouts were valid");
+}
+
+#[test]
+fn a_ray_meeting_one_concave_mirror_twice_is_traced_like_the_reference() {
+    // Two facing concave spheres (a cavity): rays bounce between them many
+    // times, meeting each mirror again on later legs, and the screen in
+    // the middle is crossed on several rounds (its hits must still come out
+    // in ray order).
+    let text = layout(
+        &[
+            mirror("left", [0.0, -100.0], 0.0, Some(150.0), 0.0, 80.0, 0.0, 0.0, None),
+            mirror("right", [0.0, 100.0], 180.0, Some(150.0), 0.0, 80.0, 0.0, 0.0, None),
+            screen("mid", [0.0, 0.0], 180.0, 60.0, "circle", false),
+        ],
+        &[lamp("lamp", [5.0, 0.0], 0.0, 20.0, 3000, 10.0)],
+    );
+    let sc = scene(&text);
+    let reference = trace_reference(&sc, opts(None, 1));
+    assert!(reference.surface_hits > 4 * reference.rays_launched, "rays should bounce back and forth");
+    for threads in [1, 2, 3, 8] {
+        same(&trace(&sc, opts(None, threads)), &reference, &format!("{threads} threads"));
+    }
+}
+
+#[test]
+fn thread_counts_give_identical_results_and_reports() {
+    // Common practice for parallel numerics: a fixed split into numbered
+    // chunks, merged in order, so the answer never depends on scheduling.
+    for s in scenes() {
+        let sc = Scene::compile(&s.layout);
+        let one = trace(&sc, opts(Some(100_000), 1));
+        let report = serde_json::to_string(&catoptric::analysis::trace_report(&sc, &one)).unwrap();
+        for threads in [2, 3, 8] {
+            let many = trace(&sc, opts(Some(100_000), threads));
+            same(&many, &one, &format!("{} on {threads} threads", s.key));
+            let r = serde_json::to_string(&catoptric::analysis::trace_report(&sc, &many)).unwrap();
+            assert_eq!(r, report, "{}: report on {threads} threads", s.key);
+        }
+    }
+}
+
+#[test]
+fn slices_merge_into_exactly_the_whole_trace() {
+    // As the page's worker pool does: each worker traces slice k of K.
+    for s in scenes() {
+        let sc = Scene::compile(&s.layout);
+        let whole = trace(&sc, opts(Some(20_000), 1));
+        for parts in [1usize, 2, 3, 7] {
+            let slices: Vec<TraceResult> = (0..parts)
+                .map(|k| {
+                    let mut r = TraceResult::default();
+                    trace_part(&sc, opts(Some(20_000), 1), k, parts, &mut r, &mut |_, _| {});
+                    r
+                })
+                .collect();
+            same(&merge_parts(&slices), &whole, &format!("{} in {parts} slices", s.key));
+        }
+    }
+}
+
+#[test]
+fn tracing_twice_into_one_result_keeps_only_the_second_trace() {
+    let all = scenes();
+    let (a, b) = (Scene::compile(&all[0].layout), Scene::compile(&all[1].layout));
+    let mut res = TraceResult::default();
+    trace_into(&a, opts(Some(5000), 2), &mut res, &mut |_, _| {});
+    trace_into(&b, opts(Some(3000), 2), &mut res, &mut |_, _| {});
+    same(&res, &trace_reference(&b, opts(Some(3000), 1)), "second trace into a used result");
+}
+
+#[test]
+fn progress_reaches_the_total_once_and_never_goes_back() {
+    let sc = Scene::compile(&scenes()[0].layout);
+    for threads in [1, 2] {
+        let mut seen: Vec<(u64, u64)> = Vec::new();
+        let res = catoptric::trace::trace_with(&sc, opts(Some(200_000), threads), &mut |d, t| seen.push((d, t)));
+        assert!(seen.windows(2).all(|w| w[0].0 < w[1].0), "{threads} threads: {seen:?}");
+        assert_eq!(seen.last().copied(), Some((res.rays_launched, res.rays_launched)));
+    }
+}
