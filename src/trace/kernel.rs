@@ -79,6 +79,9 @@ pub(crate) struct Batch {
     /// Lane lists for gathers.
     sel: Vec<u32>,
     recorded: Vec<Recorded>,
+    /// Scratch for reordering hits.
+    order: Vec<u32>,
+    scratch: Vec<f64>,
 }
 
 impl Batch {
@@ -107,6 +110,8 @@ impl Batch {
             touched: Vec::new(),
             sel: vec![0; LANES],
             recorded: Vec::new(),
+            order: Vec::new(),
+            scratch: Vec::new(),
         }
     }
 }
@@ -248,20 +253,38 @@ pub(crate) fn trace_range(
 }
 
 /// Puts a batch's hits on each screen in ray order. They already are unless
-/// a ray met one screen in two different rounds; then a stable sort by ray
-/// number (rounds keep their order) rearranges that batch's run.
+/// a ray met one screen in two different rounds; then a stable counting
+/// sort by ray number (rounds keep their order) rearranges that batch's run.
 fn order_hits(b: &mut Batch, out: &mut [ScreenHits]) {
     for (r, o) in b.recorded.iter().zip(out.iter_mut()) {
         if r.sorted {
             continue;
         }
-        let mut idx: Vec<usize> = (0..r.rays.len()).collect();
-        idx.sort_by_key(|&j| r.rays[j]);
+        // Destination of each recorded hit: stable counting sort.
+        let at = &mut b.order;
+        at.clear();
+        at.resize(LANES + 1, 0);
+        for &ray in &r.rays {
+            at[ray as usize + 1] += 1;
+        }
+        for k in 1..at.len() {
+            at[k] += at[k - 1];
+        }
+        let dest: Vec<u32> = r
+            .rays
+            .iter()
+            .map(|&ray| {
+                let d = at[ray as usize];
+                at[ray as usize] += 1;
+                d
+            })
+            .collect();
         let s = r.start;
         for col in [&mut o.u, &mut o.v, &mut o.du, &mut o.dv, &mut o.dw, &mut o.opl, &mut o.weight] {
-            let old: Vec<f64> = col[s..].to_vec();
-            for (dst, &j) in col[s..].iter_mut().zip(&idx) {
-                *dst = old[j];
+            b.scratch.clear();
+            b.scratch.extend_from_slice(&col[s..]);
+            for (j, &d) in dest.iter().enumerate() {
+                col[s + d as usize] = b.scratch[j];
             }
         }
     }

@@ -128,7 +128,7 @@ fn parallel(
     let work = |wave: &[(usize, std::ops::Range<usize>)]| -> Vec<(Vec<ScreenHits>, Tally)> {
         wave.par_iter()
             .map_init(Batch::new, |batch, (si, r)| {
-                let mut out = vec![ScreenHits::default(); screens];
+                let mut out = take_buffers(screens);
                 let t = trace_range(scene, comp, kernel, &ems[*si], *si as u32, r.clone(), batch, &mut out);
                 (out, t)
             })
@@ -149,8 +149,35 @@ fn parallel(
             for (dst, src) in res.screens.iter_mut().zip(&out) {
                 dst.append(src);
             }
+            give_buffers(out);
         }
         progress(group.iter().map(|c| c.1.len() as u64).sum());
+    }
+}
+
+/// Chunk output buffers kept between traces: a re-trace writes into memory
+/// that is already mapped instead of faulting fresh pages in on every
+/// thread (which serialises threads on the kernel's memory locks).
+#[cfg(not(target_arch = "wasm32"))]
+static BUFFERS: std::sync::Mutex<Vec<Vec<ScreenHits>>> = std::sync::Mutex::new(Vec::new());
+/// Most buffer sets kept.
+#[cfg(not(target_arch = "wasm32"))]
+const KEPT_BUFFERS: usize = 64;
+
+#[cfg(not(target_arch = "wasm32"))]
+fn take_buffers(screens: usize) -> Vec<ScreenHits> {
+    let mut out = BUFFERS.lock().ok().and_then(|mut p| p.pop()).unwrap_or_default();
+    out.resize_with(screens, ScreenHits::default);
+    out
+}
+
+#[cfg(not(target_arch = "wasm32"))]
+fn give_buffers(mut out: Vec<ScreenHits>) {
+    out.iter_mut().for_each(ScreenHits::clear);
+    if let Ok(mut p) = BUFFERS.lock() {
+        if p.len() < KEPT_BUFFERS {
+            p.push(out);
+        }
     }
 }
 

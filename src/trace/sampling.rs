@@ -107,14 +107,33 @@ pub fn halton_disk(i: u64, bases: (u64, u64), rot: (f64, f64)) -> [f64; 2] {
 /// spacing tuned so the count is close to `n`). The last few point sets
 /// are kept and shared: re-tracing the same sources lays no new points.
 pub fn disk_points(pattern: Pattern, n: usize, seed: u64) -> Arc<DiskPoints> {
-    let key = (pattern, n.max(1), if pattern == Pattern::Random { seed } else { 0 });
+    let key = (Set::Disk(pattern), n.max(1), if pattern == Pattern::Random { seed } else { 0 });
+    cached(key, || lay_points(pattern, key.1, seed))
+}
+
+/// The directions of an extended sun: sample `i` of the seeded Halton
+/// sequence in bases (5, 7) on the unit disk (see [`halton_disk`]), for
+/// i < n; cached like [`disk_points`].
+pub fn sun_points(n: usize, seed: u64) -> Arc<DiskPoints> {
+    let rot = rotation(seed, 2);
+    cached((Set::Sun, n, seed), || {
+        let mut pts = DiskPoints::with_capacity(n);
+        for i in 0..n as u64 {
+            let [x, y] = halton_disk(i, (5, 7), rot);
+            pts.push(x, y);
+        }
+        pts
+    })
+}
+
+fn cached(key: Key, lay: impl FnOnce() -> DiskPoints) -> Arc<DiskPoints> {
     let cache = CACHE.get_or_init(|| Mutex::new(Vec::new()));
     if let Ok(c) = cache.lock() {
         if let Some((_, p)) = c.iter().find(|(k, _)| *k == key) {
             return Arc::clone(p);
         }
     }
-    let pts = Arc::new(lay_points(pattern, key.1, seed));
+    let pts = Arc::new(lay());
     if let Ok(mut c) = cache.lock() {
         if c.len() >= CACHE_SETS {
             c.remove(0);
@@ -126,7 +145,13 @@ pub fn disk_points(pattern: Pattern, n: usize, seed: u64) -> Arc<DiskPoints> {
 
 /// Point sets kept by [`disk_points`].
 const CACHE_SETS: usize = 8;
-type Key = (Pattern, usize, u64);
+/// Which point set: a source's disk, or a sun's directions.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+enum Set {
+    Disk(Pattern),
+    Sun,
+}
+type Key = (Set, usize, u64);
 type Cache = Mutex<Vec<(Key, Arc<DiskPoints>)>>;
 static CACHE: OnceLock<Cache> = OnceLock::new();
 

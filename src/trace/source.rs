@@ -1,6 +1,6 @@
 //! Turning a layout source into rays.
 
-use super::sampling::{disk_points, halton_disk, rotation, seed_of, DiskPoints};
+use super::sampling::{disk_points, seed_of, sun_points, DiskPoints};
 use crate::geometry::{Frame, Vec3};
 use crate::layout::Source;
 
@@ -14,6 +14,25 @@ pub struct Ray {
     pub opl: f64,
 }
 
+/// [`Emitter::cone_dir`] for columns of disk samples (same operations, so
+/// the same bits), in a loop the compiler vectorises.
+fn cone_dirs(axis: Vec3, e1: Vec3, e2: Vec3, omc: f64, a: &[f64], b: &[f64], d: [&mut [f64]; 3]) {
+    let [dx, dy, dz] = d;
+    let n = a.len().min(b.len()).min(dx.len()).min(dy.len()).min(dz.len());
+    for k in 0..n {
+        let (a, b) = (a[k], b[k]);
+        let r2 = a * a + b * b;
+        let cos_t = 1.0 - r2 * omc;
+        let sin_t = (1.0 - cos_t * cos_t).max(0.0).sqrt();
+        let r = r2.sqrt();
+        let (ua, ub) = (a / r, b / r);
+        let at_axis = r2 == 0.0;
+        dx[k] = if at_axis { axis.x } else { axis.x * cos_t + (e1.x * ua + e2.x * ub) * sin_t };
+        dy[k] = if at_axis { axis.y } else { axis.y * cos_t + (e1.y * ua + e2.y * ub) * sin_t };
+        dz[k] = if at_axis { axis.z } else { axis.z * cos_t + (e1.z * ua + e2.z * ub) * sin_t };
+    }
+}
+
 /// A compiled source: its frame, its sample points and the power per ray.
 #[derive(Debug, Clone)]
 pub struct Emitter {
@@ -25,11 +44,12 @@ pub struct Emitter {
     e2: Vec3,
     points: std::sync::Arc<DiskPoints>,
     kind: Kind,
+    /// An extended sun's direction samples, one per ray.
+    sun: Option<std::sync::Arc<DiskPoints>>,
     /// Power carried by each ray, W.
     pub ray_weight: f64,
     /// Power the source puts out in all, W.
     pub power_w: f64,
-    sun_rot: (f64, f64),
 }
 
 #[derive(Debug, Clone, Copy)]
@@ -49,6 +69,7 @@ impl Emitter {
                 let axis = frame.ez * c + frame.ex * s;
                 let e1 = frame.ex * c - frame.ez * s;
                 let points = disk_points(b.pattern, rays, seed_of(&b.id));
+                let sun = (b.sun_half_angle_mrad > 0.0).then(|| sun_points(points.len(), seed_of(&b.id)));
                 let radius = 0.5 * b.diameter;
                 let area_m2 = std::f64::consts::PI * radius * radius * 1e-6;
                 let power_w = b.irradiance_w_m2 * area_m2;
@@ -61,7 +82,7 @@ impl Emitter {
                     power_w,
                     points,
                     kind: Kind::Beam { radius, sun_half: b.sun_half_angle_mrad * 1e-3 },
-                    sun_rot: rotation(seed_of(&b.id), 2),
+                    sun,
                 }
             }
             Source::Point(p) => {
@@ -76,7 +97,7 @@ impl Emitter {
                     power_w: p.power_w,
                     points,
                     kind: Kind::Lamp { one_minus_cos: 1.0 - p.cone_half_angle_deg.to_radians().cos() },
-                    sun_rot: (0.0, 0.0),
+                    sun: None,
                 }
             }
         }
@@ -117,11 +138,12 @@ impl Emitter {
         match self.kind {
             Kind::Beam { radius, sun_half } => {
                 let origin = self.frame.origin + (self.e1 * a + self.e2 * b) * radius;
-                let dir = if sun_half > 0.0 {
-                    let [p, q] = halton_disk(i as u64, (5, 7), self.sun_rot);
-                    self.cone_dir(p, q, 1.0 - sun_half.cos())
-                } else {
-                    self.axis
+                let dir = match &self.sun {
+                    Some(s) if sun_half > 0.0 => {
+                        let [p, q] = s.get(i);
+                        self.cone_dir(p, q, 1.0 - sun_half.cos())
+                    }
+                    _ => self.axis,
                 };
                 Ray { origin, dir, weight: self.ray_weight, opl: 0.0 }
             }
@@ -139,25 +161,32 @@ impl Emitter {
         let [dx, dy, dz] = d;
         let n = ox.len();
         let (px, py) = (&self.points.x[start..start + n], &self.points.y[start..start + n]);
-        match self.kind {
-            Kind::Beam { radius, sun_half: 0.0 } => {
-                let (o, e1, e2, a) = (self.frame.origin, self.e1, self.e2, self.axis);
+        let (o, e1, e2, axis) = (self.frame.origin, self.e1, self.e2, self.axis);
+        match (self.kind, &self.sun) {
+            (Kind::Beam { radius, sun_half }, sun) => {
                 for k in 0..n {
                     let (p, q) = (px[k], py[k]);
                     ox[k] = o.x + (e1.x * p + e2.x * q) * radius;
                     oy[k] = o.y + (e1.y * p + e2.y * q) * radius;
                     oz[k] = o.z + (e1.z * p + e2.z * q) * radius;
                 }
-                dx[..n].fill(a.x);
-                dy[..n].fill(a.y);
-                dz[..n].fill(a.z);
-            }
-            _ => {
-                for k in 0..n {
-                    let r = self.ray(start + k);
-                    (ox[k], oy[k], oz[k]) = (r.origin.x, r.origin.y, r.origin.z);
-                    (dx[k], dy[k], dz[k]) = (r.dir.x, r.dir.y, r.dir.z);
+                match sun {
+                    Some(s) if sun_half > 0.0 => {
+                        let (sx, sy) = (&s.x[start..start + n], &s.y[start..start + n]);
+                        cone_dirs(axis, e1, e2, 1.0 - sun_half.cos(), sx, sy, [dx, dy, dz]);
+                    }
+                    _ => {
+                        dx[..n].fill(axis.x);
+                        dy[..n].fill(axis.y);
+                        dz[..n].fill(axis.z);
+                    }
                 }
+            }
+            (Kind::Lamp { one_minus_cos }, _) => {
+                ox[..n].fill(o.x);
+                oy[..n].fill(o.y);
+                oz[..n].fill(o.z);
+                cone_dirs(axis, e1, e2, one_minus_cos, px, py, [dx, dy, dz]);
             }
         }
     }
