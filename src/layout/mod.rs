@@ -44,11 +44,13 @@ fn is_false(v: &bool) -> bool {
 #[serde(deny_unknown_fields)]
 pub struct Layout {
     pub format: String,
+    #[serde(deserialize_with = "parse::whole_u32")]
     pub version: u32,
     pub name: String,
     #[serde(default, skip_serializing_if = "String::is_empty")]
     pub notes: String,
     pub wavelength_nm: f64,
+    #[serde(deserialize_with = "parse::whole_u32")]
     pub max_bounces: u32,
     pub elements: Vec<Element>,
     pub sources: Vec<Source>,
@@ -199,6 +201,7 @@ pub struct Beam {
     #[serde(default, skip_serializing_if = "is_zero")]
     pub out_of_plane_deg: f64,
     pub diameter: f64,
+    #[serde(deserialize_with = "parse::whole_u64")]
     pub rays: u64,
     pub pattern: Pattern,
     #[serde(default, skip_serializing_if = "is_zero")]
@@ -215,6 +218,7 @@ pub struct PointLamp {
     pub center: [f64; 2],
     pub direction_deg: f64,
     pub cone_half_angle_deg: f64,
+    #[serde(deserialize_with = "parse::whole_u64")]
     pub rays: u64,
     pub pattern: Pattern,
     /// Power emitted into the cone, W.
