@@ -317,3 +317,47 @@ fn notes_have_a_documented_cap() {
     assert_eq!(e.field, "notes");
     assert!(e.message.contains("64 KiB"), "{e}");
 }
+
+/// A valid layout whose minified JSON is over the link cap: 256 mirrors
+/// with 512 departure knots each.
+pub fn layout_past_the_link_cap() -> Value {
+    with(|v| {
+        let mirror = v["elements"][0].clone();
+        let knots: Vec<[f64; 2]> =
+            (0..512).map(|i| [i as f64 * 0.19569471624266144, 1e-3 * (i as f64 * 0.123_456_789).sin()]).collect();
+        let mut els = Vec::new();
+        for i in 0..255 {
+            let mut m = mirror.clone();
+            m["id"] = json!(format!("mirror-number-{i}"));
+            m["vertex"] = json!([i as f64 * 300.0, 1000.0 + i as f64 * 0.123_456_789]);
+            m["profile"]["departure"] = json!(knots);
+            els.push(m);
+        }
+        els.push(v["elements"][1].clone());
+        v["elements"] = json!(els);
+    })
+}
+
+#[test]
+fn link_refuses_what_unlink_would_refuse() {
+    let l = parse_layout(&layout_past_the_link_cap().to_string()).expect("a valid layout");
+    let json = l.to_json_compact();
+    assert!(json.len() > catoptric::layout::MAX_LINK_LAYOUT_BYTES, "{} bytes", json.len());
+    let e = catoptric::layout::checked_link(&l).unwrap_err();
+    assert_eq!(e.field, "link");
+    assert!(e.message.contains("4 MiB"), "{e}");
+    // The unchecked encoding is exactly what decoding refuses.
+    assert!(decode_link(&encode_link(&l)).is_err());
+    // Under the cap, the checked link is the link.
+    let small = parse_layout(&base().to_string()).unwrap();
+    assert_eq!(catoptric::layout::checked_link(&small).unwrap(), encode_link(&small));
+    // `catoptric link` refuses it too, naming the cap, with nothing on stdout.
+    let path = std::env::temp_dir().join(format!("catoptric-link-cap-{}.json", std::process::id()));
+    std::fs::write(&path, l.to_json_pretty()).unwrap();
+    let out = std::process::Command::new(env!("CARGO_BIN_EXE_catoptric")).arg("link").arg(&path).output().unwrap();
+    let _ = std::fs::remove_file(&path);
+    let err = String::from_utf8_lossy(&out.stderr);
+    assert_eq!(out.status.code(), Some(2), "{err}");
+    assert!(out.stdout.is_empty());
+    assert!(err.contains("link") && err.contains("4 MiB") && err.lines().count() == 1, "{err}");
+}

@@ -8,10 +8,12 @@
 
 mod link;
 mod parse;
+mod text;
 mod validate;
 
-pub use link::{decode_link, encode_link, LINK_PREFIX, MAX_LINK_LAYOUT_BYTES};
+pub use link::{checked_link, decode_link, encode_link, LINK_PREFIX, MAX_LINK_LAYOUT_BYTES};
 pub use parse::parse_layout;
+pub use text::{decode_layout_bytes, MAX_LAYOUT_BYTES};
 pub use validate::{
     validate, DOMAIN_MARGIN, MAX_BOUNCES_CAP, MAX_ELEMENTS, MAX_LENGTH_MM, MAX_NAME_LEN, MAX_NOTES_BYTES,
     MAX_RAYS_PER_SOURCE, MAX_RAYS_TOTAL, MIN_LENGTH_MM,

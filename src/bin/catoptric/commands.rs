@@ -2,20 +2,23 @@
 
 use crate::Failure;
 use catoptric::analysis::{trace_report, TraceReport};
-use catoptric::layout::{decode_link, encode_link, parse_layout, Layout, MAX_RAYS_PER_SOURCE};
+use catoptric::layout::{checked_link, decode_layout_bytes, decode_link, parse_layout, Layout, MAX_LAYOUT_BYTES, MAX_RAYS_PER_SOURCE};
 use catoptric::{trace::TraceOptions, Scene};
 use std::fmt::Write as _;
+use std::io::Read as _;
 
-/// Largest layout file read, bytes.
-const MAX_FILE_BYTES: u64 = 16 << 20;
-
+/// Reads a layout file of at most [`MAX_LAYOUT_BYTES`], whatever it is (a
+/// pipe or a device has no size to check first: reading stops one byte
+/// past the cap), in UTF-8 or UTF-16 as the page reads it.
 pub fn read_layout(path: &str) -> Result<Layout, Failure> {
-    let meta = std::fs::metadata(path).map_err(|e| Failure::input(format!("{path}: cannot read: {e}")))?;
-    if meta.len() > MAX_FILE_BYTES {
-        return Err(Failure::input(format!("{path}: file is larger than 16 MiB")));
+    let cannot = |e: std::io::Error| Failure::input(format!("{path}: cannot read: {e}"));
+    let file = std::fs::File::open(path).map_err(cannot)?;
+    let mut bytes = Vec::new();
+    file.take(MAX_LAYOUT_BYTES + 1).read_to_end(&mut bytes).map_err(cannot)?;
+    if bytes.len() as u64 > MAX_LAYOUT_BYTES {
+        return Err(Failure::input(format!("{path}: larger than {} MiB, the most a layout may be", MAX_LAYOUT_BYTES >> 20)));
     }
-    let bytes = std::fs::read(path).map_err(|e| Failure::input(format!("{path}: cannot read: {e}")))?;
-    let text = String::from_utf8(bytes).map_err(|_| Failure::input(format!("{path}: not UTF-8 text")))?;
+    let text = decode_layout_bytes(&bytes).map_err(|e| Failure::input(format!("{path}: {e}")))?;
     parse_layout(&text).map_err(|e| Failure::input(format!("{path}: {e}")))
 }
 
@@ -122,7 +125,7 @@ fn source_lines(s: &mut String, b: &catoptric::analysis::SourceReport) {
 
 pub fn link(path: &str, json: bool) -> Result<String, Failure> {
     let layout = read_layout(path)?;
-    let frag = encode_link(&layout);
+    let frag = checked_link(&layout).map_err(|e| Failure::input(format!("{path}: {e}")))?;
     Ok(if json { to_json(&serde_json::json!({ "fragment": frag })) } else { frag })
 }
 
