@@ -297,9 +297,7 @@ fn degenerate_values_that_passed_before_are_refused_by_field() {
         v["sources"][0]["diameter"] = json!(catoptric::layout::MIN_LENGTH_MM);
         v["sources"][0]["center"] = json!([0, 500]);
     });
-    let l = parse_layout(&tiny.to_string()).expect("the documented minimum is allowed");
-    let scene = Scene::compile(&l);
-    let r = trace(&scene, TraceOptions { rays: Some(50) });
+    let (scene, r) = common::run(&tiny.to_string());
     let report = catoptric::analysis::trace_report(&scene, &r);
     for sc in &report.screens {
         assert!(sc.flux.mean_w_m2.is_finite() && sc.flux.peak_w_m2.is_finite(), "{:?}", sc.flux);
