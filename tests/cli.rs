@@ -85,3 +85,113 @@ fn link_then_unlink_round_trips_exactly() {
     let orig = catoptric::parse_layout(&std::fs::read_to_string(concat!(env!("CARGO_MANIFEST_DIR"), "/www/presets/off-axis-paraboloid.json")).unwrap()).unwrap();
     assert_eq!(back, orig);
 }
+
+// ---- terminal-safe, one-line messages (common practice for command-line
+// tools: never pass a file's control characters to the terminal; ECMA-48
+// control functions start with C0/C1 characters) ----
+
+fn preset_with(edit: impl FnOnce(&mut serde_json::Value)) -> String {
+    let mut v: serde_json::Value =
+        serde_json::from_str(&std::fs::read_to_string(concat!(env!("CARGO_MANIFEST_DIR"), "/www/presets/paraboloid-f5.json")).unwrap()).unwrap();
+    edit(&mut v);
+    v.to_string()
+}
+
+fn one_line_refusal(args: &[&str], flag: &str) -> String {
+    let (code, out, err) = run(args);
+    assert_eq!(code, 2, "{args:?}: {err}");
+    assert!(out.is_empty(), "{args:?} printed {out}");
+    assert_eq!(err.lines().count(), 1, "{args:?}: one line: {err}");
+    assert!(err.starts_with(&format!("catoptric: {flag}: ")), "{args:?}: {err}");
+    err
+}
+
+#[test]
+fn names_and_ids_from_files_cannot_drive_the_terminal() {
+    let esc = "\u{1b}[2J\u{1b}[31m";
+    let cases = [
+        // A duplicate id, an unknown field and an unknown kind are echoed.
+        preset_with(|v| {
+            v["elements"][0]["id"] = serde_json::json!(format!("dup{esc}"));
+            v["elements"][1]["id"] = serde_json::json!(format!("dup{esc}"));
+        }),
+        preset_with(|v| v["elements"][1][format!("size{esc}")] = serde_json::json!(1)),
+        preset_with(|v| v["elements"][0]["kind"] = serde_json::json!(format!("lens{esc}"))),
+    ];
+    for (i, text) in cases.iter().enumerate() {
+        let p = temp_file(&format!("esc{i}.json"), text);
+        let (code, out, err) = run(&["trace", &p]);
+        assert_eq!(code, 2, "{err}");
+        assert!(out.is_empty());
+        assert!(!err.contains('\u{1b}'), "raw escape in {err:?}");
+        assert!(err.contains("\\x1b[2J"), "escape shown as text: {err:?}");
+        assert_eq!(err.trim_end().lines().count(), 1, "{err:?}");
+    }
+    let p = temp_file("esc-ok.json", &preset_with(|v| {
+        v["name"] = serde_json::json!(format!("name{esc}"));
+        v["elements"][1]["id"] = serde_json::json!(format!("focus{esc}"));
+        v["sources"][0]["id"] = serde_json::json!(format!("star\u{202e}"));
+    }));
+    let (code, out, e2) = run(&["trace", &p, "--rays", "500"]);
+    assert_eq!(code, 0, "{e2}");
+    assert!(!out.contains('\u{1b}') && !out.contains('\u{202e}'), "{out:?}");
+    assert!(out.contains("name\\x1b[2J") && out.contains("focus\\x1b") && out.contains("star\\u{202e}"), "{out}");
+}
+
+#[test]
+fn long_numbers_are_echoed_short() {
+    for text in [
+        preset_with(|v| v["elements"][1]["size"] = serde_json::json!(-1e308)),
+        preset_with(|v| v["elements"][1]["id"] = serde_json::json!(1e308)),
+        preset_with(|v| v["sources"][0]["rays"] = serde_json::json!(1e308)),
+        preset_with(|v| v["elements"][0]["aperture"]["diameter"] = serde_json::json!(5e-324)),
+    ] {
+        let p = temp_file("long-number.json", &text);
+        let (code, _, err) = run(&["trace", &p]);
+        assert_eq!(code, 2);
+        assert!(err.contains("e308") || err.contains("e+308") || err.contains("e-324"), "{err}");
+        assert!(err.len() < 300 && !err.contains("0000000000"), "{err}");
+    }
+    let err = one_line_refusal(&["compare", "--radius", "2000", "--diameter", "200", "--conics", "0,1e308"], "--conics[1]");
+    assert!(err.contains("1e308") && err.len() < 200, "{err}");
+}
+
+#[test]
+fn a_screen_without_light_reports_zero_watts_without_a_sign() {
+    let p = temp_file("dark.json", &preset_with(|v| v["elements"][1]["center"] = serde_json::json!([5000, 0])));
+    let (code, out, err) = run(&["trace", &p, "--rays", "500"]);
+    assert_eq!(code, 0, "{err}");
+    assert!(out.contains("0 hits, 0.0000 W"), "{out}");
+    assert!(!out.contains("-0.0"), "{out}");
+}
+
+#[test]
+fn bad_flag_values_are_one_line_naming_the_flag() {
+    let p = "www/presets/sphere-f5.json";
+    let err = one_line_refusal(&["trace", p, "--rays", "-1"], "--rays");
+    assert!(err.contains("negative"), "{err}");
+    one_line_refusal(&["trace", p, "--rays", "many"], "--rays");
+    one_line_refusal(&["trace", p, "--rays", "99999999999999999999999"], "--rays");
+    one_line_refusal(&["trace", p, "--colour"], "--colour");
+    one_line_refusal(&["trace"], "LAYOUT");
+    one_line_refusal(&["compare", "--radius", "x", "--diameter", "200", "--conics", "0"], "--radius");
+    one_line_refusal(&["compare", "--diameter", "200", "--conics", "0"], "--radius");
+    one_line_refusal(&["zones", "--radius", "2000", "--conic", "-1", "--diameter", "200", "--zones", "2.5"], "--zones");
+    one_line_refusal(
+        &["design", "two-mirror", "--type", "cassegrain", "--diameter", "abc", "--primary-focal", "800", "--focal", "3000", "--back-focus", "150"],
+        "--diameter",
+    );
+    one_line_refusal(&["serve", "--port", "99999"], "--port");
+    let err = one_line_refusal(&["design"], "design");
+    assert!(err.contains("two-mirror") && err.contains("off-axis"), "{err}");
+    let err = one_line_refusal(&["frobnicate"], "frobnicate");
+    assert!(err.contains("trace"), "{err}");
+    let err = one_line_refusal(&[], "COMMAND");
+    assert!(err.contains("trace"), "{err}");
+    // Help and version still work, on stdout with exit 0.
+    for args in [&["--help"][..], &["--version"], &["trace", "--help"], &["design", "two-mirror", "--help"]] {
+        let (code, out, err) = run(args);
+        assert_eq!(code, 0, "{args:?}: {err}");
+        assert!(!out.is_empty() && err.is_empty(), "{args:?}");
+    }
+}

@@ -151,3 +151,34 @@ fn bad_input_exits_2_naming_the_flag() {
         assert!(err.contains(flag), "{args:?}: {err}");
     }
 }
+
+// Sizes down to the smallest float passed the range checks and came out as
+// -inf or NaN in the table; the designers now take lengths of at least
+// 1e-6 mm (the layout's smallest size) and say so in one line naming the
+// flag (common practice: refuse, never print a non-finite figure).
+#[test]
+fn degenerate_sizes_are_refused_naming_the_flag() {
+    let cases: [(&[&str], &str); 5] = [
+        (&["zones", "--radius", "2000", "--conic", "-1", "--diameter", "5e-324", "--zones", "3"], "--diameter"),
+        (&["zones", "--radius", "1e-300", "--conic", "-1", "--diameter", "1e-300", "--zones", "3", "--json"], "--radius"),
+        (&["compare", "--radius", "2000", "--diameter", "5e-324", "--conics", "0,-1"], "--diameter"),
+        (&["design", "off-axis", "--parent-focal", "500", "--offset", "0", "--diameter", "1e-9"], "--diameter"),
+        (
+            &["design", "two-mirror", "--type", "cassegrain", "--diameter", "5e-324", "--primary-focal", "800", "--focal", "3000", "--back-focus", "150"],
+            "--diameter",
+        ),
+    ];
+    for (args, flag) in cases {
+        let (code, out, err) = run(args);
+        assert_eq!(code, 2, "{args:?}: {out}");
+        assert!(out.is_empty(), "{args:?} printed {out}");
+        assert!(err.starts_with(&format!("catoptric: {flag}: ")) && err.lines().count() == 1, "{args:?}: {err}");
+        assert!(err.contains("1e-6") && err.len() < 200, "{args:?}: {err}");
+    }
+    // The smallest allowed size gives finite numbers and no signed zeros.
+    let (code, out, err) = run(&["zones", "--radius", "2000", "--conic", "-1", "--diameter", "1e-6", "--zones", "3"]);
+    assert_eq!(code, 0, "{err}");
+    for bad in ["inf", "NaN", "-0.000 ", "-0.0000 "] {
+        assert!(!out.contains(bad), "{bad} in {out}");
+    }
+}

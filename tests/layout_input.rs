@@ -245,3 +245,117 @@ fn no_input_panics() {
         let _ = decode_link(&format!("#L={}", miniz_deflate(text.as_bytes())));
     }
 }
+
+// ---- caps and degenerate values (common practice: refuse at the boundary
+// what would make a mirror vanish or a figure infinite, naming the field) ----
+
+/// The field a bad layout is refused at, with a check that the message is
+/// short (no number echoed as hundreds of digits).
+fn refused_at(v: &Value) -> String {
+    let e = parse_layout(&v.to_string()).expect_err(&format!("accepted {v}"));
+    assert!(e.message.len() < 300, "long message: {e}");
+    assert!(!e.message.contains("0000000000000"), "a number echoed in full: {e}");
+    e.field
+}
+
+#[test]
+fn degenerate_values_that_passed_before_are_refused_by_field() {
+    let cases: Vec<(Value, &str)> = vec![
+        // A4 = 1e308: the sag at the rim is infinite and the mirror vanishes.
+        (with(|v| v["elements"][0]["profile"]["aspheric"] = json!([1e308])), "elements[0].profile.aspheric[0]"),
+        (with(|v| v["elements"][0]["profile"]["aspheric"] = json!([0, 0, 1e-8])), "elements[0].profile.aspheric[2]"),
+        // R = 1e-300, K = −1: (1+K)c²ρ² was 0 × ∞ = NaN, which passed the domain check.
+        (with(|v| v["elements"][0]["profile"]["radius"] = json!(1e-300)), "elements[0].profile.radius"),
+        // 1/R overflows.
+        (with(|v| v["elements"][0]["profile"]["radius"] = json!(1e-310)), "elements[0].profile.radius"),
+        // A paraboloid 1e-4 mm in radius is 5e7 mm deep at ρ = 100 mm.
+        (with(|v| v["elements"][0]["profile"]["radius"] = json!(1e-4)), "elements[0].profile.radius"),
+        (with(|v| v["elements"][0]["aperture"]["diameter"] = json!(5e-324)), "elements[0].aperture.diameter"),
+        (with(|v| v["elements"][0]["aperture"]["diameter"] = json!(1e-7)), "elements[0].aperture.diameter"),
+        (with(|v| v["elements"][1]["size"] = json!(1e-300)), "elements[1].size"),
+        (with(|v| v["sources"][0]["diameter"] = json!(5e-324)), "sources[0].diameter"),
+        (
+            with(|v| {
+                v["elements"][0]["form"] = json!("extruded");
+                v["elements"][0]["length"] = json!(5e-324);
+            }),
+            "elements[0].length",
+        ),
+        // Knots closer than 1e-6 mm, and an end tangent that reaches 1e15 mm at the rim.
+        (with(|v| v["elements"][0]["profile"]["departure"] = json!([[0, 0], [1e-9, 0.001]])), "elements[0].profile.departure[1][0]"),
+        (with(|v| v["elements"][0]["profile"]["departure"] = json!([[0, 0], [1e-6, 1e7]])), "elements[0].profile.departure"),
+        // Long numbers are echoed short.
+        (with(|v| v["elements"][1]["size"] = json!(-1e308)), "elements[1].size"),
+        (with(|v| v["elements"][1]["id"] = json!(1e308)), "elements[1].id"),
+    ];
+    for (v, want) in cases {
+        assert_eq!(refused_at(&v), want, "for {v}");
+    }
+    // The smallest sizes allowed still give finite figures.
+    let tiny = with(|v| {
+        v["elements"][1]["size"] = json!(catoptric::layout::MIN_LENGTH_MM);
+        v["sources"][0]["diameter"] = json!(catoptric::layout::MIN_LENGTH_MM);
+        v["sources"][0]["center"] = json!([0, 500]);
+    });
+    let (scene, r) = common::run(&tiny.to_string());
+    let report = catoptric::analysis::trace_report(&scene, &r);
+    for sc in &report.screens {
+        assert!(sc.flux.mean_w_m2.is_finite() && sc.flux.peak_w_m2.is_finite(), "{:?}", sc.flux);
+    }
+}
+
+#[test]
+fn notes_have_a_documented_cap() {
+    let cap = catoptric::layout::MAX_NOTES_BYTES;
+    assert_eq!(cap, 64 * 1024);
+    let ok = with(|v| v["notes"] = json!("n".repeat(cap)));
+    assert!(parse_layout(&ok.to_string()).is_ok());
+    let long = with(|v| v["notes"] = json!("n".repeat(cap + 1)));
+    let e = parse_layout(&long.to_string()).unwrap_err();
+    assert_eq!(e.field, "notes");
+    assert!(e.message.contains("64 KiB"), "{e}");
+}
+
+/// A valid layout whose minified JSON is over the link cap: 256 mirrors
+/// with 512 departure knots each.
+pub fn layout_past_the_link_cap() -> Value {
+    with(|v| {
+        let mirror = v["elements"][0].clone();
+        let knots: Vec<[f64; 2]> =
+            (0..512).map(|i| [i as f64 * 0.19569471624266144, 1e-3 * (i as f64 * 0.123_456_789).sin()]).collect();
+        let mut els = Vec::new();
+        for i in 0..255 {
+            let mut m = mirror.clone();
+            m["id"] = json!(format!("mirror-number-{i}"));
+            m["vertex"] = json!([i as f64 * 300.0, 1000.0 + i as f64 * 0.123_456_789]);
+            m["profile"]["departure"] = json!(knots);
+            els.push(m);
+        }
+        els.push(v["elements"][1].clone());
+        v["elements"] = json!(els);
+    })
+}
+
+#[test]
+fn link_refuses_what_unlink_would_refuse() {
+    let l = parse_layout(&layout_past_the_link_cap().to_string()).expect("a valid layout");
+    let json = l.to_json_compact();
+    assert!(json.len() > catoptric::layout::MAX_LINK_LAYOUT_BYTES, "{} bytes", json.len());
+    let e = catoptric::layout::checked_link(&l).unwrap_err();
+    assert_eq!(e.field, "link");
+    assert!(e.message.contains("4 MiB"), "{e}");
+    // The unchecked encoding is exactly what decoding refuses.
+    assert!(decode_link(&encode_link(&l)).is_err());
+    // Under the cap, the checked link is the link.
+    let small = parse_layout(&base().to_string()).unwrap();
+    assert_eq!(catoptric::layout::checked_link(&small).unwrap(), encode_link(&small));
+    // `catoptric link` refuses it too, naming the cap, with nothing on stdout.
+    let path = std::env::temp_dir().join(format!("catoptric-link-cap-{}.json", std::process::id()));
+    std::fs::write(&path, l.to_json_pretty()).unwrap();
+    let out = std::process::Command::new(env!("CARGO_BIN_EXE_catoptric")).arg("link").arg(&path).output().unwrap();
+    let _ = std::fs::remove_file(&path);
+    let err = String::from_utf8_lossy(&out.stderr);
+    assert_eq!(out.status.code(), Some(2), "{err}");
+    assert!(out.stdout.is_empty());
+    assert!(err.contains("link") && err.contains("4 MiB") && err.lines().count() == 1, "{err}");
+}

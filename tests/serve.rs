@@ -52,6 +52,11 @@ fn first_lines(child: &mut Child) -> mpsc::Receiver<String> {
 }
 
 fn start(tag: &str) -> Server {
+    start_with(tag, &[])
+}
+
+/// [`start`] with more arguments for `serve`.
+fn start_with(tag: &str, extra: &[&str]) -> Server {
     let base = std::env::temp_dir().join(format!("catoptric-serve-{tag}-{}", std::process::id()));
     let _ = std::fs::remove_dir_all(&base);
     let www = base.join("www");
@@ -69,7 +74,9 @@ fn start(tag: &str) -> Server {
     std::os::unix::fs::symlink(base.join("Cargo.toml"), www.join("leak.txt")).unwrap();
 
     let mut child = Command::new(EXE)
-        .args(["serve", "--port", "0", "--root"])
+        .args(["serve", "--port", "0"])
+        .args(extra)
+        .arg("--root")
         .arg(&www)
         .stdout(Stdio::piped())
         .stderr(Stdio::null())
@@ -105,9 +112,14 @@ fn request(s: &Server, method: &str, target: &str) -> Reply {
     let mut stream = TcpStream::connect_timeout(&s.addr, WAIT).expect("connect to loopback");
     stream.set_read_timeout(Some(WAIT)).unwrap();
     stream.set_write_timeout(Some(WAIT)).unwrap();
-    write!(stream, "{method} {target} HTTP/1.1\r\nHost: 127.0.0.1\r\nConnection: close\r\n\r\n").unwrap();
+    let host = s.addr;
+    write!(stream, "{method} {target} HTTP/1.1\r\nHost: {host}\r\nConnection: close\r\n\r\n").unwrap();
     let mut raw = Vec::new();
     stream.read_to_end(&mut raw).expect("read reply");
+    parse_reply(&raw)
+}
+
+fn parse_reply(raw: &[u8]) -> Reply {
     let split = raw.windows(4).position(|w| w == b"\r\n\r\n").expect("end of headers");
     let head = String::from_utf8_lossy(&raw[..split]).to_string();
     let mut lines = head.split("\r\n");
@@ -262,4 +274,185 @@ fn json_start_line_names_the_address_and_the_link() {
     assert!(open.starts_with(url));
     let back = catoptric::layout::decode_link(open).unwrap();
     assert_eq!(back, catoptric::parse_layout(&std::fs::read_to_string(&layout).unwrap()).unwrap());
+}
+
+// ---- hardening: each test's loops are bounded and its server stops when dropped ----
+
+/// How long a hardening test waits for an answer that should come at once.
+const QUICK: Duration = Duration::from_secs(5);
+
+/// Sends `bytes` as they are and reads the reply to its end, waiting at
+/// most [`QUICK`]; `None` when no reply came in that time.
+fn send_raw(s: &Server, bytes: &[u8]) -> Option<Reply> {
+    let mut stream = TcpStream::connect_timeout(&s.addr, WAIT).expect("connect to loopback");
+    stream.set_read_timeout(Some(QUICK)).unwrap();
+    stream.set_write_timeout(Some(WAIT)).unwrap();
+    stream.write_all(bytes).unwrap();
+    let mut raw = Vec::new();
+    let mut buf = [0u8; 4096];
+    loop {
+        match stream.read(&mut buf) {
+            Ok(0) => break,
+            Ok(n) => raw.extend_from_slice(&buf[..n]),
+            Err(e) if matches!(e.kind(), std::io::ErrorKind::WouldBlock | std::io::ErrorKind::TimedOut) => return None,
+            Err(_) => break,
+        }
+    }
+    (!raw.is_empty()).then(|| parse_reply(&raw))
+}
+
+fn get_with_host(s: &Server, host: Option<&str>) -> u16 {
+    let host = host.map(|h| format!("Host: {h}\r\n")).unwrap_or_default();
+    let req = format!("GET /app.js HTTP/1.1\r\n{host}Connection: close\r\n\r\n");
+    send_raw(s, req.as_bytes()).expect("an answer").status
+}
+
+// DNS rebinding: a hostile page whose name now resolves to 127.0.0.1 sends
+// its own name in Host; the server answers only to loopback names with its
+// own port (RFC 9110 §7.2 Host, §15.5.20 421 Misdirected Request; RFC 9112
+// §3.2: 400 when Host is missing or repeated).
+#[test]
+fn host_header_must_name_this_server_on_loopback() {
+    let s = start("host");
+    let port = s.addr.port();
+    for ok in [format!("127.0.0.1:{port}"), format!("localhost:{port}"), format!("LocalHost:{port}"), format!("[::1]:{port}")] {
+        assert_eq!(get_with_host(&s, Some(&ok)), 200, "Host: {ok}");
+    }
+    let other = port.wrapping_add(1).max(1);
+    for bad in [
+        format!("evil.example:{port}"),
+        "evil.example".to_string(),
+        "127.0.0.1".to_string(),
+        format!("127.0.0.1:{other}"),
+        format!("localhost.evil.example:{port}"),
+        format!("127.0.0.2:{port}"),
+        format!("[::1]x:{port}"),
+        format!("127.0.0.1:+{port}"),
+    ] {
+        assert_eq!(get_with_host(&s, Some(&bad)), 421, "Host: {bad}");
+    }
+    assert_eq!(get_with_host(&s, None), 400, "no Host");
+    let two = format!("GET /app.js HTTP/1.1\r\nHost: 127.0.0.1:{port}\r\nHost: evil.example\r\n\r\n");
+    assert_eq!(send_raw(&s, two.as_bytes()).expect("an answer").status, 400, "two Host headers");
+}
+
+// A request head over the cap gets 431 Request Header Fields Too Large
+// (RFC 6585 §5), not a silent close.
+#[test]
+fn an_oversized_head_gets_431() {
+    let s = start("big-head");
+    let mut req = format!("GET / HTTP/1.1\r\nHost: {}\r\n", s.addr);
+    for i in 0..400 {
+        req.push_str(&format!("X-Filler-{i}: {}\r\n", "a".repeat(60)));
+    }
+    req.push_str("\r\n");
+    assert!(req.len() > 16 * 1024);
+    let r = send_raw(&s, req.as_bytes()).expect("an answer, not a silent close");
+    assert_eq!(r.status, 431);
+    assert_eq!(request(&s, "GET", "/").status, 200, "still serving");
+}
+
+// RFC 9112 §2.2: a recipient may take a bare LF as a line end. The server
+// accepts it, answering at once rather than waiting for a CRLF CRLF that
+// never comes.
+#[test]
+fn bare_lf_requests_are_answered_at_once() {
+    let s = start("bare-lf");
+    let req = format!("GET /app.js HTTP/1.1\nHost: {}\n\n", s.addr);
+    let r = send_raw(&s, req.as_bytes()).expect("answered within a few seconds, not at the head deadline");
+    assert_eq!(r.status, 200);
+    assert_eq!(r.body, b"export {};");
+    let mixed = format!("GET /app.js HTTP/1.1\r\nHost: {}\n\r\n", s.addr);
+    assert_eq!(send_raw(&s, mixed.as_bytes()).expect("answered").status, 200);
+}
+
+// Slow-loris defence (common practice): the whole head must arrive within
+// one deadline, however steadily the bytes trickle in; the server then
+// answers 408 Request Timeout (RFC 9110 §15.5.9) and closes. The deadline
+// is shortened to 1 s for the test (10 s by default).
+#[test]
+fn a_trickled_head_meets_one_deadline() {
+    let s = start_with("trickle", &["--head-timeout-ms", "1000"]);
+    let mut stream = TcpStream::connect_timeout(&s.addr, WAIT).expect("connect");
+    stream.write_all(b"GET / HTTP/1.1\r\nX-Slow: ").unwrap();
+    stream.set_nonblocking(true).unwrap();
+    let t0 = std::time::Instant::now();
+    let mut raw = Vec::new();
+    let mut closed = false;
+    // At most 60 × 100 ms: a byte every 100 ms would keep a per-read
+    // timeout alive forever.
+    for _ in 0..60 {
+        let _ = stream.write(b"a");
+        std::thread::sleep(Duration::from_millis(100));
+        let mut buf = [0u8; 1024];
+        match stream.read(&mut buf) {
+            Ok(0) => closed = true,
+            Ok(n) => raw.extend_from_slice(&buf[..n]),
+            Err(e) if e.kind() == std::io::ErrorKind::WouldBlock => {}
+            Err(_) => closed = true,
+        }
+        if closed {
+            break;
+        }
+    }
+    let took = t0.elapsed();
+    assert!(closed, "the server still waits after {took:?}");
+    assert!(took < Duration::from_secs(5), "closed after {took:?}");
+    assert_eq!(parse_reply(&raw).status, 408);
+}
+
+// After the answer the server closes; it does not keep reading whatever
+// the client goes on sending (common practice: one request, then close, as
+// the Connection: close header says, RFC 9112 §9.6).
+#[test]
+fn nothing_is_read_after_the_answer() {
+    let s = start("close");
+    let mut stream = TcpStream::connect_timeout(&s.addr, WAIT).expect("connect");
+    stream.set_read_timeout(Some(QUICK)).unwrap();
+    write!(stream, "GET /app.js HTTP/1.1\r\nHost: {}\r\n\r\n", s.addr).unwrap();
+    let mut raw = Vec::new();
+    let mut buf = [0u8; 4096];
+    while let Ok(n @ 1..) = stream.read(&mut buf) {
+        raw.extend_from_slice(&buf[..n]);
+    }
+    assert_eq!(parse_reply(&raw).status, 200);
+    // Keep talking: a closed peer resets the connection, so a write fails
+    // within a few tries (at most 30 × 100 ms).
+    let mut refused = false;
+    for _ in 0..30 {
+        if stream.write_all(b"more bytes nobody asked for\r\n").is_err() {
+            refused = true;
+            break;
+        }
+        std::thread::sleep(Duration::from_millis(100));
+    }
+    assert!(refused, "the server kept the connection open and went on reading");
+}
+
+// Past the connection cap (64) a client is told 503 Service Unavailable
+// with Retry-After (RFC 9110 §15.6.4, §10.2.3) instead of being dropped
+// without a word.
+#[test]
+fn past_the_connection_cap_clients_get_503() {
+    let s = start_with("cap", &["--head-timeout-ms", "5000"]);
+    // 64 idle connections hold every slot until their head deadline.
+    let held: Vec<TcpStream> = (0..64).map(|_| TcpStream::connect_timeout(&s.addr, WAIT).expect("connect")).collect();
+    let mut got = None;
+    // The 65th is accepted after all of them (one listener, in order).
+    let req = format!("GET / HTTP/1.1\r\nHost: {}\r\n\r\n", s.addr);
+    if let Some(r) = send_raw(&s, req.as_bytes()) {
+        got = Some((r.status, r.header("Retry-After").map(str::to_string)));
+    }
+    assert_eq!(got, Some((503, Some("1".to_string()))));
+    drop(held);
+    // Slots free again once the held clients have gone (at most 20 × 100 ms).
+    let mut status = 0;
+    for _ in 0..20 {
+        status = request(&s, "GET", "/").status;
+        if status == 200 {
+            break;
+        }
+        std::thread::sleep(Duration::from_millis(100));
+    }
+    assert_eq!(status, 200);
 }

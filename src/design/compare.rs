@@ -35,8 +35,8 @@
 //! remove to turn that sphere into the conic; the greatest depth is its
 //! P-V.
 
-use super::{bad, conic_reaches, conic_sag, conic_sag_slope, positive, wavelength};
-use crate::error::InputError;
+use super::{bad, conic_reaches, conic_sag, conic_sag_slope, finite_result, positive, wavelength};
+use crate::error::{InputError, Num};
 use serde::Serialize;
 
 /// Pupil rings used for the wavefront.
@@ -284,7 +284,7 @@ pub fn compare_conics(radius: f64, d: f64, conics: &[f64], wavelength_nm: f64) -
     for (i, &k) in conics.iter().enumerate() {
         let field = format!("conics[{i}]");
         if !k.is_finite() || k.abs() > 1.0e6 {
-            return Err(bad(&field, format!("must be a finite number between -1e6 and 1e6 (got {k})")));
+            return Err(bad(&field, format!("must be a finite number between -1e6 and 1e6 (got {})", Num(k))));
         }
         conic_reaches(&field, radius, k, a)?;
     }
@@ -313,12 +313,28 @@ pub fn compare_conics(radius: f64, d: f64, conics: &[f64], wavelength_nm: f64) -
                 removal_depth_um: bfs.removal_depth_mm * 1e3,
             }
         })
-        .collect();
+        .collect::<Vec<ConicRow>>();
+    for (i, r) in rows.iter().enumerate() {
+        let values = [
+            r.edge_sag_mm,
+            r.departure_pv_um,
+            r.wavefront_pv_waves,
+            r.wavefront_rms_waves,
+            r.strehl_estimate,
+            r.best_focus_mm,
+            r.best_fit_sphere_radius_mm,
+            r.removal_depth_um,
+        ];
+        finite_result(&format!("conics[{i}]"), "comparison row", &values)?;
+    }
+    let fastest = [sphere_fastest_f_ratio(d, lambda), sphere_fastest_f_ratio_exact(d, lambda)];
+    let tolerance = conic_tolerance_quarter_wave(radius, d, lambda);
+    finite_result("diameter", "sphere limit or conic tolerance", &[fastest[0], fastest[1], tolerance])?;
     Ok(Comparison {
         conics: rows,
-        sphere_fastest_f_ratio: sphere_fastest_f_ratio(d, lambda),
-        sphere_fastest_f_ratio_exact: sphere_fastest_f_ratio_exact(d, lambda),
-        conic_tolerance_quarter_wave: conic_tolerance_quarter_wave(radius, d, lambda),
+        sphere_fastest_f_ratio: fastest[0],
+        sphere_fastest_f_ratio_exact: fastest[1],
+        conic_tolerance_quarter_wave: tolerance,
         radius_mm: radius,
         diameter_mm: d,
         focal_ratio: radius / (2.0 * d),

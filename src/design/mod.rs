@@ -35,7 +35,7 @@ pub use zones::{
     fixed_source_reading, moving_source_reading, zone_edges, zone_table, TestSource, Zone, ZoneTable,
 };
 
-use crate::error::InputError;
+use crate::error::{InputError, Num};
 use crate::geometry::Profile;
 use crate::layout::{validate, Beam, Element, Layout, Pattern, Source, FORMAT_TAG, FORMAT_VERSION};
 
@@ -45,6 +45,9 @@ pub const DEFAULT_WAVELENGTH_NM: f64 = 550.0;
 pub const LAYOUT_RAYS: u64 = 20_000;
 /// Largest length the layout accepts (10 km), from the validator.
 pub(crate) const MAX_MM: f64 = crate::layout::MAX_LENGTH_MM;
+/// Smallest length (diameter, radius, focal length) the designers take,
+/// the layout's smallest size.
+pub(crate) const MIN_MM: f64 = crate::layout::MIN_LENGTH_MM;
 use crate::layout::DOMAIN_MARGIN;
 
 pub(crate) fn bad(field: &str, message: impl Into<String>) -> InputError {
@@ -57,24 +60,37 @@ pub(crate) fn finite(field: &str, v: f64) -> Result<f64, InputError> {
         return Err(bad(field, format!("must be a finite number (got {v})")));
     }
     if v.abs() > MAX_MM {
-        return Err(bad(field, format!("magnitude must be at most {MAX_MM:e}")));
+        return Err(bad(field, format!("magnitude must be at most {MAX_MM:e} (got {})", Num(v))));
     }
     Ok(v)
 }
 
-/// A finite value greater than 0.
+/// A length greater than 0: finite, at least [`MIN_MM`].
 pub(crate) fn positive(field: &str, v: f64) -> Result<f64, InputError> {
     finite(field, v)?;
     if v <= 0.0 {
-        return Err(bad(field, format!("must be greater than 0 (got {v})")));
+        return Err(bad(field, format!("must be greater than 0 (got {})", Num(v))));
+    }
+    if v < MIN_MM {
+        return Err(bad(field, format!("must be at least {MIN_MM:e} mm (got {})", Num(v))));
     }
     Ok(v)
+}
+
+/// Refuses a result that came out infinite or NaN: the parameters are
+/// within their ranges but too extreme together for the arithmetic. The
+/// field named is the one to change; `what` names the result.
+pub(crate) fn finite_result(field: &str, what: &str, values: &[f64]) -> Result<(), InputError> {
+    if values.iter().all(|v| v.is_finite()) {
+        return Ok(());
+    }
+    Err(bad(field, format!("gives a {what} that is not a finite number; these parameters are too extreme together")))
 }
 
 /// Wavelength in nm, checked like a layout's `wavelength_nm`.
 pub(crate) fn wavelength(field: &str, nm: f64) -> Result<f64, InputError> {
     if !nm.is_finite() || !(100.0..=100_000.0).contains(&nm) {
-        return Err(bad(field, format!("must be between 100 and 100000 nm (got {nm})")));
+        return Err(bad(field, format!("must be between 100 and 100000 nm (got {})", Num(nm))));
     }
     Ok(nm)
 }
@@ -88,7 +104,11 @@ pub(crate) fn conic_reaches(field: &str, radius: f64, conic: f64, a: f64) -> Res
         return Err(bad(
             field,
             format!(
-                "a conic with R = {radius} mm and K = {conic} ends at ρ = {limit:.4} mm; the semi-diameter {a} mm must stay below that: use a smaller diameter or conic constant"
+                "a conic with R = {} mm and K = {} ends at ρ = {} mm; the semi-diameter {} mm must stay below that: use a smaller diameter or conic constant",
+                Num(radius),
+                Num(conic),
+                Num(limit),
+                Num(a)
             ),
         ));
     }

@@ -24,8 +24,8 @@
 //! parallel to the parent axis, and fills the segment.
 
 use super::two_mirror::fmt_num;
-use super::{bad, checked, conic_sag, finite, new_layout, positive, star_beam, tidy};
-use crate::error::InputError;
+use super::{bad, checked, conic_sag, finite, finite_result, new_layout, positive, star_beam, tidy};
+use crate::error::{InputError, Num};
 use crate::layout::{
     ApertureSpec, Element, Form, Layout, Mirror, ProfileSpec, Screen, ScreenShape,
 };
@@ -85,7 +85,7 @@ pub fn design_off_axis(spec: &OffAxisSpec) -> Result<OffAxisDesign, InputError> 
     let f = positive("parent_focal", spec.parent_focal)?;
     let h = finite("offset", spec.offset)?;
     if h < 0.0 {
-        return Err(bad("offset", format!("must be at least 0 (got {h}); the segment lies on the +y side of the parent axis")));
+        return Err(bad("offset", format!("must be at least 0 (got {}); the segment lies on the +y side of the parent axis", Num(h))));
     }
     let d = positive("diameter", spec.diameter)?;
     let theta = 2.0 * (h / (2.0 * f)).atan();
@@ -100,6 +100,7 @@ pub fn design_off_axis(spec: &OffAxisSpec) -> Result<OffAxisDesign, InputError> 
     let near = (h - 0.5 * d).max(0.0);
     let far = h + 0.5 * d;
     let depth = conic_sag(r, -1.0, far) - conic_sag(r, -1.0, near);
+    finite_result("offset", "design", &[theta, f_refl, center[1], lo, hi, pointing, depth])?;
 
     let mirror = Element::Mirror(Mirror {
         id: "segment".to_string(),

@@ -47,8 +47,8 @@
 //! field angle a beam `off-axis` comes in at θ with its chief ray through
 //! the primary vertex.
 
-use super::{bad, checked, conic_reaches, conic_sag, finite, new_layout, positive, star_beam, tidy};
-use crate::error::InputError;
+use super::{bad, checked, conic_reaches, conic_sag, finite, finite_result, new_layout, positive, star_beam, tidy};
+use crate::error::{InputError, Num};
 use crate::layout::{
     ApertureSpec, Element, Form, Layout, Mirror, ProfileSpec, Screen, ScreenShape,
 };
@@ -198,12 +198,12 @@ pub fn design_two_mirror(spec: &TwoMirrorSpec) -> Result<TwoMirrorDesign, InputE
     let b = finite("back_focus", spec.back_focus)?;
     let field = finite("field_deg", spec.field_deg)?;
     if !(0.0..=10.0).contains(&field) {
-        return Err(bad("field_deg", format!("must be between 0 and 10 degrees (got {field})")));
+        return Err(bad("field_deg", format!("must be between 0 and 10 degrees (got {})", Num(field))));
     }
     if b <= 0.0 {
         return Err(bad(
             "back_focus",
-            format!("must be greater than 0: the focus lies behind the primary, reached through its central hole (got {b})"),
+            format!("must be greater than 0: the focus lies behind the primary, reached through its central hole (got {})", Num(b)),
         ));
     }
     let ratio = f / f1;
@@ -211,7 +211,9 @@ pub fn design_two_mirror(spec: &TwoMirrorSpec) -> Result<TwoMirrorDesign, InputE
         return Err(bad(
             "focal",
             format!(
-                "must be longer than the primary focal length {f1} mm (got {f}): the secondary must magnify the prime-focus image (|m| > 1)"
+                "must be longer than the primary focal length {} mm (got {}): the secondary must magnify the prime-focus image (|m| > 1)",
+                Num(f1),
+                Num(f)
             ),
         ));
     }
@@ -222,7 +224,12 @@ pub fn design_two_mirror(spec: &TwoMirrorSpec) -> Result<TwoMirrorDesign, InputE
     if k >= 1.0 - 1e-9 || sep <= 0.0 {
         return Err(bad(
             "back_focus",
-            format!("{b} mm puts the secondary at or behind the primary (separation {sep:.4} mm); the back focus must be less than m·f₁ = {:.4} mm", m * f1),
+            format!(
+                "{} mm puts the secondary at or behind the primary (separation {:.4} mm); the back focus must be less than m·f₁ = {:.4} mm",
+                Num(b),
+                Num(sep),
+                Num(m * f1)
+            ),
         ));
     }
     let r1 = 2.0 * f1;
@@ -258,6 +265,7 @@ pub fn design_two_mirror(spec: &TwoMirrorSpec) -> Result<TwoMirrorDesign, InputE
     }
     conic_reaches("primary_focal", r1, k1, 0.5 * d_prim)?;
     conic_reaches("back_focus", r2, k2, 0.5 * d_sec)?;
+    finite_result("focal", "design", &[m, k, sep, r1, k1, hole, r2, k2, d_sec])?;
 
     let layout = build_layout(spec.kind, d_prim, f, b, field, sep, (r1, k1, hole), (r2, k2, d_sec))?;
     Ok(TwoMirrorDesign {

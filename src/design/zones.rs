@@ -36,7 +36,7 @@
 //! target conic, and the target's signed departure from that sphere.
 
 use super::compare::best_fit_sphere;
-use super::{bad, conic_reaches, conic_sag, conic_sag_slope, finite, positive, wavelength};
+use super::{bad, conic_reaches, conic_sag, conic_sag_slope, finite, finite_result, positive, wavelength};
 use crate::error::InputError;
 use serde::Serialize;
 
@@ -179,7 +179,12 @@ pub fn zone_table(
                 departure_waves: dep / lambda,
             }
         })
-        .collect();
+        .collect::<Vec<Zone>>();
+    for z in &zones {
+        let values = [z.r_mm, z.reading_mm, z.removal_um, z.departure_um, z.departure_waves];
+        finite_result("diameter", "zone table", &values)?;
+    }
+    finite_result("diameter", "best-fit sphere", &[bfs.radius_mm, bfs.removal_depth_mm])?;
     Ok(ZoneTable {
         source: source.name().to_string(),
         zones,

@@ -12,9 +12,31 @@ pub const LINK_PREFIX: &str = "#L=";
 /// decompression bombs.
 pub const MAX_LINK_LAYOUT_BYTES: usize = 4 << 20;
 
-/// Encodes a layout as a URL fragment, prefix included.
+/// Encodes a layout as a URL fragment, prefix included. A layout whose
+/// JSON is longer than [`MAX_LINK_LAYOUT_BYTES`] gives a link that
+/// [`decode_link`] refuses; [`checked_link`] refuses it up front.
 pub fn encode_link(layout: &Layout) -> String {
+    pack(&layout.to_json_compact())
+}
+
+/// [`encode_link`], refusing what [`decode_link`] would refuse: a layout
+/// whose minified JSON unpacks past [`MAX_LINK_LAYOUT_BYTES`].
+pub fn checked_link(layout: &Layout) -> Result<String, InputError> {
     let json = layout.to_json_compact();
+    if json.len() > MAX_LINK_LAYOUT_BYTES {
+        return Err(InputError::new(
+            "link",
+            format!(
+                "the layout is {} bytes as minified JSON; a link carries at most {} MiB (save it as a file instead)",
+                json.len(),
+                MAX_LINK_LAYOUT_BYTES >> 20
+            ),
+        ));
+    }
+    Ok(pack(&json))
+}
+
+fn pack(json: &str) -> String {
     let packed = miniz_oxide::deflate::compress_to_vec(json.as_bytes(), 9);
     format!("{LINK_PREFIX}{}", URL_SAFE_NO_PAD.encode(packed))
 }
@@ -41,3 +63,4 @@ pub fn decode_link(text: &str) -> Result<Layout, InputError> {
         e.message,
     ))
 }
+

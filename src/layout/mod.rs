@@ -8,12 +8,15 @@
 
 mod link;
 mod parse;
+mod text;
 mod validate;
 
-pub use link::{decode_link, encode_link, LINK_PREFIX, MAX_LINK_LAYOUT_BYTES};
+pub use link::{checked_link, decode_link, encode_link, LINK_PREFIX, MAX_LINK_LAYOUT_BYTES};
 pub use parse::parse_layout;
+pub use text::{decode_layout_bytes, MAX_LAYOUT_BYTES};
 pub use validate::{
-    validate, DOMAIN_MARGIN, MAX_BOUNCES_CAP, MAX_ELEMENTS, MAX_LENGTH_MM, MAX_RAYS_PER_SOURCE, MAX_RAYS_TOTAL,
+    validate, DOMAIN_MARGIN, MAX_BOUNCES_CAP, MAX_ELEMENTS, MAX_LENGTH_MM, MAX_NAME_LEN, MAX_NOTES_BYTES,
+    MAX_RAYS_PER_SOURCE, MAX_RAYS_TOTAL, MIN_LENGTH_MM,
 };
 
 use serde::{Deserialize, Serialize};
@@ -44,11 +47,13 @@ fn is_false(v: &bool) -> bool {
 #[serde(deny_unknown_fields)]
 pub struct Layout {
     pub format: String,
+    #[serde(deserialize_with = "parse::whole_u32")]
     pub version: u32,
     pub name: String,
     #[serde(default, skip_serializing_if = "String::is_empty")]
     pub notes: String,
     pub wavelength_nm: f64,
+    #[serde(deserialize_with = "parse::whole_u32")]
     pub max_bounces: u32,
     pub elements: Vec<Element>,
     pub sources: Vec<Source>,
@@ -199,6 +204,7 @@ pub struct Beam {
     #[serde(default, skip_serializing_if = "is_zero")]
     pub out_of_plane_deg: f64,
     pub diameter: f64,
+    #[serde(deserialize_with = "parse::whole_u64")]
     pub rays: u64,
     pub pattern: Pattern,
     #[serde(default, skip_serializing_if = "is_zero")]
@@ -215,6 +221,7 @@ pub struct PointLamp {
     pub center: [f64; 2],
     pub direction_deg: f64,
     pub cone_half_angle_deg: f64,
+    #[serde(deserialize_with = "parse::whole_u64")]
     pub rays: u64,
     pub pattern: Pattern,
     /// Power emitted into the cone, W.

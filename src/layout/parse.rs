@@ -6,8 +6,8 @@
 //! path out in the error text, which [`parse_layout`] splices back in.
 
 use super::{Beam, Element, Layout, Mirror, PointLamp, Screen, Source, FORMAT_TAG, FORMAT_VERSION};
-use crate::error::InputError;
-use serde::de::{DeserializeOwned, Error as _};
+use crate::error::{shorten_numbers, InputError, Num};
+use serde::de::{DeserializeOwned, Error as _, Unexpected, Visitor};
 use serde::{Deserialize, Deserializer};
 use serde_json::Value;
 
@@ -79,6 +79,50 @@ impl<'de> Deserialize<'de> for Source {
     }
 }
 
+/// A count read as a whole number: an integer (`2000`) or a number with no
+/// fraction (`2000.0`, `2e3`) — JSON does not tell them apart, and other
+/// writers emit either. Fractions, negatives and values past `max` are
+/// refused.
+struct Whole {
+    max: u64,
+}
+
+impl Visitor<'_> for Whole {
+    type Value = u64;
+
+    fn expecting(&self, f: &mut std::fmt::Formatter) -> std::fmt::Result {
+        if self.max == u64::MAX { write!(f, "a whole number, 0 or more") } else { write!(f, "a whole number from 0 to {}", self.max) }
+    }
+    fn visit_u64<E: serde::de::Error>(self, v: u64) -> Result<u64, E> {
+        if v <= self.max { Ok(v) } else { Err(E::invalid_value(Unexpected::Unsigned(v), &self)) }
+    }
+    fn visit_i64<E: serde::de::Error>(self, v: i64) -> Result<u64, E> {
+        match u64::try_from(v) {
+            Ok(u) => self.visit_u64(u),
+            Err(_) => Err(E::invalid_value(Unexpected::Signed(v), &self)),
+        }
+    }
+    fn visit_f64<E: serde::de::Error>(self, v: f64) -> Result<u64, E> {
+        // 2^64 is the first float past u64::MAX.
+        if v >= 0.0 && v.fract() == 0.0 && v < 18_446_744_073_709_551_616.0 && (v as u64) <= self.max {
+            Ok(v as u64)
+        } else {
+            Err(E::invalid_value(Unexpected::Other(&Num(v).to_string()), &self))
+        }
+    }
+}
+
+/// `deserialize_with` for `u64` counts (see [`Whole`]).
+pub(super) fn whole_u64<'de, D: Deserializer<'de>>(d: D) -> Result<u64, D::Error> {
+    d.deserialize_any(Whole { max: u64::MAX })
+}
+
+/// `deserialize_with` for `u32` counts (see [`Whole`]).
+pub(super) fn whole_u32<'de, D: Deserializer<'de>>(d: D) -> Result<u32, D::Error> {
+    let v = d.deserialize_any(Whole { max: u32::MAX.into() })?;
+    Ok(u32::try_from(v).expect("Whole keeps to its max"))
+}
+
 /// Parses and validates a layout document.
 ///
 /// Errors name the field (`elements[0].profile.conic`) and say what is
@@ -99,7 +143,8 @@ pub fn parse_layout(text: &str) -> Result<Layout, InputError> {
         None => return Err(InputError::new("format", format!("missing; must be \"{FORMAT_TAG}\""))),
     }
     match map.get("version") {
-        Some(v) if v.as_u64() == Some(FORMAT_VERSION as u64) => {}
+        // 1 and 1.0 are the same number.
+        Some(v) if v.as_f64() == Some(f64::from(FORMAT_VERSION)) => {}
         Some(v) => {
             return Err(InputError::new(
                 "version",
@@ -112,7 +157,7 @@ pub fn parse_layout(text: &str) -> Result<Layout, InputError> {
         let path = e.path().to_string();
         let msg = e.into_inner().to_string();
         let (path, msg) = split_nested(&path, &msg);
-        InputError::new(path, msg)
+        InputError::new(path, shorten_numbers(&msg))
     })?;
     super::validate(&layout)?;
     Ok(layout)

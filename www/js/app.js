@@ -55,6 +55,16 @@ const KEYS = [
   ['<kbd>?</kbd>', 'This help'],
 ];
 
+/**
+ * Text of a layout file, read as the command line reads it: UTF-8 (a byte
+ * order mark is dropped) or UTF-16 in either byte order after its mark.
+ */
+function decodeLayoutBytes(bytes) {
+  const enc = bytes[0] === 0xff && bytes[1] === 0xfe ? 'utf-16le'
+    : bytes[0] === 0xfe && bytes[1] === 0xff ? 'utf-16be' : 'utf-8';
+  return new TextDecoder(enc).decode(bytes);
+}
+
 function errText(e) {
   return String(e?.message ?? e);
 }
@@ -571,7 +581,7 @@ class App {
     }
     let text;
     try {
-      text = await file.text();
+      text = decodeLayoutBytes(new Uint8Array(await file.arrayBuffer()));
     } catch (e) {
       this.message(`Could not read "${file.name}": ${errText(e)}`);
       return;

@@ -2,20 +2,24 @@
 
 use crate::Failure;
 use catoptric::analysis::{trace_report, TraceReport};
-use catoptric::layout::{decode_link, encode_link, parse_layout, Layout, MAX_RAYS_PER_SOURCE};
+use catoptric::error::{printable, Num};
+use catoptric::layout::{checked_link, decode_layout_bytes, decode_link, parse_layout, Layout, MAX_LAYOUT_BYTES, MAX_RAYS_PER_SOURCE};
 use catoptric::{trace::TraceOptions, Scene};
 use std::fmt::Write as _;
+use std::io::Read as _;
 
-/// Largest layout file read, bytes.
-const MAX_FILE_BYTES: u64 = 16 << 20;
-
+/// Reads a layout file of at most [`MAX_LAYOUT_BYTES`], whatever it is (a
+/// pipe or a device has no size to check first: reading stops one byte
+/// past the cap), in UTF-8 or UTF-16 as the page reads it.
 pub fn read_layout(path: &str) -> Result<Layout, Failure> {
-    let meta = std::fs::metadata(path).map_err(|e| Failure::input(format!("{path}: cannot read: {e}")))?;
-    if meta.len() > MAX_FILE_BYTES {
-        return Err(Failure::input(format!("{path}: file is larger than 16 MiB")));
+    let cannot = |e: std::io::Error| Failure::input(format!("{path}: cannot read: {e}"));
+    let file = std::fs::File::open(path).map_err(cannot)?;
+    let mut bytes = Vec::new();
+    file.take(MAX_LAYOUT_BYTES + 1).read_to_end(&mut bytes).map_err(cannot)?;
+    if bytes.len() as u64 > MAX_LAYOUT_BYTES {
+        return Err(Failure::input(format!("{path}: larger than {} MiB, the most a layout may be", MAX_LAYOUT_BYTES >> 20)));
     }
-    let bytes = std::fs::read(path).map_err(|e| Failure::input(format!("{path}: cannot read: {e}")))?;
-    let text = String::from_utf8(bytes).map_err(|_| Failure::input(format!("{path}: not UTF-8 text")))?;
+    let text = decode_layout_bytes(&bytes).map_err(|e| Failure::input(format!("{path}: {e}")))?;
     parse_layout(&text).map_err(|e| Failure::input(format!("{path}: {e}")))
 }
 
@@ -38,14 +42,14 @@ pub fn trace(path: &str, rays: Option<u64>, json: bool) -> Result<String, Failur
 
 fn table(layout: &Layout, r: &TraceReport) -> String {
     let mut s = String::new();
-    let _ = writeln!(s, "{}", layout.name);
+    let _ = writeln!(s, "{}", printable(&layout.name));
     let _ = writeln!(
         s,
         "rays launched {}   escaped {}   absorbed {}",
         r.rays_launched, r.rays_escaped, r.rays_absorbed
     );
     for sc in &r.screens {
-        let _ = writeln!(s, "\nscreen {}: {} hits, {:.4} W", sc.id, sc.hits, sc.power_w);
+        let _ = writeln!(s, "\nscreen {}: {} hits, {:.4} W", printable(&sc.id), sc.hits, Num(sc.power_w));
         if sc.by_source.is_empty() {
             let _ = writeln!(s, "  (no light)");
             continue;
@@ -59,12 +63,12 @@ fn table(layout: &Layout, r: &TraceReport) -> String {
             let _ = writeln!(
                 s,
                 "  {:<14} {:>9} {:>12.5} {:>22} {:>14.3} {:>14.3}",
-                b.source,
+                printable(&b.source),
                 b.hits,
-                b.power_w,
-                format!("{:.5}, {:.5}", b.centroid_mm[0], b.centroid_mm[1]),
-                b.rms_radius_um,
-                b.max_radius_um
+                Num(b.power_w),
+                format!("{:.5}, {:.5}", Num(b.centroid_mm[0]), Num(b.centroid_mm[1])),
+                Num(b.rms_radius_um),
+                Num(b.max_radius_um)
             );
             source_lines(&mut s, b);
         }
@@ -72,10 +76,11 @@ fn table(layout: &Layout, r: &TraceReport) -> String {
         let _ = writeln!(
             s,
             "  flux: peak {:.4e} W/m² ({}), mean {:.4e} W/m² (power / screen area), intercept {}",
-            f.peak_w_m2,
-            opt(f.peak_suns.map(|v| format!("{v:.1} suns")), "no beam"),
-            f.mean_w_m2,
-            opt(f.intercept.map(|v| format!("{v:.4}")), "—")
+            // + 0.0 turns a negative zero (an empty sum) into 0.
+            f.peak_w_m2 + 0.0,
+            opt(f.peak_suns.map(|v| format!("{:.1} suns", Num(v))), "no beam"),
+            f.mean_w_m2 + 0.0,
+            opt(f.intercept.map(|v| format!("{:.4}", Num(v))), "—")
         );
     }
     let sun = layout.sources.iter().any(|x| matches!(x, catoptric::layout::Source::Beam(b) if b.sun_half_angle_mrad > 0.0));
@@ -95,13 +100,13 @@ fn opt(v: Option<String>, none: &str) -> String {
 
 /// The focus, wavefront and energy figures of one source, indented.
 fn source_lines(s: &mut String, b: &catoptric::analysis::SourceReport) {
-    let f3 = |v: Option<f64>, unit: &str| opt(v.map(|x| format!("{x:.3} {unit}")), "—");
+    let f3 = |v: Option<f64>, unit: &str| opt(v.map(|x| format!("{:.3} {unit}", Num(x))), "—");
     let _ = writeln!(
         s,
         "    best focus {} (+ along the screen axis), RMS at best {}; working f/{}, Airy radius {} (1.22 λN)",
-        opt(b.best_focus_shift_mm.map(|x| format!("{x:+.4} mm")), "—"),
+        opt(b.best_focus_shift_mm.map(|x| format!("{:+.4} mm", Num(x))), "—"),
         f3(b.rms_radius_at_best_um, "µm"),
-        opt(b.f_number.map(|x| format!("{x:.3}")), "—"),
+        opt(b.f_number.map(|x| format!("{:.3}", Num(x))), "—"),
         f3(b.airy_radius_um, "µm"),
     );
     let _ = writeln!(
@@ -109,7 +114,7 @@ fn source_lines(s: &mut String, b: &catoptric::analysis::SourceReport) {
         "    wavefront P-V {}, RMS {}, Strehl {} (exp(−(2π·RMS)²)), diffraction limited {} (RMS ≤ λ/14)",
         f3(b.wavefront_pv_waves, "waves"),
         f3(b.wavefront_rms_waves, "waves"),
-        opt(b.strehl_estimate.map(|x| format!("{x:.3}")), "—"),
+        opt(b.strehl_estimate.map(|x| format!("{:.3}", Num(x))), "—"),
         opt(b.diffraction_limited.map(|x| if x { "yes".into() } else { "no".into() }), "—"),
     );
     let _ = writeln!(
@@ -122,7 +127,7 @@ fn source_lines(s: &mut String, b: &catoptric::analysis::SourceReport) {
 
 pub fn link(path: &str, json: bool) -> Result<String, Failure> {
     let layout = read_layout(path)?;
-    let frag = encode_link(&layout);
+    let frag = checked_link(&layout).map_err(|e| Failure::input(format!("{path}: {e}")))?;
     Ok(if json { to_json(&serde_json::json!({ "fragment": frag })) } else { frag })
 }
 

@@ -7,6 +7,7 @@ use catoptric::design::{
     TwoMirrorKind, TwoMirrorSpec, DEFAULT_WAVELENGTH_NM,
 };
 use catoptric::layout::Layout;
+use catoptric::error::{printable, Num};
 use catoptric::InputError;
 use clap::{Args, Subcommand};
 use std::fmt::Write as _;
@@ -151,19 +152,22 @@ fn two_mirror(a: TwoMirrorArgs) -> Result<String, Failure> {
         return Ok(to_json(&d));
     }
     let mut s = String::new();
-    let _ = writeln!(s, "{}", d.layout.name);
+    let _ = writeln!(s, "{}", printable(&d.layout.name));
     let _ = writeln!(
         s,
         "focal length {:.3} mm (f/{:.3}), secondary magnification {:.5}, height ratio k {:.6}",
-        d.focal_mm, d.focal_ratio, d.magnification, d.height_ratio
+        Num(d.focal_mm),
+        Num(d.focal_ratio),
+        Num(d.magnification),
+        Num(d.height_ratio)
     );
-    let _ = writeln!(s, "separation {:.3} mm, back focus {:.3} mm behind the primary vertex", d.separation_mm, d.back_focus_mm);
+    let _ = writeln!(s, "separation {:.3} mm, back focus {:.3} mm behind the primary vertex", Num(d.separation_mm), Num(d.back_focus_mm));
     let _ = writeln!(s, "{:<10} {:>13} {:>12} {:>14} {:>10}", "mirror", "radius mm", "conic", "diameter mm", "hole mm");
     let p = &d.primary;
-    let _ = writeln!(s, "{:<10} {:>13.3} {:>12.6} {:>14.3} {:>10.3}", "primary", p.radius_mm, p.conic, p.diameter_mm, p.hole_mm);
+    let _ = writeln!(s, "{:<10} {:>13.3} {:>12.6} {:>14.3} {:>10.3}", "primary", Num(p.radius_mm), Num(p.conic), Num(p.diameter_mm), Num(p.hole_mm));
     let q = &d.secondary;
-    let _ = writeln!(s, "{:<10} {:>13.3} {:>12.6} {:>14.3} {:>10}", "secondary", q.radius_mm, q.conic, q.diameter_mm, "-");
-    let _ = writeln!(s, "obstruction {:.1}% of the diameter (radii: concave +, convex −)", 100.0 * d.obstruction_fraction);
+    let _ = writeln!(s, "{:<10} {:>13.3} {:>12.6} {:>14.3} {:>10}", "secondary", Num(q.radius_mm), Num(q.conic), Num(q.diameter_mm), "-");
+    let _ = writeln!(s, "obstruction {:.1}% of the diameter (radii: concave +, convex −)", Num(100.0 * d.obstruction_fraction));
     Ok(s)
 }
 
@@ -175,21 +179,33 @@ fn off_axis(a: OffAxisArgs) -> Result<String, Failure> {
         return Ok(to_json(&d));
     }
     let mut s = String::new();
-    let _ = writeln!(s, "{}", d.layout.name);
-    let _ = writeln!(s, "off-axis angle       {:.4}°", d.off_axis_angle_deg);
-    let _ = writeln!(s, "reflected focal      {:.4} mm (f/{:.3})", d.reflected_focal_mm, d.focal_ratio);
-    let _ = writeln!(s, "segment tilt         {:.4}° (normal at the segment centre from the parent axis)", d.segment_tilt_deg);
-    let _ = writeln!(s, "segment centre       y {:.3} mm, sag {:.4} mm; depth across the segment {:.4} mm", d.segment_center_mm[0], d.segment_center_mm[1], d.segment_depth_mm);
+    let _ = writeln!(s, "{}", printable(&d.layout.name));
+    let _ = writeln!(s, "off-axis angle       {:.4}°", Num(d.off_axis_angle_deg));
+    let _ = writeln!(s, "reflected focal      {:.4} mm (f/{:.3})", Num(d.reflected_focal_mm), Num(d.focal_ratio));
+    let _ = writeln!(s, "segment tilt         {:.4}° (normal at the segment centre from the parent axis)", Num(d.segment_tilt_deg));
+    let _ = writeln!(
+        s,
+        "segment centre       y {:.3} mm, sag {:.4} mm; depth across the segment {:.4} mm",
+        Num(d.segment_center_mm[0]),
+        Num(d.segment_center_mm[1]),
+        Num(d.segment_depth_mm)
+    );
     let f = &d.feed;
     let _ = writeln!(
         s,
         "feed at the focus    [{:.3}, {:.3}] mm, pointing {:.4}° (layout), {:.4}° off the parent axis",
-        f.position_mm[0], f.position_mm[1], f.pointing_deg, f.off_axis_deg
+        Num(f.position_mm[0]),
+        Num(f.position_mm[1]),
+        Num(f.pointing_deg),
+        Num(f.off_axis_deg)
     );
     let _ = writeln!(
         s,
         "rim seen from feed   {:.4}° to {:.4}° off axis: bisector {:.4}°, half-angle {:.4}°",
-        f.rim_angles_deg[0], f.rim_angles_deg[1], f.bisector_off_axis_deg, f.half_angle_deg
+        Num(f.rim_angles_deg[0]),
+        Num(f.rim_angles_deg[1]),
+        Num(f.bisector_off_axis_deg),
+        Num(f.half_angle_deg)
     );
     // The same geometry feeds an offset solar dish (the page's card says so too).
     let _ = writeln!(
@@ -210,7 +226,10 @@ pub fn compare(a: CompareArgs) -> Result<String, Failure> {
     let _ = writeln!(
         s,
         "R = {} mm, D = {} mm (f/{:.3}), λ = {} nm; wavefront at best focus, collimated on-axis beam",
-        c.radius_mm, c.diameter_mm, c.focal_ratio, c.wavelength_nm
+        Num(c.radius_mm),
+        Num(c.diameter_mm),
+        Num(c.focal_ratio),
+        Num(c.wavelength_nm)
     );
     let _ = writeln!(
         s,
@@ -221,22 +240,23 @@ pub fn compare(a: CompareArgs) -> Result<String, Failure> {
         let _ = writeln!(
             s,
             "{:>10} {:>13.6} {:>16.4} {:>10.4} {:>10.4} {:>8.4} {:>14.3} {:>12.4}",
-            r.conic,
-            r.edge_sag_mm,
-            r.departure_pv_um,
-            r.wavefront_pv_waves,
-            r.wavefront_rms_waves,
-            r.strehl_estimate,
-            r.best_fit_sphere_radius_mm,
-            r.removal_depth_um
+            Num(r.conic),
+            Num(r.edge_sag_mm),
+            Num(r.departure_pv_um),
+            Num(r.wavefront_pv_waves),
+            Num(r.wavefront_rms_waves),
+            Num(r.strehl_estimate),
+            Num(r.best_fit_sphere_radius_mm),
+            Num(r.removal_depth_um)
         );
     }
     let _ = writeln!(
         s,
         "a sphere of this diameter keeps λ/4 P-V down to f/{:.3} (third order; exact f/{:.3})",
-        c.sphere_fastest_f_ratio, c.sphere_fastest_f_ratio_exact
+        Num(c.sphere_fastest_f_ratio),
+        Num(c.sphere_fastest_f_ratio_exact)
     );
-    let _ = writeln!(s, "a conic error of ±{:.4} costs λ/4 P-V (third order)", c.conic_tolerance_quarter_wave);
+    let _ = writeln!(s, "a conic error of ±{:.4} costs λ/4 P-V (third order)", Num(c.conic_tolerance_quarter_wave));
     Ok(s)
 }
 
@@ -254,7 +274,10 @@ pub fn zones(a: ZonesArgs) -> Result<String, Failure> {
     let _ = writeln!(
         s,
         "R = {} mm, K = {}, D = {} mm, {} source; readings from the vertex centre of curvature, + away from the mirror",
-        t.radius_mm, t.conic, t.diameter_mm, t.source
+        Num(t.radius_mm),
+        Num(t.conic),
+        Num(t.diameter_mm),
+        t.source
     );
     let _ = writeln!(
         s,
@@ -266,18 +289,19 @@ pub fn zones(a: ZonesArgs) -> Result<String, Failure> {
             s,
             "{:>5} {:>10.3} {:>10.3} {:>10.3} {:>12.5} {:>12.4} {:>14.4}",
             i + 1,
-            z.inner_mm,
-            z.outer_mm,
-            z.r_mm,
-            z.reading_mm,
-            z.removal_um,
-            z.departure_waves
+            Num(z.inner_mm),
+            Num(z.outer_mm),
+            Num(z.r_mm),
+            Num(z.reading_mm),
+            Num(z.removal_um),
+            Num(z.departure_waves)
         );
     }
     let _ = writeln!(
         s,
         "best-fit sphere R = {:.3} mm; deepest glass to remove {:.4} µm",
-        t.best_fit_sphere_radius_mm, t.removal_depth_um
+        Num(t.best_fit_sphere_radius_mm),
+        Num(t.removal_depth_um)
     );
     Ok(s)
 }

@@ -5,8 +5,9 @@ mod bench;
 mod commands;
 mod design_cmd;
 mod serve;
+mod usage;
 
-use clap::{Parser, Subcommand};
+use clap::{CommandFactory as _, Parser, Subcommand};
 use std::process::ExitCode;
 
 #[derive(Parser)]
@@ -76,7 +77,11 @@ impl Failure {
 }
 
 fn main() -> ExitCode {
-    let cli = Cli::parse();
+    let cli = match Cli::try_parse() {
+        Ok(cli) => cli,
+        Err(e) if matches!(e.kind(), clap::error::ErrorKind::DisplayHelp | clap::error::ErrorKind::DisplayVersion) => e.exit(),
+        Err(e) => return fail(Failure::input(usage::line(&e, &Cli::command()))),
+    };
     let out = match cli.cmd {
         Cmd::Trace { layout, rays, json } => commands::trace(&layout, rays, json),
         Cmd::Link { layout, json } => commands::link(&layout, json),
@@ -96,9 +101,13 @@ fn main() -> ExitCode {
             let _ = write!(out, "{text}{nl}").and_then(|_| out.flush());
             ExitCode::SUCCESS
         }
-        Err(f) => {
-            eprintln!("catoptric: {}", f.message);
-            ExitCode::from(f.code)
-        }
+        Err(f) => fail(f),
     }
+}
+
+/// Prints a failure as one terminal-safe line on stderr.
+fn fail(f: Failure) -> ExitCode {
+    use catoptric::error::{printable, shorten_numbers};
+    eprintln!("catoptric: {}", printable(&shorten_numbers(&f.message)));
+    ExitCode::from(f.code)
 }

@@ -5,6 +5,16 @@
 //! [`resolve`], which refuses traversal and encoded separators before the
 //! file system is touched and then checks the canonical path (symlinks
 //! resolved) against the canonical root.
+//!
+//! Hardening (common practice for servers on loopback): the request head
+//! must arrive whole within one deadline, whatever the pace of the bytes;
+//! heads over the size cap get 431 (RFC 6585 §5); a bare LF ends lines as
+//! well as CRLF (RFC 9112 §2.2); the Host header must name this server on
+//! loopback (127.0.0.1, localhost or [::1] with its port), else 421 (RFC
+//! 9110 §15.5.20) or 400 when missing or repeated (RFC 9112 §3.2), so a
+//! page on another site cannot reach it by rebinding a DNS name; past the
+//! connection cap clients get 503 (RFC 9110 §15.6.4); after the answer the
+//! connection is closed, nothing more is read.
 
 use crate::Failure;
 use clap::Args;
@@ -12,7 +22,7 @@ use std::io::{Read as _, Write as _};
 use std::net::{TcpListener, TcpStream};
 use std::path::{Path, PathBuf};
 use std::sync::Arc;
-use std::time::Duration;
+use std::time::{Duration, Instant};
 
 #[derive(Args)]
 pub struct ServeArgs {
@@ -28,6 +38,10 @@ pub struct ServeArgs {
     /// Print the address as one JSON line: {"url", "root", "open"}.
     #[arg(long)]
     pub json: bool,
+    /// Milliseconds a client has to send its whole request head (tests
+    /// shorten it).
+    #[arg(long, hide = true, default_value_t = HEAD_DEADLINE_MS)]
+    pub head_timeout_ms: u64,
 }
 
 /// Content-Security-Policy sent with every response.
@@ -142,12 +156,17 @@ pub fn content_type(path: &Path) -> &'static str {
     }
 }
 
-/// Most connections served at once.
+/// Most connections served at once; more get 503.
 const MAX_CONNECTIONS: usize = 64;
-/// Longest request head accepted, bytes.
+/// Longest request head accepted, bytes; longer gets 431.
 const MAX_HEAD: usize = 16 * 1024;
-/// Read and write timeout of a connection.
+/// Time for the whole request head, ms (one deadline, not per read).
+const HEAD_DEADLINE_MS: u64 = 10_000;
+/// Write timeout of a connection.
 const IO_TIMEOUT: Duration = Duration::from_secs(10);
+/// Most bytes of pending input taken before a refusal is sent, so that
+/// closing does not reset the connection under the reply.
+const MAX_DISCARD: usize = 64 * 1024;
 
 /// Headers sent with every response. Every connection carries one request:
 /// the page loads a few dozen small files from loopback, where a fresh
@@ -159,27 +178,146 @@ fn common_headers() -> String {
     )
 }
 
-/// Reads the raw request head (up to the blank line); `None` when the
-/// client went away, sent too much or timed out.
-fn read_head(stream: &mut TcpStream) -> Option<Vec<u8>> {
+/// How reading a request head ended.
+enum Head {
+    /// The head, up to and including its empty line.
+    Complete(Vec<u8>),
+    TooLarge,
+    TimedOut,
+    /// The client closed or the connection failed: nothing to answer.
+    Gone,
+}
+
+/// Where the head ends: after its first empty line, with CRLF or bare LF
+/// line ends.
+fn head_end(b: &[u8]) -> Option<usize> {
+    b.iter().enumerate().find_map(|(i, &c)| match (c, b.get(i + 1..)) {
+        (b'\n', Some([b'\n', ..])) => Some(i + 2),
+        (b'\n', Some([b'\r', b'\n', ..])) => Some(i + 3),
+        _ => None,
+    })
+}
+
+/// Reads the request head; the whole head must arrive before `deadline`.
+fn read_head(stream: &mut TcpStream, deadline: Instant) -> Head {
     let mut head = Vec::with_capacity(1024);
     let mut buf = [0u8; 2048];
-    while !head.windows(4).any(|w| w == b"\r\n\r\n") {
-        let n = stream.read(&mut buf).ok().filter(|&n| n > 0)?;
-        head.extend_from_slice(&buf[..n]);
+    loop {
+        if let Some(end) = head_end(&head) {
+            return if end > MAX_HEAD { Head::TooLarge } else { Head::Complete(head) };
+        }
         if head.len() > MAX_HEAD {
-            return None;
+            return Head::TooLarge;
+        }
+        let left = deadline.saturating_duration_since(Instant::now());
+        if left.is_zero() || stream.set_read_timeout(Some(left)).is_err() {
+            return Head::TimedOut;
+        }
+        match stream.read(&mut buf) {
+            Ok(0) => return Head::Gone,
+            Ok(n) => head.extend_from_slice(&buf[..n]),
+            Err(e) if e.kind() == std::io::ErrorKind::Interrupted => {}
+            Err(e) if matches!(e.kind(), std::io::ErrorKind::WouldBlock | std::io::ErrorKind::TimedOut) => {
+                return Head::TimedOut;
+            }
+            Err(_) => return Head::Gone,
         }
     }
-    Some(head)
+}
+
+/// A short plain-text response; `extra` holds more header lines.
+fn text_reply(status: u16, reason: &str, body: &str, extra: &str) -> String {
+    format!(
+        "HTTP/1.1 {status} {reason}\r\nContent-Type: text/plain; charset=utf-8\r\nContent-Length: {}\r\n{extra}{}\r\n{body}",
+        body.len(),
+        common_headers()
+    )
+}
+
+/// Takes (without waiting) what the client has already sent, up to
+/// [`MAX_DISCARD`] bytes: closing a socket with unread input resets the
+/// connection, which can destroy a refusal before the client reads it.
+fn discard_pending(stream: &mut TcpStream) {
+    if stream.set_nonblocking(true).is_err() {
+        return;
+    }
+    let mut buf = [0u8; 4096];
+    let mut taken = 0;
+    while taken < MAX_DISCARD {
+        match stream.read(&mut buf) {
+            Ok(n) if n > 0 => taken += n,
+            _ => break,
+        }
+    }
+    let _ = stream.set_nonblocking(false);
+}
+
+/// Sends a refusal and closes the connection. Refusals are short: a
+/// second is plenty to hand one to the kernel.
+fn refuse(mut stream: TcpStream, reply: &str) {
+    let _ = stream.set_write_timeout(Some(Duration::from_secs(1)));
+    discard_pending(&mut stream);
+    let _ = stream.write_all(reply.as_bytes());
+    close(stream);
+}
+
+/// Ends a connection: no more reading once the answer is out.
+fn close(mut stream: TcpStream) {
+    let _ = stream.flush();
+    let _ = stream.shutdown(std::net::Shutdown::Both);
+}
+
+/// True when a Host header value names this server: a loopback name and
+/// this port (RFC 9110 §7.2; no port means 80, §4.2.1).
+fn host_is_ours(value: &str, port: u16) -> bool {
+    let value = value.trim();
+    let (name, rest) = match value.strip_prefix('[') {
+        Some(v6) => match v6.find(']') {
+            Some(i) => (&value[..i + 2], &v6[i + 1..]),
+            None => return false,
+        },
+        None => value.split_at(value.find(':').unwrap_or(value.len())),
+    };
+    let given = match rest.strip_prefix(':') {
+        None if rest.is_empty() => Some(80),
+        Some("") => Some(80),
+        Some(p) if p.bytes().all(|b| b.is_ascii_digit()) => p.parse::<u16>().ok(),
+        _ => None,
+    };
+    let loopback = ["127.0.0.1", "localhost", "[::1]"].iter().any(|n| name.eq_ignore_ascii_case(n));
+    loopback && given == Some(port)
+}
+
+/// The Host check: `Err` carries the refusal.
+fn check_host(headers: &[httparse::Header], port: u16) -> Result<(), String> {
+    let mut hosts = headers.iter().filter(|h| h.name.eq_ignore_ascii_case("host"));
+    let (Some(host), None) = (hosts.next(), hosts.next()) else {
+        return Err(text_reply(400, "Bad Request", "bad request: exactly one Host header is required\n", ""));
+    };
+    match std::str::from_utf8(host.value) {
+        Ok(v) if host_is_ours(v, port) => Ok(()),
+        _ => Err(text_reply(
+            421,
+            "Misdirected Request",
+            &format!("this server answers only for 127.0.0.1:{port}, localhost:{port} or [::1]:{port}\n"),
+            "",
+        )),
+    }
 }
 
 /// Answers one request on `stream` and closes it.
-fn answer(root: &Path, mut stream: TcpStream) {
-    let _ = stream.set_read_timeout(Some(IO_TIMEOUT));
+fn answer(root: &Path, port: u16, head_timeout: Duration, mut stream: TcpStream) {
     let _ = stream.set_write_timeout(Some(IO_TIMEOUT));
-    let Some(head) = read_head(&mut stream) else {
-        return;
+    let head = match read_head(&mut stream, Instant::now() + head_timeout) {
+        Head::Complete(head) => head,
+        Head::Gone => return,
+        Head::TimedOut => {
+            return refuse(stream, &text_reply(408, "Request Timeout", "request timeout: the request head took too long\n", ""));
+        }
+        Head::TooLarge => {
+            let body = format!("request head larger than {} KiB\n", MAX_HEAD / 1024);
+            return refuse(stream, &text_reply(431, "Request Header Fields Too Large", &body, ""));
+        }
     };
     // The request line and headers are parsed by httparse (hyper's parser).
     let mut headers = [httparse::EMPTY_HEADER; 64];
@@ -189,22 +327,11 @@ fn answer(root: &Path, mut stream: TcpStream) {
         _ => ("", ""),
     };
     if method.is_empty() {
-        let body = "bad request\n";
-        let r = format!(
-            "HTTP/1.1 400 Bad Request\r\nContent-Type: text/plain; charset=utf-8\r\nContent-Length: {}\r\n{}\r\n{body}",
-            body.len(),
-            common_headers()
-        );
-        let _ = stream.write_all(r.as_bytes());
-        return;
+        return refuse(stream, &text_reply(400, "Bad Request", "bad request\n", ""));
     }
-    let text = |status: u16, reason: &str, body: &str, extra: &str| {
-        format!(
-            "HTTP/1.1 {status} {reason}\r\nContent-Type: text/plain; charset=utf-8\r\nContent-Length: {}\r\n{extra}{}\r\n{body}",
-            body.len(),
-            common_headers()
-        )
-    };
+    if let Err(reply) = check_host(req.headers, port) {
+        return refuse(stream, &reply);
+    }
     // A failed write means the client went away; nothing to do about it.
     let _ = match method {
         "GET" | "HEAD" => match resolve(root, target)
@@ -223,22 +350,16 @@ fn answer(root: &Path, mut stream: TcpStream) {
             }
             Err(why) => {
                 let (reason, body) = if why == Refusal::NotFound { ("Not Found", "not found\n") } else { ("Bad Request", "bad request\n") };
-                let mut r = text(why.status(), reason, body, "");
+                let mut r = text_reply(why.status(), reason, body, "");
                 if method == "HEAD" {
                     r.truncate(r.len() - body.len());
                 }
                 stream.write_all(r.as_bytes())
             }
         },
-        _ => stream.write_all(text(405, "Method Not Allowed", "method not allowed\n", "Allow: GET, HEAD\r\n").as_bytes()),
+        _ => stream.write_all(text_reply(405, "Method Not Allowed", "method not allowed\n", "Allow: GET, HEAD\r\n").as_bytes()),
     };
-    let _ = stream.flush();
-    // Close our side, then let the client close: dropping a socket with
-    // unread input would reset the connection and could cut the reply.
-    let _ = stream.shutdown(std::net::Shutdown::Write);
-    let _ = stream.set_read_timeout(Some(Duration::from_secs(1)));
-    let mut sink = [0u8; 512];
-    while matches!(stream.read(&mut sink), Ok(n) if n > 0) {}
+    close(stream);
 }
 
 /// The folder to serve: `--root`, else `./www`, else the crate's `www`.
@@ -262,7 +383,11 @@ fn find_root(arg: Option<&str>) -> Result<PathBuf, Failure> {
 pub fn run(a: ServeArgs) -> Result<String, Failure> {
     let root = find_root(a.root.as_deref())?;
     let fragment = match &a.open {
-        Some(path) => Some(catoptric::layout::encode_link(&crate::commands::read_layout(path)?)),
+        Some(path) => {
+            let layout = crate::commands::read_layout(path)?;
+            let link = catoptric::layout::checked_link(&layout).map_err(|e| Failure::input(format!("--open: {path}: {e}")))?;
+            Some(link)
+        }
         None => None,
     };
     let listener = TcpListener::bind(("127.0.0.1", a.port))
@@ -285,19 +410,22 @@ pub fn run(a: ServeArgs) -> Result<String, Failure> {
     drop(out);
 
     // A thread per connection: loopback only, one request each, at most
-    // MAX_CONNECTIONS at once (further clients are closed at once).
+    // MAX_CONNECTIONS at once (further clients get 503 at once).
     let root = Arc::new(root);
+    let head_timeout = Duration::from_millis(a.head_timeout_ms.max(1));
     let open = Arc::new(std::sync::atomic::AtomicUsize::new(0));
+    let busy = || text_reply(503, "Service Unavailable", "busy: too many connections at once; try again\n", "Retry-After: 1\r\n");
     for stream in listener.incoming() {
         let Ok(stream) = stream else { continue };
         use std::sync::atomic::Ordering::SeqCst;
         if open.fetch_add(1, SeqCst) >= MAX_CONNECTIONS {
             open.fetch_sub(1, SeqCst);
+            refuse(stream, &busy());
             continue;
         }
         let (root, count) = (Arc::clone(&root), Arc::clone(&open));
         let spawned = std::thread::Builder::new().name("serve".into()).spawn(move || {
-            answer(&root, stream);
+            answer(&root, port, head_timeout, stream);
             count.fetch_sub(1, SeqCst);
         });
         if spawned.is_err() {
