@@ -21,39 +21,72 @@ pub const AIRY_FACTOR: f64 = 1.22;
 /// Power-weighted mean direction of the arriving rays (screen frame, unit
 /// length); `None` without hits or when the directions cancel.
 pub fn mean_direction(h: &ScreenHits, source: Option<u32>) -> Option<Vec3> {
-    mean_dir(&Subset::new(h, source))
+    Subset::new(h, source).mean_dir()
 }
 
-pub(crate) fn mean_dir(sel: &Subset) -> Option<Vec3> {
-    let h = sel.h;
-    let mut m = Vec3::zeros();
-    for (i, w) in sel.iter() {
-        m += Vec3::new(h.du[i], h.dv[i], h.dw[i]) * w;
+pub(crate) fn compute_mean_dir(sel: &Subset) -> Option<Vec3> {
+    let h = &sel.h;
+    let w = sel.weights();
+    let (du, dv, dw) = (sel.col(&h.du), sel.col(&h.dv), sel.col(&h.dw));
+    let (mut x, mut y, mut z) = (0.0, 0.0, 0.0);
+    for k in 0..sel.n {
+        x += du[k] * w[k];
+        y += dv[k] * w[k];
+        z += dw[k] * w[k];
     }
+    let m = Vec3::new(x, y, z);
     let n = m.norm();
     (sel.n > 0 && n > 0.0 && n.is_finite()).then(|| m / n)
 }
 
 /// Largest angle (radians) between an arriving ray and the mean direction.
+/// The extreme ray is found by its sin² (|d × m|², monotone in the angle
+/// up to 90°); only its angle is then taken with atan2, which keeps small
+/// angles accurate (acos loses them). Any ray at 90° or more from the mean
+/// makes the answer at least 90°.
 pub fn cone_half_angle(h: &ScreenHits, source: Option<u32>) -> Option<f64> {
-    let sel = Subset::new(h, source);
-    let m = mean_dir(&sel)?;
-    let mut best = 0.0f64;
-    for (i, _) in sel.iter() {
-        let d = Vec3::new(h.du[i], h.dv[i], h.dw[i]);
-        // atan2 keeps small angles accurate (acos loses them).
-        best = best.max(d.cross(&m).norm().atan2(d.dot(&m)));
+    cone_half_angle_of(&Subset::new(h, source))
+}
+
+pub(crate) fn cone_half_angle_of(sel: &Subset) -> Option<f64> {
+    let m = sel.mean_dir()?;
+    let (du, dv, dw) = (sel.col(&sel.h.du), sel.col(&sel.h.dv), sel.col(&sel.h.dw));
+    let (mut best, mut at, mut back) = (-1.0f64, 0usize, f64::NEG_INFINITY);
+    for k in 0..sel.n {
+        let (cx, cy, cz) = (dv[k] * m.z - dw[k] * m.y, dw[k] * m.x - du[k] * m.z, du[k] * m.y - dv[k] * m.x);
+        let s2 = cx * cx + cy * cy + cz * cz;
+        let c = du[k] * m.x + dv[k] * m.y + dw[k] * m.z;
+        if c > 0.0 && s2 > best {
+            (best, at) = (s2, k);
+        }
+        if c <= 0.0 {
+            // Past 90°: the largest angle is the most negative cosine's.
+            back = back.max(-c);
+        }
     }
-    Some(best)
+    let angle = |k: usize| {
+        let d = Vec3::new(du[k], dv[k], dw[k]);
+        d.cross(&m).norm().atan2(d.dot(&m))
+    };
+    if back > f64::NEG_INFINITY {
+        // Some ray arrives from 90° or more: the widest is the one whose
+        // cosine is most negative (acos is fine there).
+        return Some(std::f64::consts::FRAC_PI_2 + back.clamp(0.0, 1.0).asin());
+    }
+    Some(if best < 0.0 { 0.0 } else { angle(at) })
 }
 
 /// Working f-number N = 1 / (2 sin θmax); `None` with fewer than 3 hits
 /// or when the rays arrive parallel.
 pub fn f_number(h: &ScreenHits, source: Option<u32>) -> Option<f64> {
-    if Subset::new(h, source).n < 3 {
+    f_number_of(&Subset::new(h, source))
+}
+
+pub(crate) fn f_number_of(sel: &Subset) -> Option<f64> {
+    if sel.n < 3 {
         return None;
     }
-    let t = cone_half_angle(h, source)?.min(std::f64::consts::FRAC_PI_2);
+    let t = cone_half_angle_of(sel)?.min(std::f64::consts::FRAC_PI_2);
     let s = t.sin();
     (s > 0.0).then(|| 0.5 / s)
 }

@@ -68,9 +68,11 @@ pub fn flux_map(scene: &Scene, res: &TraceResult, screen: usize, nx: usize, ny: 
     }
     let (pu, pv) = (2.0 * half / nx as f64, 2.0 * half / ny as f64);
     let mut w_m2 = vec![0.0; nx * ny];
+    let (ku, kv) = (nx as f64 / (2.0 * half), ny as f64 / (2.0 * half));
     for i in 0..h.len() {
-        let ix = (((h.u[i] + half) / pu).floor().max(0.0) as usize).min(nx - 1);
-        let iy = (((half - h.v[i]) / pv).floor().max(0.0) as usize).min(ny - 1);
+        // Truncation is the floor here (negatives and NaN clamp to 0).
+        let ix = (((h.u[i] + half) * ku).max(0.0) as usize).min(nx - 1);
+        let iy = (((half - h.v[i]) * kv).max(0.0) as usize).min(ny - 1);
         w_m2[iy * nx + ix] += h.weight[i];
     }
     let k = 1.0 / (pu * pv * 1e-6);

@@ -78,28 +78,35 @@ impl FocusFit {
 /// Fits RMS²(s) for the hits of `source` (all sources when `None`); `None`
 /// with fewer than 3 hits.
 pub fn focus_fit(h: &ScreenHits, source: Option<u32>) -> Option<FocusFit> {
-    let sel = Subset::new(h, source);
+    focus_fit_of(&Subset::new(h, source))
+}
+
+pub(crate) fn focus_fit_of(sel: &Subset) -> Option<FocusFit> {
     if sel.n < 3 {
         return None;
     }
+    let h = &sel.h;
+    let w = sel.weights();
+    let (u, v) = (sel.col(&h.u), sel.col(&h.v));
+    let (du, dv, dw) = (sel.col(&h.du), sel.col(&h.dv), sel.col(&h.dw));
     let (mut su, mut sv, mut sa, mut sb) = (0.0, 0.0, 0.0, 0.0);
-    for (i, w) in sel.iter() {
-        let inv = 1.0 / h.dw[i];
-        su += w * h.u[i];
-        sv += w * h.v[i];
-        sa += w * h.du[i] * inv;
-        sb += w * h.dv[i] * inv;
+    for k in 0..sel.n {
+        let inv = 1.0 / dw[k];
+        su += w[k] * u[k];
+        sv += w[k] * v[k];
+        sa += w[k] * du[k] * inv;
+        sb += w[k] * dv[k] * inv;
     }
     let wt = sel.w;
     let (cu, cv, ca, cb) = (su / wt, sv / wt, sa / wt, sb / wt);
     let (mut a, mut b, mut c) = (0.0, 0.0, 0.0);
-    for (i, w) in sel.iter() {
-        let inv = 1.0 / h.dw[i];
-        let (x, y) = (h.u[i] - cu, h.v[i] - cv);
-        let (p, q) = (h.du[i] * inv - ca, h.dv[i] * inv - cb);
-        a += w * (x * x + y * y);
-        b += w * (x * p + y * q);
-        c += w * (p * p + q * q);
+    for k in 0..sel.n {
+        let inv = 1.0 / dw[k];
+        let (x, y) = (u[k] - cu, v[k] - cv);
+        let (p, q) = (du[k] * inv - ca, dv[k] * inv - cb);
+        a += w[k] * (x * x + y * y);
+        b += w[k] * (x * p + y * q);
+        c += w[k] * (p * p + q * q);
     }
     Some(FocusFit { hits: sel.n, centroid: [cu, cv], mean_slope: [ca, cb], a: a / wt, b: b / wt, c: c / wt })
 }

@@ -14,6 +14,20 @@ mod select;
 mod spot;
 mod wavefront;
 
+/// Runs `a` and `b` at once on the thread pool natively (each one is
+/// sequential inside, so the answers do not depend on the threads), one
+/// after the other in a wasm module.
+pub(crate) fn join<A: Send, B: Send>(a: impl FnOnce() -> A + Send, b: impl FnOnce() -> B + Send) -> (A, B) {
+    #[cfg(not(target_arch = "wasm32"))]
+    {
+        rayon::join(a, b)
+    }
+    #[cfg(target_arch = "wasm32")]
+    {
+        (a(), b())
+    }
+}
+
 pub use caustic::{caustic, caustic_raster, MAX_RASTER_SIDE};
 pub use cone::{airy_radius, cone_half_angle, f_number, mean_direction, AIRY_FACTOR};
 pub use energy::{encircled_energy, EncircledEnergy};

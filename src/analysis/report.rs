@@ -6,12 +6,14 @@
 //! (5 for the wavefront), rays arriving parallel (no focus, no f-number),
 //! or an extended solar source (no single wavefront).
 
-use super::cone::{airy_radius, f_number};
-use super::energy::encircled_energy;
+use super::cone::{airy_radius, f_number_of};
+use super::energy::encircled_energy_of;
 use super::flux::{flux_map, flux_stats_of, FluxMap, FluxStats, DEFAULT_FLUX_GRID};
-use super::focus::{default_focus_range, focus_fit, through_focus_of, ThroughFocus};
-use super::spot::spot_stats;
-use super::wavefront::wavefront;
+use super::focus::{default_focus_range, focus_fit_of, through_focus_of, ThroughFocus};
+use super::select::Subset;
+use super::spot::spot_stats_of;
+use super::wavefront::wavefront_of;
+use super::join;
 use crate::layout::Source;
 use crate::scene::Scene;
 use crate::trace::{ScreenHits, TraceResult};
@@ -93,19 +95,34 @@ pub struct Analyses {
 pub const CURVE_POINTS: usize = 101;
 
 fn analyse_source(scene: &Scene, hits: &ScreenHits, si: usize) -> Option<(SourceReport, SourceCurves)> {
-    let src = si as u32;
-    let st = spot_stats(hits, Some(src));
-    if st.hits == 0 {
+    let sel = Subset::new(hits, Some(si as u32));
+    if sel.n == 0 {
         return None;
     }
     let lambda = scene.wavelength_mm;
-    let fit = focus_fit(hits, Some(src));
-    let best = fit.as_ref().and_then(|f| f.best_shift());
-    let n = f_number(hits, Some(src));
     let extended = matches!(&scene.sources[si], Source::Beam(b) if b.sun_half_angle_mrad > 0.0);
-    let reference = fit.as_ref().and_then(|f| f.best_point()).unwrap_or([st.centroid[0], st.centroid[1], 0.0]);
-    let wf = if extended { None } else { wavefront(hits, Some(src), reference, lambda) };
-    let ee = if st.hits >= 3 { encircled_energy(hits, Some(src)) } else { None };
+    // Shared first-pass figures, then the independent analyses two at a time.
+    let _ = (sel.centroid(), sel.mean_dir());
+    let ((st, ee), (fit, n, wf)) = join(
+        || {
+            let st = spot_stats_of(&sel);
+            let ee = if st.hits >= 3 { encircled_energy_of(&sel) } else { None };
+            (st, ee)
+        },
+        || {
+            let fit = focus_fit_of(&sel);
+            let (n, wf) = join(
+                || f_number_of(&sel),
+                || {
+                    let c = sel.centroid();
+                    let reference = fit.as_ref().and_then(|f| f.best_point()).unwrap_or([c[0], c[1], 0.0]);
+                    if extended { None } else { wavefront_of(&sel, reference, lambda) }
+                },
+            );
+            (fit, n, wf)
+        },
+    );
+    let best = fit.as_ref().and_then(|f| f.best_shift());
     let um = |v: Option<f64>| v.map(|x| x * 1e3);
     let report = SourceReport {
         source: scene.sources[si].id().to_string(),
@@ -140,12 +157,19 @@ pub fn analyse_all(scene: &Scene, res: &TraceResult) -> Analyses {
     let mut screens = Vec::with_capacity(res.screens.len());
     let mut flux_maps = Vec::with_capacity(res.screens.len());
     let mut curves = Vec::with_capacity(res.screens.len());
-    for (k, (id, hits)) in scene.screen_ids.iter().zip(&res.screens).enumerate() {
-        let (by_source, c): (Vec<_>, Vec<_>) =
-            (0..scene.sources.len()).filter_map(|si| analyse_source(scene, hits, si)).unzip();
-        let map = flux_map(scene, res, k, DEFAULT_FLUX_GRID, DEFAULT_FLUX_GRID).unwrap_or_default();
+    let per_screen = |k: usize| {
+        let hits = &res.screens[k];
+        let ((by_source, c), map) = join(
+            || -> (Vec<_>, Vec<_>) { (0..scene.sources.len()).filter_map(|si| analyse_source(scene, hits, si)).unzip() },
+            || flux_map(scene, res, k, DEFAULT_FLUX_GRID, DEFAULT_FLUX_GRID).unwrap_or_default(),
+        );
         let flux = flux_stats_of(scene, res, k, &map);
-        screens.push(ScreenReport { id: id.clone(), hits: hits.len() as u64, power_w: hits.weight.iter().sum(), by_source, flux });
+        let id = scene.screen_ids[k].clone();
+        (ScreenReport { id, hits: hits.len() as u64, power_w: hits.weight.iter().sum(), by_source, flux }, map, c)
+    };
+    for k in 0..res.screens.len().min(scene.screen_ids.len()) {
+        let (r, map, c) = per_screen(k);
+        screens.push(r);
         flux_maps.push(map);
         curves.push(c);
     }

@@ -1,54 +1,96 @@
 //! The hits of one source on one screen, with the weights the analyses use.
+//!
+//! A trace records hits source by source (each source's rays in order), so
+//! one source's hits are one contiguous run of a screen's columns: picking
+//! them is two binary searches, and every analysis loops over plain
+//! slices. Hits gathered some other way (out of source order) are copied
+//! into source order first.
 
 use crate::trace::ScreenHits;
+use std::borrow::Cow;
+use std::ops::Range;
 
 /// A view of the hits that `source` put on a screen (all sources when
 /// `None`). Weights are the rays' powers; when they sum to zero (a 0 W
 /// source) every ray counts equally, as in [`super::spot_stats`].
-#[derive(Debug, Clone, Copy)]
+#[derive(Debug, Clone)]
 pub(crate) struct Subset<'a> {
-    pub h: &'a ScreenHits,
-    source: Option<u32>,
+    /// The hits; the picked ones are `range`.
+    pub h: Cow<'a, ScreenHits>,
+    pub range: Range<usize>,
     /// Number of hits picked.
     pub n: usize,
     /// Sum of the weights used (equal weights count 1 each).
     pub w: f64,
+    /// Sum of the rays' powers, W.
+    pub power: f64,
     equal: bool,
+    centroid: std::sync::OnceLock<[f64; 2]>,
+    mean_dir: std::sync::OnceLock<Option<crate::geometry::Vec3>>,
 }
 
 impl<'a> Subset<'a> {
     pub fn new(h: &'a ScreenHits, source: Option<u32>) -> Self {
-        let mut s = Subset { h, source, n: 0, w: 0.0, equal: false };
-        let mut w = 0.0;
-        for (i, wi) in h.weight.iter().enumerate() {
-            if s.picks(i) {
-                s.n += 1;
-                w += wi;
+        let (h, range) = match source {
+            None => (Cow::Borrowed(h), 0..h.len()),
+            Some(s) if h.source.windows(2).all(|p| p[0] <= p[1]) => {
+                let lo = h.source.partition_point(|&x| x < s);
+                let hi = lo + h.source[lo..].partition_point(|&x| x == s);
+                (Cow::Borrowed(h), lo..hi)
             }
+            Some(s) => {
+                let mut own = ScreenHits::default();
+                for i in (0..h.len()).filter(|&i| h.source[i] == s) {
+                    own.extend_range(h, i..i + 1);
+                }
+                let n = own.len();
+                (Cow::Owned(own), 0..n)
+            }
+        };
+        let power: f64 = h.weight[range.clone()].iter().sum();
+        let equal = power <= 0.0 || power.is_nan();
+        let n = range.len();
+        Subset {
+            h,
+            range,
+            n,
+            w: if equal { n as f64 } else { power },
+            power,
+            equal,
+            centroid: Default::default(),
+            mean_dir: Default::default(),
         }
-        s.equal = w <= 0.0 || w.is_nan();
-        s.w = if s.equal { s.n as f64 } else { w };
-        s
     }
 
+    /// The picked part of a column.
     #[inline]
-    fn picks(&self, i: usize) -> bool {
-        self.source.is_none_or(|src| self.h.source[i] == src)
+    pub fn col<'s>(&'s self, c: &'s [f64]) -> &'s [f64] {
+        &c[self.range.clone()]
     }
 
-    /// (index, weight) of every picked hit.
-    #[inline]
-    pub fn iter(&self) -> impl Iterator<Item = (usize, f64)> + '_ {
-        let equal = self.equal;
-        (0..self.h.len()).filter(|&i| self.picks(i)).map(move |i| (i, if equal { 1.0 } else { self.h.weight[i] }))
+    /// The weights used, one per picked hit.
+    pub fn weights(&self) -> Cow<'_, [f64]> {
+        if self.equal { Cow::Owned(vec![1.0; self.n]) } else { Cow::Borrowed(self.col(&self.h.weight)) }
     }
 
-    /// Weighted centroid (u, v) on the screen, mm.
+
+    /// Weighted centroid (u, v) on the screen, mm (computed once).
     pub fn centroid(&self) -> [f64; 2] {
+        *self.centroid.get_or_init(|| self.compute_centroid())
+    }
+
+    /// Power-weighted mean arriving direction, unit length (computed once).
+    pub fn mean_dir(&self) -> Option<crate::geometry::Vec3> {
+        *self.mean_dir.get_or_init(|| super::cone::compute_mean_dir(self))
+    }
+
+    fn compute_centroid(&self) -> [f64; 2] {
+        let w = self.weights();
+        let (u, v) = (self.col(&self.h.u), self.col(&self.h.v));
         let (mut su, mut sv) = (0.0, 0.0);
-        for (i, w) in self.iter() {
-            su += w * self.h.u[i];
-            sv += w * self.h.v[i];
+        for k in 0..self.n {
+            su += w[k] * u[k];
+            sv += w[k] * v[k];
         }
         [su / self.w, sv / self.w]
     }

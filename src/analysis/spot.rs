@@ -1,6 +1,7 @@
 //! Spot statistics: centroid, RMS and largest radius of the hits that one
 //! source puts on one screen, weighted by the power each ray carries.
 
+use super::select::Subset;
 use crate::trace::ScreenHits;
 
 /// Basic spot figures for one (screen, source) pair. Radii are in mm here;
@@ -19,47 +20,29 @@ pub struct SpotStats {
 
 /// Statistics of the hits of `source` (all sources when `None`).
 pub fn spot_stats(h: &ScreenHits, source: Option<u32>) -> SpotStats {
-    let pick = |i: usize| source.is_none_or(|s| h.source[i] == s);
-    let mut n = 0u64;
-    let (mut w, mut su, mut sv) = (0.0, 0.0, 0.0);
-    for i in 0..h.len() {
-        if pick(i) {
-            n += 1;
-            let wi = h.weight[i];
-            w += wi;
-            su += wi * h.u[i];
-            sv += wi * h.v[i];
-        }
-    }
-    if n == 0 {
+    spot_stats_of(&Subset::new(h, source))
+}
+
+pub(crate) fn spot_stats_of(sel: &Subset) -> SpotStats {
+    if sel.n == 0 {
         return SpotStats::default();
     }
     // Rays of zero power (a source of 0 W) still mark where light would go:
-    // fall back to equal weights.
-    let equal = w <= 0.0;
-    let (cu, cv) = if equal {
-        let (mut a, mut b) = (0.0, 0.0);
-        for i in (0..h.len()).filter(|&i| pick(i)) {
-            a += h.u[i];
-            b += h.v[i];
-        }
-        (a / n as f64, b / n as f64)
-    } else {
-        (su / w, sv / w)
-    };
-    let (mut s2, mut ws, mut rmax) = (0.0, 0.0, 0.0f64);
-    for i in (0..h.len()).filter(|&i| pick(i)) {
-        let wi = if equal { 1.0 } else { h.weight[i] };
-        let r2 = (h.u[i] - cu).powi(2) + (h.v[i] - cv).powi(2);
-        s2 += wi * r2;
-        ws += wi;
+    // the subset falls back to equal weights.
+    let [cu, cv] = sel.centroid();
+    let w = sel.weights();
+    let (u, v) = (sel.col(&sel.h.u), sel.col(&sel.h.v));
+    let (mut s2, mut rmax) = (0.0, 0.0f64);
+    for k in 0..sel.n {
+        let r2 = (u[k] - cu) * (u[k] - cu) + (v[k] - cv) * (v[k] - cv);
+        s2 += w[k] * r2;
         rmax = rmax.max(r2);
     }
     SpotStats {
-        hits: n,
-        power_w: w,
+        hits: sel.n as u64,
+        power_w: sel.power,
         centroid: [cu, cv],
-        rms_radius: (s2 / ws).sqrt(),
+        rms_radius: (s2 / sel.w).sqrt(),
         max_radius: rmax.sqrt(),
     }
 }

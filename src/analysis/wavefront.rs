@@ -25,7 +25,8 @@
 //! in waves of the layout's wavelength.
 //!
 //! OPLs are ~10³ mm while aberrations are ~10⁻⁵ mm: W is taken relative to
-//! the first ray's before any sum, and all sums are centred (two passes), so
+//! the first ray's before any sum, and the fit's sums are shifted by the
+//! first sample (one pass, then centred exactly by the mean's offset), so
 //! f64 keeps ~10⁻¹² mm.
 //!
 //! # Strehl
@@ -36,7 +37,6 @@
 //! called diffraction limited when σ ≤ λ/14 (Maréchal criterion; Strehl
 //! ≥ 0.8 in the 1 − x form, 0.82 in the exp form).
 
-use super::cone::mean_dir;
 use super::select::Subset;
 use crate::geometry::Vec3;
 use crate::trace::ScreenHits;
@@ -78,8 +78,8 @@ pub fn strehl_from_rms(rms_waves: f64) -> f64 {
 }
 
 /// The least-squares fit shared by the statistics and the map.
-struct Fit<'a> {
-    sel: Subset<'a>,
+struct Fit<'s, 'a> {
+    sel: &'s Subset<'a>,
     p: Vec3,
     m: Vec3,
     e1: Vec3,
@@ -89,21 +89,36 @@ struct Fit<'a> {
     coef: [f64; 3],
 }
 
-impl Fit<'_> {
-    /// (a, b, c, W − w0) of hit `i`.
-    #[inline]
-    fn sample(&self, i: usize) -> [f64; 4] {
-        let h = self.sel.h;
-        let d = Vec3::new(h.du[i], h.dv[i], h.dw[i]);
-        let hit = Vec3::new(h.u[i], h.v[i], 0.0);
-        let w = (h.opl[i] - self.w0) + d.dot(&(self.p - hit));
-        [d.dot(&self.e1), d.dot(&self.e2), d.dot(&self.m), w]
+/// The picked hits' columns as plain slices.
+struct Cols<'s> {
+    u: &'s [f64],
+    v: &'s [f64],
+    du: &'s [f64],
+    dv: &'s [f64],
+    dw: &'s [f64],
+    opl: &'s [f64],
+}
+
+impl Fit<'_, '_> {
+    fn cols(&self) -> Cols<'_> {
+        let (s, h) = (&self.sel, &*self.sel.h);
+        Cols { u: s.col(&h.u), v: s.col(&h.v), du: s.col(&h.du), dv: s.col(&h.dv), dw: s.col(&h.dw), opl: s.col(&h.opl) }
     }
 
-    /// Residual wavefront of hit `i`, mm.
-    #[inline]
-    fn residual(&self, i: usize) -> f64 {
-        let s = self.sample(i);
+    /// (a, b, c, W − w0) of picked hit `k` (0-based within the subset).
+    #[inline(always)]
+    fn sample(&self, c: &Cols, k: usize) -> [f64; 4] {
+        let (dx, dy, dz) = (c.du[k], c.dv[k], c.dw[k]);
+        let (qx, qy, qz) = (self.p.x - c.u[k], self.p.y - c.v[k], self.p.z);
+        let w = (c.opl[k] - self.w0) + (dx * qx + dy * qy + dz * qz);
+        let dot = |e: &Vec3| dx * e.x + dy * e.y + dz * e.z;
+        [dot(&self.e1), dot(&self.e2), dot(&self.m), w]
+    }
+
+    /// Residual wavefront of picked hit `k`, mm.
+    #[inline(always)]
+    fn residual(&self, c: &Cols, k: usize) -> f64 {
+        let s = self.sample(c, k);
         (s[3] - self.mean[3])
             - self.coef[0] * (s[0] - self.mean[0])
             - self.coef[1] * (s[1] - self.mean[1])
@@ -111,41 +126,54 @@ impl Fit<'_> {
     }
 }
 
-fn fit<'a>(h: &'a ScreenHits, source: Option<u32>, reference: [f64; 3]) -> Option<Fit<'a>> {
-    let sel = Subset::new(h, source);
+fn fit<'s, 'a>(sel: &'s Subset<'a>, reference: [f64; 3]) -> Option<Fit<'s, 'a>> {
     if sel.n < 5 {
         return None;
     }
-    let m = mean_dir(&sel)?;
+    let m = sel.mean_dir()?;
     let helper = if m.x.abs() < 0.9 { Vec3::x() } else { Vec3::y() };
     let e1 = (helper - m * m.dot(&helper)).normalize();
     let e2 = m.cross(&e1);
-    let first = sel.iter().next()?.0;
     let mut f = Fit { sel, p: Vec3::from(reference), m, e1, e2, w0: 0.0, mean: [0.0; 4], coef: [0.0; 3] };
-    f.w0 = f.sample(first)[3];
-    let mut mean = [0.0; 4];
-    for (i, w) in f.sel.iter() {
-        let s = f.sample(i);
-        for k in 0..4 {
-            mean[k] += w * s[k];
+    let cols = f.cols();
+    let w0 = f.sample(&cols, 0)[3];
+    // One pass of sums shifted by the first sample (which keeps them free
+    // of cancellation: the spread, not the size, of each quantity is
+    // summed), then centred by the mean's offset from it.
+    let x0 = {
+        let mut x = f.sample(&cols, 0);
+        x[3] -= w0;
+        x
+    };
+    let wts = f.sel.weights();
+    let (mut s, mut nn, mut rr) = ([0.0; 4], [0.0; 6], [0.0; 3]);
+    for (k, &w) in wts.iter().enumerate() {
+        let x = f.sample(&cols, k);
+        let d = [x[0] - x0[0], x[1] - x0[1], x[2] - x0[2], (x[3] - w0) - x0[3]];
+        for a in 0..4 {
+            s[a] += w * d[a];
+        }
+        nn[0] += w * d[0] * d[0];
+        nn[1] += w * d[0] * d[1];
+        nn[2] += w * d[0] * d[2];
+        nn[3] += w * d[1] * d[1];
+        nn[4] += w * d[1] * d[2];
+        nn[5] += w * d[2] * d[2];
+        for a in 0..3 {
+            rr[a] += w * d[a] * d[3];
         }
     }
-    for v in &mut mean {
-        *v /= f.sel.w;
-    }
-    f.mean = mean;
+    f.w0 = w0;
+    let wt = f.sel.w;
+    let delta = s.map(|v| v / wt);
+    f.mean = [x0[0] + delta[0], x0[1] + delta[1], x0[2] + delta[2], x0[3] + delta[3]];
     // Centred normal equations.
-    let mut n = Matrix3::<f64>::zeros();
-    let mut r = Vector3::<f64>::zeros();
-    for (i, w) in f.sel.iter() {
-        let s = f.sample(i);
-        let x = Vector3::new(s[0] - mean[0], s[1] - mean[1], s[2] - mean[2]);
-        n += x * x.transpose() * w;
-        r += x * (w * (s[3] - mean[3]));
-    }
+    const AT: [[usize; 3]; 3] = [[0, 1, 2], [1, 3, 4], [2, 4, 5]];
+    let n = Matrix3::from_fn(|a, b| nn[AT[a][b]] - wt * delta[a] * delta[b]);
+    let r = Vector3::from_fn(|a, _| rr[a] - wt * delta[a] * delta[3]);
     // Scale the columns to unit size so the cut-off is relative.
     let scale = Vector3::from_fn(|k, _| {
-        let d = n[(k, k)].sqrt();
+        let d = n[(k, k)].max(0.0).sqrt();
         if d > 0.0 { 1.0 / d } else { 0.0 }
     });
     let ns = Matrix3::from_fn(|i, j| n[(i, j)] * scale[i] * scale[j]);
@@ -165,11 +193,17 @@ fn fit<'a>(h: &'a ScreenHits, source: Option<u32>, reference: [f64; 3]) -> Optio
 /// when the rays cancel. Meaningful for a point-like source only (a star or
 /// a lamp), not for a solar disk.
 pub fn wavefront(h: &ScreenHits, source: Option<u32>, reference: [f64; 3], wavelength_mm: f64) -> Option<WavefrontStats> {
-    let f = fit(h, source, reference)?;
+    wavefront_of(&Subset::new(h, source), reference, wavelength_mm)
+}
+
+pub(crate) fn wavefront_of(sel: &Subset, reference: [f64; 3], wavelength_mm: f64) -> Option<WavefrontStats> {
+    let f = fit(sel, reference)?;
     let (mut s2, mut lo, mut hi) = (0.0, f64::INFINITY, f64::NEG_INFINITY);
     let mut sum = 0.0;
-    for (i, w) in f.sel.iter() {
-        let r = f.residual(i);
+    let wts = f.sel.weights();
+    let cols = f.cols();
+    for (k, &w) in wts.iter().enumerate() {
+        let r = f.residual(&cols, k);
         sum += w * r;
         s2 += w * r * r;
         lo = lo.min(r);
@@ -204,7 +238,8 @@ pub struct WavefrontMap {
 
 /// The residual wavefront of every hit of `source` (see [`wavefront`]).
 pub fn wavefront_map(h: &ScreenHits, source: Option<u32>, reference: [f64; 3], wavelength_mm: f64) -> Option<WavefrontMap> {
-    let f = fit(h, source, reference)?;
+    let sel = Subset::new(h, source);
+    let f = fit(&sel, reference)?;
     let mut out = WavefrontMap {
         pupil_x: Vec::with_capacity(f.sel.n),
         pupil_y: Vec::with_capacity(f.sel.n),
@@ -212,12 +247,14 @@ pub fn wavefront_map(h: &ScreenHits, source: Option<u32>, reference: [f64; 3], w
     };
     let mut rmax = 0.0f64;
     let mut mean = 0.0;
-    for (i, w) in f.sel.iter() {
-        let s = f.sample(i);
+    let wts = f.sel.weights();
+    let cols = f.cols();
+    for (k, &w) in wts.iter().enumerate() {
+        let s = f.sample(&cols, k);
         out.pupil_x.push(s[0]);
         out.pupil_y.push(s[1]);
         rmax = rmax.max(s[0].hypot(s[1]));
-        let r = f.residual(i);
+        let r = f.residual(&cols, k);
         mean += w * r;
         out.opd_waves.push(r);
     }

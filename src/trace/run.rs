@@ -139,20 +139,63 @@ fn parallel(
         .then(|| rayon::ThreadPoolBuilder::new().num_threads(threads).build().ok())
         .flatten();
     // Waves of a few chunks per thread: progress is reported between them.
-    for group in chunks.chunks(threads * 4) {
-        let outs = match &pool {
+    let mut outs: Vec<Vec<ScreenHits>> = Vec::with_capacity(chunks.len());
+    for group in chunks.chunks(threads * 8) {
+        let wave = match &pool {
             Some(p) => p.install(|| work(group)),
             None => work(group),
         };
-        for (out, t) in outs {
+        for (out, t) in wave {
             add_tally(res, &t);
-            for (dst, src) in res.screens.iter_mut().zip(&out) {
-                dst.append(src);
-            }
-            give_buffers(out);
+            outs.push(out);
         }
         progress(group.iter().map(|c| c.1.len() as u64).sum());
     }
+    let concat = |res: &mut TraceResult| {
+        for (k, dst) in res.screens.iter_mut().enumerate() {
+            let parts: Vec<&ScreenHits> = outs.iter().map(|o| &o[k]).collect();
+            concat_parallel(dst, &parts);
+        }
+    };
+    match &pool {
+        Some(p) => p.install(|| concat(res)),
+        None => concat(res),
+    }
+    outs.into_iter().for_each(give_buffers);
+}
+
+/// Appends `parts` to `dst` in order, the copies spread over the threads.
+#[cfg(not(target_arch = "wasm32"))]
+fn concat_parallel(dst: &mut ScreenHits, parts: &[&ScreenHits]) {
+    use rayon::prelude::*;
+    fn column<T: Copy + Send + Sync>(col: &mut Vec<T>, parts: Vec<&[T]>) {
+        let total: usize = parts.iter().map(|p| p.len()).sum();
+        col.reserve(total);
+        let base = col.len();
+        let mut rest = &mut col.spare_capacity_mut()[..total];
+        let mut pieces = Vec::with_capacity(parts.len());
+        for p in &parts {
+            let (a, b) = rest.split_at_mut(p.len());
+            pieces.push(a);
+            rest = b;
+        }
+        pieces.into_par_iter().zip(parts).for_each(|(d, s)| {
+            for (x, y) in d.iter_mut().zip(s) {
+                x.write(*y);
+            }
+        });
+        // SAFETY: the `total` slots after `base` were all written just above
+        // (the pieces tile them exactly), and `reserve` made room for them.
+        unsafe { col.set_len(base + total) };
+    }
+    column(&mut dst.u, parts.iter().map(|p| &p.u[..]).collect());
+    column(&mut dst.v, parts.iter().map(|p| &p.v[..]).collect());
+    column(&mut dst.du, parts.iter().map(|p| &p.du[..]).collect());
+    column(&mut dst.dv, parts.iter().map(|p| &p.dv[..]).collect());
+    column(&mut dst.dw, parts.iter().map(|p| &p.dw[..]).collect());
+    column(&mut dst.opl, parts.iter().map(|p| &p.opl[..]).collect());
+    column(&mut dst.weight, parts.iter().map(|p| &p.weight[..]).collect());
+    column(&mut dst.source, parts.iter().map(|p| &p.source[..]).collect());
 }
 
 /// Chunk output buffers kept between traces: a re-trace writes into memory
@@ -162,7 +205,7 @@ fn parallel(
 static BUFFERS: std::sync::Mutex<Vec<Vec<ScreenHits>>> = std::sync::Mutex::new(Vec::new());
 /// Most buffer sets kept.
 #[cfg(not(target_arch = "wasm32"))]
-const KEPT_BUFFERS: usize = 64;
+const KEPT_BUFFERS: usize = 128;
 
 #[cfg(not(target_arch = "wasm32"))]
 fn take_buffers(screens: usize) -> Vec<ScreenHits> {
