@@ -14,7 +14,7 @@ force=0
 out="www/pkg"
 stamp="$out/catoptric_bg.wasm"
 if [[ "$force" == 0 && -f "$stamp" && -f "$out/catoptric.js" ]]; then
-  newer="$(find src Cargo.toml Cargo.lock -newer "$stamp" -print -quit 2>/dev/null || true)"
+  newer="$(find src Cargo.toml Cargo.lock .cargo -newer "$stamp" -print -quit 2>/dev/null || true)"
   if [[ -z "$newer" ]]; then
     echo "build-web: $out is up to date"
     exit 0
@@ -36,7 +36,7 @@ if [[ -x "$opt" ]]; then
   echo "build-web: wasm-opt -O3"
   "$opt" -O3 \
     --enable-reference-types --enable-bulk-memory --enable-nontrapping-float-to-int \
-    --enable-sign-ext --enable-mutable-globals --enable-multivalue \
+    --enable-sign-ext --enable-mutable-globals --enable-multivalue --enable-simd \
     "$tmp/catoptric_bg.wasm" -o "$tmp/catoptric_bg.opt.wasm"
   mv "$tmp/catoptric_bg.opt.wasm" "$tmp/catoptric_bg.wasm"
 else

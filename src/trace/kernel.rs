@@ -154,7 +154,7 @@ impl Kernel {
     pub fn name(self) -> &'static str {
         match self {
             Kernel::Portable => {
-                if cfg!(target_arch = "wasm32") { "wasm simd128" } else { "portable" }
+                if cfg!(target_feature = "simd128") { "wasm simd128" } else { "portable" }
             }
             Kernel::Avx2 => "avx2",
             Kernel::Avx512 => "avx512",

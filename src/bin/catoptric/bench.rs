@@ -2,14 +2,18 @@
 //! (`catoptric::bench_scenes`), native and, when Node and a built
 //! `www/pkg` are present, the wasm build side by side.
 //!
-//! Each scene is compiled once, then traced three times on one thread;
-//! the best time counts. Timing is wall-clock around `trace` alone.
+//! Each scene is compiled once, then traced three times on one thread and
+//! three times on every core (or `--threads N`); the best time counts.
+//! Timing is wall-clock around `trace` alone; the end-to-end figure adds
+//! compiling, every analysis and the JSON report. When `python3` with
+//! NumPy is present, `pkg-config/bench-numpy.py` traces scene 1 the
+//! vectorised-array way in the same run, for comparison.
 
 use crate::Failure;
 use catoptric::analysis::analyse_all;
 use catoptric::bench_scenes::{page_frame, scenes, BenchScene};
 use catoptric::layout::MAX_RAYS_PER_SOURCE;
-use catoptric::trace::{trace_into, TraceOptions, TraceResult};
+use catoptric::trace::{thread_count, trace_into, Kernel, TraceOptions, TraceResult};
 use catoptric::Scene;
 use serde::Serialize;
 use std::fmt::Write as _;
@@ -31,45 +35,58 @@ struct Machine {
     arch: &'static str,
 }
 
-#[derive(Serialize)]
-struct WasmRow {
-    seconds: f64,
-    rays_per_s: f64,
-    /// wasm throughput over native throughput.
-    ratio_to_native: f64,
-    /// One dragging frame of the page in wasm (20k rays per source,
-    /// analyses, fan, caustic), ms.
-    frame_ms: f64,
-}
-
+/// One scene's figures; the keys are the `bench --json` contract.
 #[derive(Serialize)]
 struct Row {
+    #[serde(skip)]
     key: &'static str,
     name: String,
     rays: u64,
     surface_hits: u64,
+    /// Trace time on `threads` threads, best of the runs.
     seconds: f64,
     rays_per_s: f64,
     hits_per_s: f64,
-    wasm: Option<WasmRow>,
-    /// Seconds that every analysis of the trace (spot, best focus, f-number,
-    /// wavefront, encircled energy, flux map) takes per million rays
-    /// launched, best of the runs.
-    analysis_s_per_million_rays: f64,
-    /// One dragging frame of the page natively (see
-    /// `bench_scenes::page_frame`), ms, best of the runs.
-    frame_ms: f64,
+    hits_per_s_per_thread: f64,
+    /// The same trace on one thread (the per-core figure).
+    hits_per_s_one_thread: f64,
+    /// wasm (one thread, in Node) throughput over native one-thread.
+    wasm_ratio: Option<f64>,
+    /// Every analysis of the trace (spot, best focus, f-number, wavefront,
+    /// encircled energy, flux map) per million rays launched, seconds.
+    analysis_s_per_mray: f64,
+    /// Compile + trace + every analysis + the JSON report, seconds.
+    end_to_end_s: f64,
+    /// One dragging frame of the page (see `bench_scenes::page_frame`), ms.
+    frame_ms_native: f64,
+    frame_ms_wasm: Option<f64>,
+}
+
+/// The vectorised NumPy script on scene 1, timed in the same run.
+#[derive(Serialize)]
+struct NumpyRow {
+    engine: String,
+    rays: u64,
+    seconds: f64,
+    /// `end_to_end_s` of the native paraboloid scene.
+    catoptric_seconds: f64,
+    /// NumPy time over ours.
+    speedup: f64,
 }
 
 #[derive(Serialize)]
 struct Report {
     machine: Machine,
-    threads: u32,
+    threads: usize,
+    /// Compiled kernel copy in use (avx512, avx2, portable).
+    kernel: &'static str,
     runs: usize,
     scenes: Vec<Row>,
     /// Where the wasm numbers came from, or why they are missing.
     wasm_engine: Option<String>,
     wasm_note: Option<String>,
+    numpy: Option<NumpyRow>,
+    numpy_note: Option<String>,
 }
 
 fn machine() -> Machine {
@@ -86,24 +103,41 @@ fn machine() -> Machine {
     Machine { cpu, cores, os: std::env::consts::OS, arch: std::env::consts::ARCH }
 }
 
-fn time_scene(s: &BenchScene, rays: u64) -> Row {
+/// Best trace time of the runs on `threads` threads; the result stays in `res`.
+fn best_trace(scene: &Scene, rays: u64, threads: usize, res: &mut TraceResult) -> f64 {
+    let opts = TraceOptions { rays: Some(rays as usize), threads: Some(threads), ..Default::default() };
+    (0..RUNS)
+        .map(|_| {
+            let t0 = Instant::now();
+            trace_into(scene, opts, res, &mut |_, _| {});
+            t0.elapsed().as_secs_f64()
+        })
+        .fold(f64::INFINITY, f64::min)
+}
+
+fn time_scene(s: &BenchScene, rays: u64, threads: usize) -> Row {
     let scene = Scene::compile(&s.layout);
-    let mut best = f64::INFINITY;
-    let mut best_analysis = f64::INFINITY;
-    let (mut launched, mut hits) = (0, 0);
     // One result reused across runs, as the page does on every re-trace:
     // the figures are the tracer's, not the allocator's.
     let mut res = TraceResult::default();
+    let one = best_trace(&scene, rays, 1, &mut res);
+    let best = if threads == 1 { one } else { best_trace(&scene, rays, threads, &mut res) };
+    let (launched, hits) = (res.rays_launched, res.surface_hits);
+    let mut best_analysis = f64::INFINITY;
     for _ in 0..RUNS {
-        let t0 = Instant::now();
-        trace_into(&scene, TraceOptions { rays: Some(rays as usize), ..Default::default() }, &mut res, &mut |_, _| {});
-        best = best.min(t0.elapsed().as_secs_f64());
-        launched = res.rays_launched;
-        hits = res.surface_hits;
         let t1 = Instant::now();
-        let a = analyse_all(&scene, &res);
+        std::hint::black_box(analyse_all(&scene, &res));
         best_analysis = best_analysis.min(t1.elapsed().as_secs_f64());
-        std::hint::black_box(&a);
+    }
+    let mut end_to_end = f64::INFINITY;
+    for _ in 0..RUNS {
+        let t = Instant::now();
+        let sc = Scene::compile(&s.layout);
+        let opts = TraceOptions { rays: Some(rays as usize), threads: Some(threads), ..Default::default() };
+        let r = catoptric::trace(&sc, opts);
+        let report = serde_json::to_string(&analyse_all(&sc, &r).report).expect("reports always serialize");
+        std::hint::black_box(report);
+        end_to_end = end_to_end.min(t.elapsed().as_secs_f64());
     }
     let mut frame = f64::INFINITY;
     for _ in 0..RUNS {
@@ -120,9 +154,13 @@ fn time_scene(s: &BenchScene, rays: u64) -> Row {
         seconds: best,
         rays_per_s: launched as f64 / secs,
         hits_per_s: hits as f64 / secs,
-        wasm: None,
-        analysis_s_per_million_rays: best_analysis / (launched.max(1) as f64 / 1e6),
-        frame_ms: frame,
+        hits_per_s_per_thread: hits as f64 / secs / threads as f64,
+        hits_per_s_one_thread: hits as f64 / one.max(1e-9),
+        wasm_ratio: None,
+        analysis_s_per_mray: best_analysis / (launched.max(1) as f64 / 1e6),
+        end_to_end_s: end_to_end,
+        frame_ms_native: frame,
+        frame_ms_wasm: None,
     }
 }
 
@@ -179,6 +217,28 @@ fn run_wasm(rays: u64) -> Result<WasmOut, String> {
     serde_json::from_slice(&out.stdout).map_err(|e| format!("wasm bench printed unreadable output: {e}"))
 }
 
+#[derive(serde::Deserialize)]
+struct NumpyOut {
+    engine: String,
+    seconds: f64,
+}
+
+/// Runs `python3 pkg-config/bench-numpy.py`; Err carries why it was skipped.
+fn run_numpy(rays: u64) -> Result<NumpyOut, String> {
+    let script = find("pkg-config/bench-numpy.py").ok_or("pkg-config/bench-numpy.py not found")?;
+    let out = Command::new("python3")
+        .arg(&script)
+        .args(["--rays", &rays.to_string(), "--runs", &RUNS.to_string()])
+        .stdin(Stdio::null())
+        .output()
+        .map_err(|e| format!("python3 not available: {e}"))?;
+    if !out.status.success() {
+        let err = String::from_utf8_lossy(&out.stderr);
+        return Err(format!("numpy script failed (is numpy installed?): {}", err.lines().last().unwrap_or("").trim()));
+    }
+    serde_json::from_slice(&out.stdout).map_err(|e| format!("numpy script printed unreadable output: {e}"))
+}
+
 fn si(v: f64) -> String {
     match v {
         v if v >= 1e9 => format!("{:.2} G", v / 1e9),
@@ -191,43 +251,35 @@ fn si(v: f64) -> String {
 fn table(r: &Report) -> String {
     let mut s = String::new();
     let m = &r.machine;
-    let _ = writeln!(s, "machine: {} ({} logical cores, {} {})", m.cpu, m.cores, m.os, m.arch);
-    let _ = writeln!(s, "single thread, best of {} runs; trace time only (scene compiled beforehand)", r.runs);
+    let _ = writeln!(s, "machine: {} ({} logical cores, {} {}), kernel {}", m.cpu, m.cores, m.os, m.arch, r.kernel);
+    let _ = writeln!(s, "{} thread(s), best of {} runs; trace time only (scene compiled beforehand)", r.threads, r.runs);
     let _ = writeln!(
         s,
         "frame ms = native/wasm time of one dragging frame of the page: compile, 20k rays per source, \
-         every analysis, 64-ray fan, 2000-ray caustic at 700x450 (budget 16.7 ms at 60 Hz)"
+         every analysis, 64-ray fan, 2000-ray caustic at 700x450 (budget 16.7 ms at 60 Hz)\n"
     );
     let _ = writeln!(
         s,
-        "native runs reuse one result's buffers, as the page does; wasm memory, once grown, is reused too\n"
-    );
-    let _ = writeln!(
-        s,
-        "{:<36} {:>9} {:>10} {:>9} {:>12} {:>12} {:>9} {:>12} {:>8} {:>12} {:>10}",
-        "scene", "rays", "hits", "native s", "rays/s", "hits/s", "wasm s", "wasm rays/s", "wasm/nat", "analysis s/Mray", "frame ms"
+        "{:<36} {:>9} {:>10} {:>9} {:>12} {:>12} {:>13} {:>8} {:>10} {:>10} {:>11}",
+        "scene", "rays", "hits", "trace s", "hits/s", "hits/s/thr", "1-thr hits/s", "wasm/1", "anal s/M", "end-to-end", "frame ms"
     );
     for row in &r.scenes {
-        let (ws, wr, ratio) = match &row.wasm {
-            Some(w) => (format!("{:.3}", w.seconds), format!("{}/s", si(w.rays_per_s)), format!("{:.2}", w.ratio_to_native)),
-            None => ("-".into(), "-".into(), "-".into()),
-        };
         let _ = writeln!(
             s,
-            "{:<36} {:>9} {:>10} {:>9.3} {:>12} {:>12} {:>9} {:>12} {:>8} {:>12.3} {:>10}",
+            "{:<36} {:>9} {:>10} {:>9.4} {:>12} {:>12} {:>13} {:>8} {:>10.4} {:>10.4} {:>11}",
             row.name,
             row.rays,
             row.surface_hits,
             row.seconds,
-            format!("{}/s", si(row.rays_per_s)),
             format!("{}/s", si(row.hits_per_s)),
-            ws,
-            wr,
-            ratio,
-            row.analysis_s_per_million_rays,
-            match &row.wasm {
-                Some(w) => format!("{:.1}/{:.1}", row.frame_ms, w.frame_ms),
-                None => format!("{:.1}/-", row.frame_ms),
+            format!("{}/s", si(row.hits_per_s_per_thread)),
+            format!("{}/s", si(row.hits_per_s_one_thread)),
+            row.wasm_ratio.map_or("-".into(), |x| format!("{x:.2}")),
+            row.analysis_s_per_mray,
+            row.end_to_end_s,
+            match row.frame_ms_wasm {
+                Some(w) => format!("{:.1}/{:.1}", row.frame_ms_native, w),
+                None => format!("{:.1}/-", row.frame_ms_native),
             }
         );
     }
@@ -240,38 +292,78 @@ fn table(r: &Report) -> String {
         }
         _ => {}
     }
+    match (&r.numpy, &r.numpy_note) {
+        (Some(n), _) => {
+            let _ = writeln!(
+                s,
+                "numpy ({}): {} rays of scene 1 in {:.4} s; catoptric end to end {:.4} s: {:.1}x faster",
+                n.engine, n.rays, n.seconds, n.catoptric_seconds, n.speedup
+            );
+        }
+        (None, Some(n)) => {
+            let _ = writeln!(s, "numpy: skipped ({n})");
+        }
+        _ => {}
+    }
     s
 }
 
-pub fn run(rays: u64, json: bool) -> Result<String, Failure> {
+/// Most threads `--threads` accepts.
+pub const MAX_THREADS: usize = 256;
+
+pub fn run(rays: u64, threads: Option<usize>, json: bool) -> Result<String, Failure> {
     if rays == 0 || rays > MAX_RAYS_PER_SOURCE {
         return Err(Failure::input(format!("--rays: must be between 1 and {MAX_RAYS_PER_SOURCE} (got {rays})")));
     }
-    let mut rows: Vec<Row> = scenes().iter().map(|s| time_scene(s, rays)).collect();
+    let threads = check_threads(threads)?.unwrap_or_else(|| thread_count(&TraceOptions::default()));
+    let mut rows: Vec<Row> = scenes().iter().map(|s| time_scene(s, rays, threads)).collect();
     let (mut wasm_engine, mut wasm_note) = (None, None);
     match run_wasm(rays) {
         Ok(w) => {
             for row in &mut rows {
                 if let Some(ws) = w.scenes.iter().find(|x| x.key == row.key) {
                     // Same scene and ray count: the native launch count holds.
-                    let secs = ws.seconds.max(1e-9);
-                    let rays_per_s = row.rays as f64 / secs;
-                    row.wasm = Some(WasmRow {
-                        seconds: ws.seconds,
-                        rays_per_s,
-                        ratio_to_native: rays_per_s / row.rays_per_s,
-                        frame_ms: ws.frame_ms,
-                    });
+                    let wasm_hits_per_s = row.surface_hits as f64 / ws.seconds.max(1e-9);
+                    row.wasm_ratio = Some(wasm_hits_per_s / row.hits_per_s_one_thread);
+                    row.frame_ms_wasm = Some(ws.frame_ms);
                 }
             }
             wasm_engine = Some(w.engine);
         }
         Err(why) => wasm_note = Some(why),
     }
-    let report = Report { machine: machine(), threads: 1, runs: RUNS, scenes: rows, wasm_engine, wasm_note };
+    let (mut numpy, mut numpy_note) = (None, None);
+    match run_numpy(rays) {
+        Ok(n) => {
+            let ours = rows[0].end_to_end_s;
+            numpy = Some(NumpyRow { engine: n.engine, rays, seconds: n.seconds, catoptric_seconds: ours, speedup: n.seconds / ours.max(1e-9) });
+        }
+        Err(why) => numpy_note = Some(why),
+    }
+    let report = Report {
+        machine: machine(),
+        threads,
+        kernel: Kernel::detect().name(),
+        runs: RUNS,
+        scenes: rows,
+        wasm_engine,
+        wasm_note,
+        numpy,
+        numpy_note,
+    };
     Ok(if json {
         serde_json::to_string_pretty(&report).expect("reports always serialize")
     } else {
         table(&report)
     })
+}
+
+/// `--threads`: 1 … [`MAX_THREADS`].
+pub fn check_threads(threads: Option<usize>) -> Result<Option<usize>, Failure> {
+    match threads {
+        Some(n) if n == 0 || n > MAX_THREADS => {
+            Err(Failure::input(format!("--threads: must be between 1 and {MAX_THREADS} (got {n})")))
+        }
+        t => Ok(t),
+    }
 }

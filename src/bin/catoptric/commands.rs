@@ -27,7 +27,8 @@ fn to_json<T: serde::Serialize>(v: &T) -> String {
     serde_json::to_string_pretty(v).expect("reports always serialize")
 }
 
-pub fn trace(path: &str, rays: Option<u64>, json: bool) -> Result<String, Failure> {
+pub fn trace(path: &str, rays: Option<u64>, threads: Option<usize>, json: bool) -> Result<String, Failure> {
+    let threads = crate::bench::check_threads(threads)?;
     let layout = read_layout(path)?;
     if let Some(n) = rays {
         if n == 0 || n > MAX_RAYS_PER_SOURCE {
@@ -35,7 +36,7 @@ pub fn trace(path: &str, rays: Option<u64>, json: bool) -> Result<String, Failur
         }
     }
     let scene = Scene::compile(&layout);
-    let res = catoptric::trace(&scene, TraceOptions { rays: rays.map(|n| n as usize), ..Default::default() });
+    let res = catoptric::trace(&scene, TraceOptions { rays: rays.map(|n| n as usize), threads, ..Default::default() });
     let report = trace_report(&scene, &res);
     Ok(if json { to_json(&report) } else { table(&layout, &report) })
 }

@@ -26,6 +26,10 @@ enum Cmd {
         /// Rays per source, instead of each source's own count.
         #[arg(long, allow_negative_numbers = true)]
         rays: Option<u64>,
+        /// Threads to trace on (default: every core); the result is the
+        /// same whatever the count.
+        #[arg(long)]
+        threads: Option<usize>,
         /// Machine-readable output.
         #[arg(long)]
         json: bool,
@@ -58,6 +62,9 @@ enum Cmd {
         /// Rays for the paraboloid scene.
         #[arg(long, default_value_t = 1_000_000)]
         rays: u64,
+        /// Threads (default: every core); `--threads 1` gives the per-core figure.
+        #[arg(long)]
+        threads: Option<usize>,
         #[arg(long)]
         json: bool,
     },
@@ -83,14 +90,14 @@ fn main() -> ExitCode {
         Err(e) => return fail(Failure::input(usage::line(&e, &Cli::command()))),
     };
     let out = match cli.cmd {
-        Cmd::Trace { layout, rays, json } => commands::trace(&layout, rays, json),
+        Cmd::Trace { layout, rays, threads, json } => commands::trace(&layout, rays, threads, json),
         Cmd::Link { layout, json } => commands::link(&layout, json),
         Cmd::Unlink { fragment, json } => commands::unlink(&fragment, json),
         Cmd::Design { what } => design_cmd::design(what),
         Cmd::Compare(a) => design_cmd::compare(a),
         Cmd::Zones(a) => design_cmd::zones(a),
         Cmd::Serve(a) => serve::run(a),
-        Cmd::Bench { rays, json } => bench::run(rays, json),
+        Cmd::Bench { rays, threads, json } => bench::run(rays, threads, json),
     };
     match out {
         Ok(text) => {
