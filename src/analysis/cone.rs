@@ -51,29 +51,56 @@ pub fn cone_half_angle(h: &ScreenHits, source: Option<u32>) -> Option<f64> {
 pub(crate) fn cone_half_angle_of(sel: &Subset) -> Option<f64> {
     let m = sel.mean_dir()?;
     let (du, dv, dw) = (sel.col(&sel.h.du), sel.col(&sel.h.dv), sel.col(&sel.h.dw));
-    let (mut best, mut at, mut back) = (-1.0f64, 0usize, f64::NEG_INFINITY);
+    let mut c = ConeSums::new(m);
     for k in 0..sel.n {
-        let (cx, cy, cz) = (dv[k] * m.z - dw[k] * m.y, dw[k] * m.x - du[k] * m.z, du[k] * m.y - dv[k] * m.x);
+        c.add(k, du[k], dv[k], dw[k]);
+    }
+    Some(c.angle(du, dv, dw))
+}
+
+/// The pass behind [`cone_half_angle`].
+#[derive(Debug, Clone, Copy)]
+pub(crate) struct ConeSums {
+    m: Vec3,
+    best: f64,
+    at: usize,
+    back: f64,
+}
+
+impl ConeSums {
+    pub fn new(m: Vec3) -> Self {
+        ConeSums { m, best: -1.0, at: 0, back: f64::NEG_INFINITY }
+    }
+
+    #[inline(always)]
+    pub fn add(&mut self, k: usize, du: f64, dv: f64, dw: f64) {
+        let m = self.m;
+        let (cx, cy, cz) = (dv * m.z - dw * m.y, dw * m.x - du * m.z, du * m.y - dv * m.x);
         let s2 = cx * cx + cy * cy + cz * cz;
-        let c = du[k] * m.x + dv[k] * m.y + dw[k] * m.z;
-        if c > 0.0 && s2 > best {
-            (best, at) = (s2, k);
+        let c = du * m.x + dv * m.y + dw * m.z;
+        if c > 0.0 && s2 > self.best {
+            (self.best, self.at) = (s2, k);
         }
         if c <= 0.0 {
             // Past 90°: the largest angle is the most negative cosine's.
-            back = back.max(-c);
+            self.back = self.back.max(-c);
         }
     }
-    let angle = |k: usize| {
+
+    /// The largest angle, radians (columns as given to `add`).
+    pub fn angle(&self, du: &[f64], dv: &[f64], dw: &[f64]) -> f64 {
+        if self.back > f64::NEG_INFINITY {
+            // Some ray arrives from 90° or more: the widest is the one
+            // whose cosine is most negative.
+            return std::f64::consts::FRAC_PI_2 + self.back.clamp(0.0, 1.0).asin();
+        }
+        if self.best < 0.0 {
+            return 0.0;
+        }
+        let k = self.at;
         let d = Vec3::new(du[k], dv[k], dw[k]);
-        d.cross(&m).norm().atan2(d.dot(&m))
-    };
-    if back > f64::NEG_INFINITY {
-        // Some ray arrives from 90° or more: the widest is the one whose
-        // cosine is most negative (acos is fine there).
-        return Some(std::f64::consts::FRAC_PI_2 + back.clamp(0.0, 1.0).asin());
+        d.cross(&self.m).norm().atan2(d.dot(&self.m))
     }
-    Some(if best < 0.0 { 0.0 } else { angle(at) })
 }
 
 /// Working f-number N = 1 / (2 sin θmax); `None` with fewer than 3 hits
@@ -86,8 +113,12 @@ pub(crate) fn f_number_of(sel: &Subset) -> Option<f64> {
     if sel.n < 3 {
         return None;
     }
-    let t = cone_half_angle_of(sel)?.min(std::f64::consts::FRAC_PI_2);
-    let s = t.sin();
+    f_number_from_angle(cone_half_angle_of(sel)?)
+}
+
+/// N = 1 / (2 sin θ), θ capped at 90°; `None` for parallel rays.
+pub(crate) fn f_number_from_angle(t: f64) -> Option<f64> {
+    let s = t.min(std::f64::consts::FRAC_PI_2).sin();
     (s > 0.0).then(|| 0.5 / s)
 }
 

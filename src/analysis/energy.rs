@@ -185,34 +185,40 @@ pub(crate) fn encircled_energy_of(sel: &Subset) -> Option<EncircledEnergy> {
     let c = sel.centroid();
     let (u, v) = (sel.col(&sel.h.u), sel.col(&sel.h.v));
     let radius_mm: Vec<f64> = u.iter().zip(v).map(|(x, y)| ((x - c[0]) * (x - c[0]) + (y - c[1]) * (y - c[1])).sqrt()).collect();
-    let weight = sel.weights().into_owned();
     let rmax = radius_mm.iter().copied().fold(0.0, f64::max);
-    let mut e = EncircledEnergy {
-        centre_mm: c,
-        radius_mm,
-        weight,
-        total: 0.0,
-        rmax,
-        scale: if rmax > 0.0 { BINS as f64 / rmax } else { 0.0 },
-        before: vec![0.0; BINS],
-        lo: vec![f64::INFINITY; BINS],
-        hi: vec![f64::NEG_INFINITY; BINS],
-    };
-    let mut wsum = vec![0.0; BINS];
-    for (&r, &w) in e.radius_mm.iter().zip(&e.weight) {
-        let b = e.bin(r);
-        wsum[b] += w;
-        e.lo[b] = e.lo[b].min(r);
-        e.hi[b] = e.hi[b].max(r);
+    Some(EncircledEnergy::from_radii(c, radius_mm, sel.weights().into_owned(), rmax))
+}
+
+impl EncircledEnergy {
+    /// From the hits' radii about `centre` (largest `rmax`) and weights.
+    pub(crate) fn from_radii(centre: [f64; 2], radius_mm: Vec<f64>, weight: Vec<f64>, rmax: f64) -> EncircledEnergy {
+        let mut e = EncircledEnergy {
+            centre_mm: centre,
+            radius_mm,
+            weight,
+            total: 0.0,
+            rmax,
+            scale: if rmax > 0.0 { BINS as f64 / rmax } else { 0.0 },
+            before: vec![0.0; BINS],
+            lo: vec![f64::INFINITY; BINS],
+            hi: vec![f64::NEG_INFINITY; BINS],
+        };
+        let mut wsum = vec![0.0; BINS];
+        for (&r, &w) in e.radius_mm.iter().zip(&e.weight) {
+            let b = e.bin(r);
+            wsum[b] += w;
+            e.lo[b] = e.lo[b].min(r);
+            e.hi[b] = e.hi[b].max(r);
+        }
+        let mut acc = 0.0;
+        for (b, w) in wsum.iter().enumerate() {
+            e.before[b] = acc;
+            acc += w;
+        }
+        // The total in bin order, so cumulative fractions end at exactly 1.
+        e.total = acc;
+        e
     }
-    let mut acc = 0.0;
-    for (b, w) in wsum.iter().enumerate() {
-        e.before[b] = acc;
-        acc += w;
-    }
-    // The total in bin order, so cumulative fractions end at exactly 1.
-    e.total = acc;
-    Some(e)
 }
 
 #[cfg(test)]

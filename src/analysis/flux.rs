@@ -67,20 +67,31 @@ pub fn flux_map(scene: &Scene, res: &TraceResult, screen: usize, nx: usize, ny: 
         return None;
     }
     let (pu, pv) = (2.0 * half / nx as f64, 2.0 * half / ny as f64);
-    let mut w_m2 = vec![0.0; nx * ny];
-    let (ku, kv) = (nx as f64 / (2.0 * half), ny as f64 / (2.0 * half));
-    for i in 0..h.len() {
-        // Truncation is the floor here (negatives and NaN clamp to 0).
-        let ix = (((h.u[i] + half) * ku).max(0.0) as usize).min(nx - 1);
-        let iy = (((half - h.v[i]) * kv).max(0.0) as usize).min(ny - 1);
-        w_m2[iy * nx + ix] += h.weight[i];
-    }
+    let mut w_m2 = bin_hits(h, half, nx, ny);
     let k = 1.0 / (pu * pv * 1e-6);
     w_m2.iter_mut().for_each(|w| *w *= k);
     Some(FluxMap { nx, ny, half_mm: half, w_m2 })
 }
 
 /// Incident irradiance used for `peak_suns`: the largest among the beams.
+/// Power per pixel of the hits on a grid of nx × ny pixels over ±`half`.
+fn bin_hits(h: &crate::trace::ScreenHits, half: f64, nx: usize, ny: usize) -> Vec<f64> {
+    best_simd!(bin_hits_body(h: &crate::trace::ScreenHits, half: f64, nx: usize, ny: usize) -> Vec<f64>)
+}
+
+#[inline(always)]
+fn bin_hits_body(h: &crate::trace::ScreenHits, half: f64, nx: usize, ny: usize) -> Vec<f64> {
+    let mut w_m2 = vec![0.0; nx * ny];
+    let (ku, kv) = (nx as f64 / (2.0 * half), ny as f64 / (2.0 * half));
+    for ((&u, &v), &w) in h.u.iter().zip(&h.v).zip(&h.weight) {
+        // Truncation is the floor here (negatives and NaN clamp to 0).
+        let ix = (((u + half) * ku).max(0.0) as usize).min(nx - 1);
+        let iy = (((half - v) * kv).max(0.0) as usize).min(ny - 1);
+        w_m2[iy * nx + ix] += w;
+    }
+    w_m2
+}
+
 pub fn beam_irradiance(scene: &Scene) -> Option<f64> {
     scene
         .sources

@@ -89,26 +89,62 @@ pub(crate) fn focus_fit_of(sel: &Subset) -> Option<FocusFit> {
     let w = sel.weights();
     let (u, v) = (sel.col(&h.u), sel.col(&h.v));
     let (du, dv, dw) = (sel.col(&h.du), sel.col(&h.dv), sel.col(&h.dw));
-    let (mut su, mut sv, mut sa, mut sb) = (0.0, 0.0, 0.0, 0.0);
+    let mut acc = FocusSums::new(u[0], v[0], du[0] / dw[0], dv[0] / dw[0]);
     for k in 0..sel.n {
-        let inv = 1.0 / dw[k];
-        su += w[k] * u[k];
-        sv += w[k] * v[k];
-        sa += w[k] * du[k] * inv;
-        sb += w[k] * dv[k] * inv;
+        acc.add(w[k], u[k], v[k], du[k], dv[k], dw[k]);
     }
-    let wt = sel.w;
-    let (cu, cv, ca, cb) = (su / wt, sv / wt, sa / wt, sb / wt);
-    let (mut a, mut b, mut c) = (0.0, 0.0, 0.0);
-    for k in 0..sel.n {
-        let inv = 1.0 / dw[k];
-        let (x, y) = (u[k] - cu, v[k] - cv);
-        let (p, q) = (du[k] * inv - ca, dv[k] * inv - cb);
-        a += w[k] * (x * x + y * y);
-        b += w[k] * (x * p + y * q);
-        c += w[k] * (p * p + q * q);
+    Some(acc.fit(sel.n, sel.w))
+}
+
+/// The one pass behind [`FocusFit`]: weighted sums of the positions and
+/// slopes and their squares, each shifted by the first hit's value so the
+/// sums hold the spread, not the offset (then centred exactly by the
+/// mean's offset from the first hit).
+#[derive(Debug, Clone, Copy)]
+pub(crate) struct FocusSums {
+    first: [f64; 4],
+    s: [f64; 4],
+    xx: f64,
+    xp: f64,
+    pp: f64,
+    su: f64,
+    sv: f64,
+}
+
+impl FocusSums {
+    pub fn new(u0: f64, v0: f64, p0: f64, q0: f64) -> Self {
+        FocusSums { first: [u0, v0, p0, q0], s: [0.0; 4], xx: 0.0, xp: 0.0, pp: 0.0, su: 0.0, sv: 0.0 }
     }
-    Some(FocusFit { hits: sel.n, centroid: [cu, cv], mean_slope: [ca, cb], a: a / wt, b: b / wt, c: c / wt })
+
+    #[inline(always)]
+    pub fn add(&mut self, w: f64, u: f64, v: f64, du: f64, dv: f64, dw: f64) {
+        let inv = 1.0 / dw;
+        let [u0, v0, p0, q0] = self.first;
+        let (x, y, p, q) = (u - u0, v - v0, du * inv - p0, dv * inv - q0);
+        self.s[0] += w * x;
+        self.s[1] += w * y;
+        self.s[2] += w * p;
+        self.s[3] += w * q;
+        self.xx += w * (x * x + y * y);
+        self.xp += w * (x * p + y * q);
+        self.pp += w * (p * p + q * q);
+        self.su += w * u;
+        self.sv += w * v;
+    }
+
+    /// The fit of `n` hits of total weight `wt`.
+    pub fn fit(&self, n: usize, wt: f64) -> FocusFit {
+        let m = self.s.map(|v| v / wt);
+        let [_, _, p0, q0] = self.first;
+        FocusFit {
+            hits: n,
+            centroid: [self.su / wt, self.sv / wt],
+            mean_slope: [p0 + m[2], q0 + m[3]],
+            a: (self.xx / wt - (m[0] * m[0] + m[1] * m[1])).max(0.0),
+            b: self.xp / wt - (m[0] * m[2] + m[1] * m[3]),
+            c: (self.pp / wt - (m[2] * m[2] + m[3] * m[3])).max(0.0),
+        }
+    }
 }
 
 /// RMS spot radius versus screen shift.

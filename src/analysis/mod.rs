@@ -8,6 +8,7 @@ mod cone;
 mod energy;
 mod flux;
 mod focus;
+mod fused;
 mod longitudinal;
 mod report;
 mod select;

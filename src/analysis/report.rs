@@ -6,13 +6,10 @@
 //! (5 for the wavefront), rays arriving parallel (no focus, no f-number),
 //! or an extended solar source (no single wavefront).
 
-use super::cone::{airy_radius, f_number_of};
-use super::energy::encircled_energy_of;
+use super::cone::airy_radius;
 use super::flux::{flux_map, flux_stats_of, FluxMap, FluxStats, DEFAULT_FLUX_GRID};
-use super::focus::{default_focus_range, focus_fit_of, through_focus_of, ThroughFocus};
+use super::focus::{default_focus_range, through_focus_of, ThroughFocus};
 use super::select::Subset;
-use super::spot::spot_stats_of;
-use super::wavefront::wavefront_of;
 use super::join;
 use crate::layout::Source;
 use crate::scene::Scene;
@@ -94,34 +91,15 @@ pub struct Analyses {
 /// Points in each plotted curve.
 pub const CURVE_POINTS: usize = 101;
 
-fn analyse_source(scene: &Scene, hits: &ScreenHits, si: usize) -> Option<(SourceReport, SourceCurves)> {
+fn analyse_source(scene: &Scene, hits: &ScreenHits, si: usize, curves: bool) -> Option<(SourceReport, SourceCurves)> {
     let sel = Subset::new(hits, Some(si as u32));
     if sel.n == 0 {
         return None;
     }
     let lambda = scene.wavelength_mm;
     let extended = matches!(&scene.sources[si], Source::Beam(b) if b.sun_half_angle_mrad > 0.0);
-    // Shared first-pass figures, then the independent analyses two at a time.
-    let _ = (sel.centroid(), sel.mean_dir());
-    let ((st, ee), (fit, n, wf)) = join(
-        || {
-            let st = spot_stats_of(&sel);
-            let ee = if st.hits >= 3 { encircled_energy_of(&sel) } else { None };
-            (st, ee)
-        },
-        || {
-            let fit = focus_fit_of(&sel);
-            let (n, wf) = join(
-                || f_number_of(&sel),
-                || {
-                    let c = sel.centroid();
-                    let reference = fit.as_ref().and_then(|f| f.best_point()).unwrap_or([c[0], c[1], 0.0]);
-                    if extended { None } else { wavefront_of(&sel, reference, lambda) }
-                },
-            );
-            (fit, n, wf)
-        },
-    );
+    let figures = super::fused::figures(&sel, lambda, !extended);
+    let (st, fit, n, wf, ee) = (figures.spot, figures.fit, figures.f_number, figures.wavefront, figures.energy);
     let best = fit.as_ref().and_then(|f| f.best_shift());
     let um = |v: Option<f64>| v.map(|x| x * 1e3);
     let report = SourceReport {
@@ -146,7 +124,7 @@ fn analyse_source(scene: &Scene, hits: &ScreenHits, si: usize) -> Option<(Source
         let (a, b) = default_focus_range(&f);
         through_focus_of(&f, a, b, CURVE_POINTS)
     });
-    let (encircled_radius_um, encircled_fraction) = ee.map(|e| e.curve(CURVE_POINTS)).unwrap_or_default();
+    let (encircled_radius_um, encircled_fraction) = ee.filter(|_| curves).map(|e| e.curve(CURVE_POINTS)).unwrap_or_default();
     Some((report, SourceCurves { source: si, through_focus, encircled_radius_um, encircled_fraction }))
 }
 
@@ -154,13 +132,18 @@ fn analyse_source(scene: &Scene, hits: &ScreenHits, si: usize) -> Option<(Source
 /// flux maps. O(hits × sources) apart from one sort per (screen, source)
 /// for the encircled energy; no allocation per hit beyond result arrays.
 pub fn analyse_all(scene: &Scene, res: &TraceResult) -> Analyses {
+    analyse(scene, res, true)
+}
+
+/// The analyses, with or without the plotted encircled-energy curves.
+fn analyse(scene: &Scene, res: &TraceResult, with_curves: bool) -> Analyses {
     let mut screens = Vec::with_capacity(res.screens.len());
     let mut flux_maps = Vec::with_capacity(res.screens.len());
     let mut curves = Vec::with_capacity(res.screens.len());
     let per_screen = |k: usize| {
         let hits = &res.screens[k];
         let ((by_source, c), map) = join(
-            || -> (Vec<_>, Vec<_>) { (0..scene.sources.len()).filter_map(|si| analyse_source(scene, hits, si)).unzip() },
+            || -> (Vec<_>, Vec<_>) { (0..scene.sources.len()).filter_map(|si| analyse_source(scene, hits, si, with_curves)).unzip() },
             || flux_map(scene, res, k, DEFAULT_FLUX_GRID, DEFAULT_FLUX_GRID).unwrap_or_default(),
         );
         let flux = flux_stats_of(scene, res, k, &map);
@@ -184,5 +167,5 @@ pub fn analyse_all(scene: &Scene, res: &TraceResult) -> Analyses {
 
 /// Builds the report of a finished trace.
 pub fn trace_report(scene: &Scene, res: &TraceResult) -> TraceReport {
-    analyse_all(scene, res).report
+    analyse(scene, res, false).report
 }

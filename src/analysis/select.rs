@@ -84,6 +84,12 @@ impl<'a> Subset<'a> {
         *self.mean_dir.get_or_init(|| super::cone::compute_mean_dir(self))
     }
 
+    /// Records the first-pass figures computed elsewhere (the fused pass).
+    pub fn set_first_pass(&self, centroid: [f64; 2], mean_dir: Option<crate::geometry::Vec3>) {
+        let _ = self.centroid.set(centroid);
+        let _ = self.mean_dir.set(mean_dir);
+    }
+
     fn compute_centroid(&self) -> [f64; 2] {
         let w = self.weights();
         let (u, v) = (self.col(&self.h.u), self.col(&self.h.v));

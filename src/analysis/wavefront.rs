@@ -78,7 +78,7 @@ pub fn strehl_from_rms(rms_waves: f64) -> f64 {
 }
 
 /// The least-squares fit shared by the statistics and the map.
-struct Fit<'s, 'a> {
+pub(crate) struct Fit<'s, 'a> {
     sel: &'s Subset<'a>,
     p: Vec3,
     m: Vec3,
@@ -90,7 +90,7 @@ struct Fit<'s, 'a> {
 }
 
 /// The picked hits' columns as plain slices.
-struct Cols<'s> {
+pub(crate) struct Cols<'s> {
     u: &'s [f64],
     v: &'s [f64],
     du: &'s [f64],
@@ -100,7 +100,7 @@ struct Cols<'s> {
 }
 
 impl Fit<'_, '_> {
-    fn cols(&self) -> Cols<'_> {
+    pub(crate) fn cols(&self) -> Cols<'_> {
         let (s, h) = (&self.sel, &*self.sel.h);
         Cols { u: s.col(&h.u), v: s.col(&h.v), du: s.col(&h.du), dv: s.col(&h.dv), dw: s.col(&h.dw), opl: s.col(&h.opl) }
     }
@@ -117,7 +117,7 @@ impl Fit<'_, '_> {
 
     /// Residual wavefront of picked hit `k`, mm.
     #[inline(always)]
-    fn residual(&self, c: &Cols, k: usize) -> f64 {
+    pub(crate) fn residual(&self, c: &Cols, k: usize) -> f64 {
         let s = self.sample(c, k);
         (s[3] - self.mean[3])
             - self.coef[0] * (s[0] - self.mean[0])
@@ -126,64 +126,134 @@ impl Fit<'_, '_> {
     }
 }
 
-fn fit<'s, 'a>(sel: &'s Subset<'a>, reference: [f64; 3]) -> Option<Fit<'s, 'a>> {
-    if sel.n < 5 {
-        return None;
+/// Sums of the fit's one pass over the hits (see [`Fit::add`]).
+#[derive(Debug, Clone, Copy, Default)]
+pub(crate) struct FitSums {
+    s: [f64; 4],
+    nn: [f64; 6],
+    rr: [f64; 3],
+}
+
+/// Residual statistics of the second pass.
+#[derive(Debug, Clone, Copy)]
+pub(crate) struct ResidualSums {
+    sum: f64,
+    s2: f64,
+    lo: f64,
+    hi: f64,
+}
+
+impl Default for ResidualSums {
+    fn default() -> Self {
+        ResidualSums { sum: 0.0, s2: 0.0, lo: f64::INFINITY, hi: f64::NEG_INFINITY }
     }
-    let m = sel.mean_dir()?;
-    let helper = if m.x.abs() < 0.9 { Vec3::x() } else { Vec3::y() };
-    let e1 = (helper - m * m.dot(&helper)).normalize();
-    let e2 = m.cross(&e1);
-    let mut f = Fit { sel, p: Vec3::from(reference), m, e1, e2, w0: 0.0, mean: [0.0; 4], coef: [0.0; 3] };
-    let cols = f.cols();
-    let w0 = f.sample(&cols, 0)[3];
-    // One pass of sums shifted by the first sample (which keeps them free
-    // of cancellation: the spread, not the size, of each quantity is
-    // summed), then centred by the mean's offset from it.
-    let x0 = {
-        let mut x = f.sample(&cols, 0);
-        x[3] -= w0;
-        x
-    };
-    let wts = f.sel.weights();
-    let (mut s, mut nn, mut rr) = ([0.0; 4], [0.0; 6], [0.0; 3]);
-    for (k, &w) in wts.iter().enumerate() {
-        let x = f.sample(&cols, k);
-        let d = [x[0] - x0[0], x[1] - x0[1], x[2] - x0[2], (x[3] - w0) - x0[3]];
-        for a in 0..4 {
-            s[a] += w * d[a];
+}
+
+impl ResidualSums {
+    #[inline(always)]
+    pub fn add(&mut self, r: f64, w: f64) {
+        self.sum += w * r;
+        self.s2 += w * r * r;
+        self.lo = self.lo.min(r);
+        self.hi = self.hi.max(r);
+    }
+}
+
+impl<'s, 'a> Fit<'s, 'a> {
+    /// The pupil frame and path offsets of a fit about `reference`; `None`
+    /// with fewer than 5 hits or when the rays cancel.
+    pub(crate) fn start(sel: &'s Subset<'a>, reference: [f64; 3]) -> Option<Fit<'s, 'a>> {
+        if sel.n < 5 {
+            return None;
         }
-        nn[0] += w * d[0] * d[0];
-        nn[1] += w * d[0] * d[1];
-        nn[2] += w * d[0] * d[2];
-        nn[3] += w * d[1] * d[1];
-        nn[4] += w * d[1] * d[2];
-        nn[5] += w * d[2] * d[2];
+        let m = sel.mean_dir()?;
+        let helper = if m.x.abs() < 0.9 { Vec3::x() } else { Vec3::y() };
+        let e1 = (helper - m * m.dot(&helper)).normalize();
+        let e2 = m.cross(&e1);
+        let mut f = Fit { sel, p: Vec3::from(reference), m, e1, e2, w0: 0.0, mean: [0.0; 4], coef: [0.0; 3] };
+        // W is taken relative to the first ray's; the sums are shifted by
+        // the first sample (which keeps them free of cancellation: the
+        // spread, not the size, of each quantity is summed) and centred by
+        // the mean's offset from it once the pass is over.
+        f.w0 = f.sample(&f.cols(), 0)[3];
+        f.mean = f.sample(&f.cols(), 0);
+        Some(f)
+    }
+
+    /// Adds picked hit `k` (weight `w`) to the first pass.
+    #[inline(always)]
+    pub(crate) fn add(&self, c: &Cols, k: usize, w: f64, acc: &mut FitSums) {
+        let x = self.sample(c, k);
+        let x0 = &self.mean;
+        let d = [x[0] - x0[0], x[1] - x0[1], x[2] - x0[2], x[3] - x0[3]];
+        for (s, d) in acc.s.iter_mut().zip(d) {
+            *s += w * d;
+        }
+        acc.nn[0] += w * d[0] * d[0];
+        acc.nn[1] += w * d[0] * d[1];
+        acc.nn[2] += w * d[0] * d[2];
+        acc.nn[3] += w * d[1] * d[1];
+        acc.nn[4] += w * d[1] * d[2];
+        acc.nn[5] += w * d[2] * d[2];
         for a in 0..3 {
-            rr[a] += w * d[a] * d[3];
+            acc.rr[a] += w * d[a] * d[3];
         }
     }
-    f.w0 = w0;
-    let wt = f.sel.w;
-    let delta = s.map(|v| v / wt);
-    f.mean = [x0[0] + delta[0], x0[1] + delta[1], x0[2] + delta[2], x0[3] + delta[3]];
-    // Centred normal equations.
-    const AT: [[usize; 3]; 3] = [[0, 1, 2], [1, 3, 4], [2, 4, 5]];
-    let n = Matrix3::from_fn(|a, b| nn[AT[a][b]] - wt * delta[a] * delta[b]);
-    let r = Vector3::from_fn(|a, _| rr[a] - wt * delta[a] * delta[3]);
-    // Scale the columns to unit size so the cut-off is relative.
-    let scale = Vector3::from_fn(|k, _| {
-        let d = n[(k, k)].max(0.0).sqrt();
-        if d > 0.0 { 1.0 / d } else { 0.0 }
-    });
-    let ns = Matrix3::from_fn(|i, j| n[(i, j)] * scale[i] * scale[j]);
-    let rs = r.component_mul(&scale);
-    let svd = ns.svd(true, true);
-    let smax = svd.singular_values.max();
-    let sol = if smax > 0.0 { svd.solve(&rs, smax * FIT_RCOND).ok()? } else { Vector3::zeros() };
-    let c = sol.component_mul(&scale);
-    f.coef = [c[0], c[1], c[2]];
-    f.coef.iter().all(|v| v.is_finite()).then_some(f)
+
+    /// Solves the centred normal equations of the first pass; `None` when
+    /// the fit fails (non-finite coefficients).
+    pub(crate) fn solve(&mut self, acc: &FitSums) -> Option<()> {
+        let wt = self.sel.w;
+        let x0 = self.mean;
+        let delta = acc.s.map(|v| v / wt);
+        self.mean = [x0[0] + delta[0], x0[1] + delta[1], x0[2] + delta[2], x0[3] + delta[3]];
+        const AT: [[usize; 3]; 3] = [[0, 1, 2], [1, 3, 4], [2, 4, 5]];
+        let n = Matrix3::from_fn(|a, b| acc.nn[AT[a][b]] - wt * delta[a] * delta[b]);
+        let r = Vector3::from_fn(|a, _| acc.rr[a] - wt * delta[a] * delta[3]);
+        // Scale the columns to unit size so the cut-off is relative.
+        let scale = Vector3::from_fn(|k, _| {
+            let d = n[(k, k)].max(0.0).sqrt();
+            if d > 0.0 { 1.0 / d } else { 0.0 }
+        });
+        let ns = Matrix3::from_fn(|i, j| n[(i, j)] * scale[i] * scale[j]);
+        let rs = r.component_mul(&scale);
+        let svd = ns.svd(true, true);
+        let smax = svd.singular_values.max();
+        let sol = if smax > 0.0 { svd.solve(&rs, smax * FIT_RCOND).ok()? } else { Vector3::zeros() };
+        let c = sol.component_mul(&scale);
+        self.coef = [c[0], c[1], c[2]];
+        self.coef.iter().all(|v| v.is_finite()).then_some(())
+    }
+
+    /// The figures from the second pass's sums.
+    pub(crate) fn stats(&self, r: &ResidualSums, wavelength_mm: f64) -> Option<WavefrontStats> {
+        let wt = self.sel.w;
+        let mean = r.sum / wt;
+        let rms = ((r.s2 / wt) - mean * mean).max(0.0).sqrt() / wavelength_mm;
+        let pv = (r.hi - r.lo) / wavelength_mm;
+        // The removed tilt and defocus move the reference point by −coef
+        // along e1, e2, m (W changes by Δ·d when P moves by Δ).
+        let best = self.p - (self.e1 * self.coef[0] + self.e2 * self.coef[1] + self.m * self.coef[2]);
+        (rms.is_finite() && pv.is_finite()).then(|| WavefrontStats {
+            hits: self.sel.n,
+            pv_waves: pv,
+            rms_waves: rms,
+            strehl: strehl_from_rms(rms),
+            best_point: [best.x, best.y, best.z],
+        })
+    }
+}
+
+fn fit<'s, 'a>(sel: &'s Subset<'a>, reference: [f64; 3]) -> Option<Fit<'s, 'a>> {
+    let mut f = Fit::start(sel, reference)?;
+    let cols = f.cols();
+    let wts = f.sel.weights();
+    let mut acc = FitSums::default();
+    for (k, &w) in wts.iter().enumerate() {
+        f.add(&cols, k, w, &mut acc);
+    }
+    f.solve(&acc)?;
+    Some(f)
 }
 
 /// Wavefront error of the hits of `source` about the best reference sphere
@@ -198,31 +268,13 @@ pub fn wavefront(h: &ScreenHits, source: Option<u32>, reference: [f64; 3], wavel
 
 pub(crate) fn wavefront_of(sel: &Subset, reference: [f64; 3], wavelength_mm: f64) -> Option<WavefrontStats> {
     let f = fit(sel, reference)?;
-    let (mut s2, mut lo, mut hi) = (0.0, f64::INFINITY, f64::NEG_INFINITY);
-    let mut sum = 0.0;
     let wts = f.sel.weights();
     let cols = f.cols();
+    let mut r = ResidualSums::default();
     for (k, &w) in wts.iter().enumerate() {
-        let r = f.residual(&cols, k);
-        sum += w * r;
-        s2 += w * r * r;
-        lo = lo.min(r);
-        hi = hi.max(r);
+        r.add(f.residual(&cols, k), w);
     }
-    let wt = f.sel.w;
-    let mean = sum / wt;
-    let rms = ((s2 / wt) - mean * mean).max(0.0).sqrt() / wavelength_mm;
-    let pv = (hi - lo) / wavelength_mm;
-    // The removed tilt and defocus move the reference point by −coef along
-    // e1, e2, m (W changes by Δ·d when P moves by Δ).
-    let best = f.p - (f.e1 * f.coef[0] + f.e2 * f.coef[1] + f.m * f.coef[2]);
-    (rms.is_finite() && pv.is_finite()).then(|| WavefrontStats {
-        hits: f.sel.n,
-        pv_waves: pv,
-        rms_waves: rms,
-        strehl: strehl_from_rms(rms),
-        best_point: [best.x, best.y, best.z],
-    })
+    f.stats(&r, wavelength_mm)
 }
 
 /// Residual wavefront per hit, for a pupil map.

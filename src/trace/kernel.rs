@@ -129,9 +129,10 @@ pub enum Kernel {
 }
 
 impl Kernel {
-    /// The best kernel this machine runs.
+    /// The best kernel this machine runs (looked up once).
     pub fn detect() -> Kernel {
-        *Kernel::available().last().unwrap_or(&Kernel::Portable)
+        static BEST: std::sync::OnceLock<Kernel> = std::sync::OnceLock::new();
+        *BEST.get_or_init(|| *Kernel::available().last().unwrap_or(&Kernel::Portable))
     }
 
     /// Every kernel this machine runs, portable first.

@@ -211,6 +211,8 @@ const KEPT_BUFFERS: usize = 128;
 fn take_buffers(screens: usize) -> Vec<ScreenHits> {
     let mut out = BUFFERS.lock().ok().and_then(|mut p| p.pop()).unwrap_or_default();
     out.resize_with(screens, ScreenHits::default);
+    // Room for one hit per ray of the chunk: no growing by copying.
+    out.iter_mut().for_each(|h| h.reserve(CHUNK));
     out
 }
 

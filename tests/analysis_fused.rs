@@ -1,0 +1,60 @@
+//! The report's figures come from three fused passes over the hits; each
+//! must equal the figure of the separate analysis function (spot, best
+//! focus, f-number, wavefront, encircled energy) on every preset. Common
+//! practice for a fused fast path: the plain functions are its oracle.
+
+mod layout_support;
+use catoptric::analysis::{
+    airy_radius, encircled_energy, f_number, focus_fit, spot_stats, trace_report, wavefront,
+};
+use catoptric::layout::Source;
+use catoptric::trace::{trace, TraceOptions};
+use layout_support::*;
+
+fn close(a: Option<f64>, b: Option<f64>, what: &str) {
+    match (a, b) {
+        (Some(x), Some(y)) => assert!((x - y).abs() <= 1e-9 * (1.0 + y.abs()), "{what}: {x} vs {y}"),
+        (x, y) => assert_eq!(x.is_some(), y.is_some(), "{what}: {x:?} vs {y:?}"),
+    }
+}
+
+#[test]
+fn report_equals_the_separate_analyses_on_every_preset() {
+    let dir = concat!(env!("CARGO_MANIFEST_DIR"), "/www/presets");
+    let mut checked = 0;
+    for e in std::fs::read_dir(dir).unwrap() {
+        let p = e.unwrap().path();
+        if p.extension().is_none_or(|x| x != "json") || p.ends_with("index.json") {
+            continue;
+        }
+        let sc = scene(&std::fs::read_to_string(&p).unwrap());
+        let res = trace(&sc, TraceOptions { rays: Some(4000), ..Default::default() });
+        let report = trace_report(&sc, &res);
+        for (k, screen) in report.screens.iter().enumerate() {
+            let h = &res.screens[k];
+            for r in &screen.by_source {
+                let si = sc.sources.iter().position(|s| s.id() == r.source).unwrap();
+                let src = Some(si as u32);
+                let what = format!("{} / {} / {}", p.display(), screen.id, r.source);
+                let st = spot_stats(h, src);
+                close(Some(r.rms_radius_um), Some(st.rms_radius * 1e3), &format!("{what}: rms"));
+                close(Some(r.max_radius_um), Some(st.max_radius * 1e3), &format!("{what}: max"));
+                close(Some(r.centroid_mm[0]), Some(st.centroid[0]), &format!("{what}: centroid"));
+                let fit = focus_fit(h, src);
+                close(r.best_focus_shift_mm, fit.and_then(|f| f.best_shift()), &format!("{what}: best focus"));
+                let n = f_number(h, src);
+                close(r.f_number, n, &format!("{what}: f-number"));
+                close(r.airy_radius_um, n.map(|n| airy_radius(sc.wavelength_mm, n) * 1e3), &format!("{what}: airy"));
+                let extended = matches!(&sc.sources[si], Source::Beam(b) if b.sun_half_angle_mrad > 0.0);
+                let reference = fit.and_then(|f| f.best_point()).unwrap_or([st.centroid[0], st.centroid[1], 0.0]);
+                let wf = if extended { None } else { wavefront(h, src, reference, sc.wavelength_mm) };
+                close(r.wavefront_rms_waves, wf.map(|w| w.rms_waves), &format!("{what}: wavefront rms"));
+                close(r.wavefront_pv_waves, wf.map(|w| w.pv_waves), &format!("{what}: wavefront pv"));
+                let ee = encircled_energy(h, src).filter(|_| st.hits >= 3);
+                close(r.ee80_radius_um, ee.as_ref().and_then(|e| e.radius_for(0.8)).map(|x| x * 1e3), &format!("{what}: ee80"));
+                checked += 1;
+            }
+        }
+    }
+    assert!(checked >= 8, "only {checked} (screen, source) pairs checked");
+}
