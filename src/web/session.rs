@@ -15,13 +15,24 @@
 //! length 0). Read a view at once, or `.slice()` it to keep a copy.
 //!
 //! Small values (counts, ids, times, the report) are returned by value.
+//!
+//! # Pooled traces
+//!
+//! The page's long traces run on a pool of workers, one session each:
+//! every worker traces a numbered slice with [`Session::trace_slice`] and
+//! hands its hits back as typed-array **copies** ([`Session::slice_hits`],
+//! transferable); the coordinating session takes them in slice order
+//! ([`Session::add_slice`], [`Session::add_slice_hits`], or
+//! [`Session::keep_slice`] for its own) and [`Session::merge_slices`]
+//! merges them into exactly the whole trace, then analyses it as
+//! [`Session::retrace`] does.
 
 use crate::analysis::analyse_all;
 use crate::geometry::{Aperture, Sag, Vec3};
 use crate::layout::{decode_link, encode_link, parse_layout, Layout, Source, MAX_RAYS_PER_SOURCE};
 use crate::scene::{Part, Scene};
-use crate::trace::{trace_fan, trace_with, Fan, TraceOptions, TraceResult};
-use js_sys::{Float32Array, Float64Array, Function, Uint16Array, Uint32Array, Uint8Array};
+use crate::trace::{merge_parts, trace_fan, trace_part, trace_with, Fan, ScreenHits, TraceOptions, TraceResult};
+use js_sys::{Array, Float32Array, Float64Array, Function, Uint16Array, Uint32Array, Uint8Array};
 use wasm_bindgen::prelude::*;
 use wasm_bindgen::JsCast;
 
@@ -31,6 +42,12 @@ pub const DEFAULT_FAN_RAYS: usize = 64;
 pub const MAX_FAN_RAYS: usize = 4096;
 /// Points per mirror outline (each side of a central hole gets its share).
 const OUTLINE_POINTS: usize = 97;
+/// Most slices a pooled trace may be cut into.
+pub const MAX_SLICES: u32 = 64;
+/// Columns of a slice's hits on one screen, in [`Session::slice_hits`] order.
+const HIT_COLUMNS: usize = 8;
+/// Largest count a JS number holds exactly (2⁵³).
+const MAX_EXACT_COUNT: f64 = 9_007_199_254_740_992.0;
 
 /// Milliseconds from the global `performance` clock (page or worker).
 fn now_ms() -> f64 {
@@ -42,6 +59,24 @@ fn now_ms() -> f64 {
 
 fn input_error(e: crate::InputError) -> JsError {
     JsError::new(&e.to_string())
+}
+
+/// Checks a page-given rays-per-source count.
+fn check_rays(rays: Option<u32>) -> Result<Option<usize>, JsError> {
+    match rays {
+        Some(n) if n == 0 || n as u64 > MAX_RAYS_PER_SOURCE => {
+            Err(JsError::new(&format!("rays per source: must be between 1 and {MAX_RAYS_PER_SOURCE} (got {n})")))
+        }
+        _ => Ok(rays.map(|n| n as usize)),
+    }
+}
+
+/// Calls the page's `progress(done, total)`; a failing callback must not
+/// stop the trace.
+fn report_progress(f: Option<&Function>, done: u64, total: u64) {
+    if let Some(f) = f {
+        let _ = f.call2(&JsValue::NULL, &JsValue::from_f64(done as f64), &JsValue::from_f64(total as f64));
+    }
 }
 
 /// An empty but valid layout: what a new session holds before anything is
@@ -81,6 +116,10 @@ pub struct Session {
     spot_weight: Vec<f64>,
     trace_ms: f64,
     fan_ms: f64,
+    /// The slice this session traced last for a pooled trace.
+    slice: TraceResult,
+    /// Slices gathered for [`Session::merge_slices`], in slice order.
+    staged: Vec<TraceResult>,
     /// Curves, flux maps and pixels of the analysis views (src/web/analysis.rs).
     pub(crate) views: super::analysis::ViewState,
 }
@@ -113,6 +152,8 @@ impl Session {
             spot_weight: Vec::new(),
             trace_ms: 0.0,
             fan_ms: 0.0,
+            slice: TraceResult::default(),
+            staged: Vec::new(),
             views: Default::default(),
         };
         s.install(s.layout.clone());
@@ -173,6 +214,176 @@ impl Session {
     /// counts) after each batch of rays; for the trace worker.
     pub fn retrace_with_progress(&mut self, rays_per_source: Option<u32>, progress: &Function) -> Result<(), JsError> {
         self.retrace_inner(rays_per_source, Some(progress))
+    }
+
+    /// Traces slice `k` of `parts` of the current layout (each source's
+    /// rays numbered and cut into `parts` equal runs), with
+    /// `rays_per_source` rays per source when given, calling
+    /// `progress(done, total)` (the slice's ray counts) after each batch.
+    /// The slice stays in the session for [`Session::slice_counts`],
+    /// [`Session::slice_hits`] or [`Session::keep_slice`]; the session's
+    /// own last trace is untouched.
+    pub fn trace_slice(&mut self, rays_per_source: Option<u32>, k: u32, parts: u32, progress: Option<Function>) -> Result<(), JsError> {
+        let rays = check_rays(rays_per_source)?;
+        if parts == 0 || parts > MAX_SLICES || k >= parts {
+            return Err(JsError::new(&format!("trace slice: need 0 <= k < parts <= {MAX_SLICES} (got k = {k}, parts = {parts})")));
+        }
+        let opts = TraceOptions { rays, ..Default::default() };
+        trace_part(&self.scene, opts, k as usize, parts as usize, &mut self.slice, &mut |done, total| {
+            report_progress(progress.as_ref(), done, total)
+        });
+        Ok(())
+    }
+
+    /// Counters of the last traced slice: [rays launched, escaped,
+    /// absorbed, surface hits] (a copy).
+    pub fn slice_counts(&self) -> Vec<f64> {
+        let r = &self.slice;
+        vec![r.rays_launched as f64, r.rays_escaped as f64, r.rays_absorbed as f64, r.surface_hits as f64]
+    }
+    /// Rays the last traced slice launched from each source (a copy).
+    pub fn slice_launched_by_source(&self) -> Vec<f64> {
+        self.slice.launched_by_source.iter().map(|&n| n as f64).collect()
+    }
+    /// Power of each source, W, as the last traced slice saw it (a copy).
+    pub fn slice_power_by_source(&self) -> Vec<f64> {
+        self.slice.power_by_source.clone()
+    }
+    /// Hits of the last traced slice on screen `screen` as fresh typed
+    /// arrays (copies, safe to keep and to transfer): [u, v, du, dv, dw,
+    /// opl, weight] as `Float64Array`s, then source as a `Uint32Array`.
+    pub fn slice_hits(&self, screen: usize) -> Result<Array, JsError> {
+        let Some(h) = self.slice.screens.get(screen) else {
+            return Err(JsError::new(&format!(
+                "slice hits: no screen {screen} in the last slice ({} screens)",
+                self.slice.screens.len()
+            )));
+        };
+        let out = Array::new();
+        for col in [&h.u, &h.v, &h.du, &h.dv, &h.dw, &h.opl, &h.weight] {
+            out.push(&Float64Array::from(&col[..]));
+        }
+        out.push(&Uint32Array::from(&h.source[..]));
+        Ok(out)
+    }
+
+    /// Starts gathering a pooled trace afresh (drops gathered slices).
+    pub fn clear_slices(&mut self) {
+        self.staged.clear();
+    }
+    /// Gathers the session's own last traced slice as the next slice.
+    pub fn keep_slice(&mut self) {
+        self.staged.push(std::mem::take(&mut self.slice));
+    }
+    /// Gathers the next slice (in slice order) from its counters as
+    /// [`Session::slice_counts`], [`Session::slice_launched_by_source`] and
+    /// [`Session::slice_power_by_source`] gave them; its hits follow with
+    /// [`Session::add_slice_hits`], screen by screen.
+    pub fn add_slice(&mut self, counts: &[f64], launched_by_source: &[f64], power_by_source: &[f64]) -> Result<(), JsError> {
+        let sources = self.scene.sources.len();
+        let count = |what: &str, x: f64| -> Result<u64, JsError> {
+            if (0.0..=MAX_EXACT_COUNT).contains(&x) && x.fract() == 0.0 {
+                Ok(x as u64)
+            } else {
+                Err(JsError::new(&format!("slice: {what} must be a whole number from 0 to 2^53 (got {x})")))
+            }
+        };
+        if self.staged.len() >= MAX_SLICES as usize {
+            return Err(JsError::new(&format!("slice: at most {MAX_SLICES} slices")));
+        }
+        if counts.len() != 4 {
+            return Err(JsError::new(&format!("slice: expected 4 counters, got {}", counts.len())));
+        }
+        if launched_by_source.len() != sources || power_by_source.len() != sources {
+            return Err(JsError::new(&format!(
+                "slice: expected {sources} sources, got {} launched counts and {} powers",
+                launched_by_source.len(),
+                power_by_source.len()
+            )));
+        }
+        let res = TraceResult {
+            rays_launched: count("rays launched", counts[0])?,
+            rays_escaped: count("rays escaped", counts[1])?,
+            rays_absorbed: count("rays absorbed", counts[2])?,
+            surface_hits: count("surface hits", counts[3])?,
+            launched_by_source: launched_by_source.iter().map(|&x| count("rays launched by a source", x)).collect::<Result<_, _>>()?,
+            power_by_source: power_by_source.to_vec(),
+            screens: Vec::new(),
+        };
+        self.staged.push(res);
+        Ok(())
+    }
+    /// Adds the hits on the next screen (in screen order) to the slice
+    /// last started with [`Session::add_slice`]: the arrays
+    /// [`Session::slice_hits`] gave, all of one length, sources in
+    /// ascending order as a trace records them.
+    pub fn add_slice_hits(&mut self, columns: Array) -> Result<(), JsError> {
+        let screens = self.scene.screen_ids.len();
+        let sources = self.scene.sources.len();
+        let Some(slice) = self.staged.last_mut() else {
+            return Err(JsError::new("slice hits: add_slice must come first"));
+        };
+        if slice.screens.len() >= screens {
+            return Err(JsError::new(&format!("slice hits: the slice already has all {screens} screens")));
+        }
+        if columns.length() as usize != HIT_COLUMNS {
+            return Err(JsError::new(&format!("slice hits: expected {HIT_COLUMNS} columns, got {}", columns.length())));
+        }
+        let f64_column = |i: u32| -> Result<Vec<f64>, JsError> {
+            columns
+                .get(i)
+                .dyn_into::<Float64Array>()
+                .map(|a| a.to_vec())
+                .map_err(|_| JsError::new(&format!("slice hits: column {i} must be a Float64Array")))
+        };
+        let source = columns
+            .get(7)
+            .dyn_into::<Uint32Array>()
+            .map(|a| a.to_vec())
+            .map_err(|_| JsError::new("slice hits: column 7 (source) must be a Uint32Array"))?;
+        let h = ScreenHits {
+            u: f64_column(0)?,
+            v: f64_column(1)?,
+            du: f64_column(2)?,
+            dv: f64_column(3)?,
+            dw: f64_column(4)?,
+            opl: f64_column(5)?,
+            weight: f64_column(6)?,
+            source,
+        };
+        let n = h.len();
+        if [&h.v, &h.du, &h.dv, &h.dw, &h.opl, &h.weight].iter().any(|c| c.len() != n) || h.source.len() != n {
+            return Err(JsError::new("slice hits: the columns differ in length"));
+        }
+        if h.source.iter().any(|&s| s as usize >= sources) || h.source.windows(2).any(|w| w[0] > w[1]) {
+            return Err(JsError::new(&format!("slice hits: sources must be ascending indices below {sources}")));
+        }
+        slice.screens.push(h);
+        Ok(())
+    }
+    /// Merges the `parts` gathered slices (in slice order) into the whole
+    /// trace and makes it the session's last trace, then analyses it and
+    /// traces the fan as [`Session::retrace`] does. `rays_per_source` is
+    /// what the slices were traced with; `trace_ms` the wall time to
+    /// report. The gathered slices are dropped, also on error.
+    pub fn merge_slices(&mut self, rays_per_source: Option<u32>, parts: u32, trace_ms: f64) -> Result<(), JsError> {
+        let staged = std::mem::take(&mut self.staged);
+        let rays = check_rays(rays_per_source)?;
+        if staged.len() != parts as usize || staged.is_empty() {
+            return Err(JsError::new(&format!("merge: expected {parts} slices, got {}", staged.len())));
+        }
+        let screens = self.scene.screen_ids.len();
+        let sources = self.scene.sources.len();
+        if let Some(k) = staged.iter().position(|p| p.screens.len() != screens || p.launched_by_source.len() != sources) {
+            return Err(JsError::new(&format!(
+                "merge: slice {k} has {} screens and {} sources, the layout {screens} and {sources}",
+                staged[k].screens.len(),
+                staged[k].launched_by_source.len()
+            )));
+        }
+        self.result = merge_parts(&staged);
+        drop(staged);
+        self.finish_trace(rays, trace_ms)
     }
 
     /// Re-traces only the fan (cheap: a few hundred rays).
@@ -368,26 +579,24 @@ impl Session {
         self.spot_source.clear();
         self.spot_weight.clear();
         self.views = Default::default();
+        self.slice = TraceResult::default();
+        self.staged.clear();
         self.build_outlines();
     }
 
     fn retrace_inner(&mut self, rays: Option<u32>, progress: Option<&Function>) -> Result<(), JsError> {
-        if let Some(n) = rays {
-            if n == 0 || n as u64 > MAX_RAYS_PER_SOURCE {
-                return Err(JsError::new(&format!("rays per source: must be between 1 and {MAX_RAYS_PER_SOURCE} (got {n})")));
-            }
-        }
-        let opts = TraceOptions { rays: rays.map(|n| n as usize), ..Default::default() };
+        let rays = check_rays(rays)?;
+        let opts = TraceOptions { rays, ..Default::default() };
         let t0 = now_ms();
-        self.result = match progress {
-            None => trace_with(&self.scene, opts, &mut |_, _| {}),
-            Some(f) => trace_with(&self.scene, opts, &mut |done, total| {
-                // A failing progress callback must not stop the trace.
-                let _ = f.call2(&JsValue::NULL, &JsValue::from_f64(done as f64), &JsValue::from_f64(total as f64));
-            }),
-        };
-        self.trace_ms = now_ms() - t0;
-        self.traced_rays = opts.rays;
+        self.result = trace_with(&self.scene, opts, &mut |done, total| report_progress(progress, done, total));
+        self.finish_trace(rays, now_ms() - t0)
+    }
+
+    /// What follows every trace once `result` holds it: times, analyses,
+    /// the report and the fan.
+    fn finish_trace(&mut self, rays: Option<usize>, trace_ms: f64) -> Result<(), JsError> {
+        self.trace_ms = trace_ms;
+        self.traced_rays = rays;
         let all = analyse_all(&self.scene, &self.result);
         self.report = serde_json::to_string(&all.report).map_err(|e| JsError::new(&format!("report: {e}")))?;
         self.views.analyses = Some(all);
