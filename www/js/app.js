@@ -7,13 +7,14 @@
 // edit leaves both untouched and the message names the field. Every
 // accepted change re-traces: first a quick trace (≤ LIVE_RAYS rays in all)
 // in the next animation frame, then, when the edit settles, the full ray
-// count — on the main thread up to WORKER_RAYS rays, in a worker above.
+// count — on the main thread up to WORKER_RAYS rays, on the worker pool
+// (pool.js) above.
 
 import init, { Session } from '../pkg/catoptric.js';
 import { Editor, niceStep, roundTo } from './editor.js';
 import { Props } from './props.js';
 import { Drawer } from './drawer.js';
-import { BackgroundTracer } from './background.js';
+import { TracePool } from './pool.js';
 import { applyTheme, initialTheme, readTheme } from './theme.js';
 import { fmtInt, fmtNum, statInfo, withUnit } from './format.js';
 import { exportCsv, exportSvg, download, slug } from './export.js';
@@ -86,7 +87,7 @@ class App {
     this.drawRaf = 0;
     this.spotScreen = 0;
     this.theme = readTheme();
-    this.background = new BackgroundTracer({
+    this.background = new TracePool({
       onProgress: (gen, done, total) => this.progress(gen, done, total),
       onDone: (gen, m) => this.workerDone(gen, m),
       onError: (gen, msg) => { this.hideProgress(); this.setTraceState('preview'); this.message(`The full trace failed: ${msg}`); },
@@ -460,7 +461,7 @@ class App {
     const res = {
       gen, kind: 'full', reportText: m.reportText, report: JSON.parse(m.reportText),
       launched: m.launched, escaped: m.escaped, absorbed: m.absorbed, ms: m.ms, spots, analysis: m.analysis,
-      spot: (i) => spots.get(i) ?? null, background: true,
+      spot: (i) => spots.get(i) ?? null, background: true, workers: m.workers,
     };
     this.setResult(res);
   }
@@ -471,7 +472,15 @@ class App {
     $('ro-rays').textContent = fmtInt(res.launched);
     $('ro-rays').title = `${fmtInt(res.launched)} rays launched`;
     $('ro-fate').textContent = `${fmtInt(res.escaped)} / ${fmtInt(res.absorbed)}`;
-    $('ro-time').textContent = `${fmtNum(res.ms, 3)} ms${res.background ? ' (background)' : ''}`;
+    const time = $('ro-time');
+    time.textContent = `${fmtNum(res.ms, 3)} ms${res.background ? ' (background)' : ''}`;
+    if (res.background) {
+      time.dataset.workers = String(res.workers);
+      time.title = `Wall time of the last trace, in the background on ${res.workers} worker${res.workers === 1 ? '' : 's'}`;
+    } else {
+      delete time.dataset.workers;
+      time.removeAttribute('title');
+    }
     this.updateScreens();
     this.updateFigures();
     updateCautions(this);
