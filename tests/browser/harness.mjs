@@ -8,6 +8,7 @@
 // else the newer of target/release/catoptric and target/debug/catoptric
 // (under $CARGO_TARGET_DIR when set).
 
+import assert from 'node:assert/strict';
 import { execFileSync, spawn } from 'node:child_process';
 import { existsSync, mkdtempSync, rmSync, statSync } from 'node:fs';
 import { tmpdir } from 'node:os';
@@ -147,6 +148,42 @@ export function native(args) {
  */
 export function close(a, b) {
   return Math.abs(a - b) <= 1e-6 * Math.max(Math.abs(a), Math.abs(b)) + 1e-9;
+}
+
+/** Every statistics cell: "screen|source|key" -> value. */
+export async function readStats(page) {
+  return page.evaluate(() => {
+    const out = {};
+    for (const c of document.querySelectorAll('[data-stat]')) {
+      out[`${c.dataset.screen}|${c.dataset.source}|${c.dataset.stat}`] = JSON.parse(c.dataset.value);
+    }
+    return out;
+  });
+}
+
+/** Asserts the page's cells match the native report (and that there are some). */
+export function assertMatchesNative(stats, report) {
+  let compared = 0;
+  const check = (key, want) => {
+    assert.ok(key in stats, `the page shows ${key}`);
+    const got = stats[key];
+    if (Array.isArray(want)) want.forEach((w, i) => assert.ok(close(got[i], w), `${key}[${i}]: page ${got[i]}, native ${w}`));
+    else if (Number.isInteger(want) && /\|(hits|rays_\w+)$/.test(key)) assert.equal(got, want, key);
+    else assert.ok(close(got, want), `${key}: page ${got}, native ${want}`);
+    compared++;
+  };
+  for (const k of ['rays_launched', 'rays_escaped', 'rays_absorbed']) check(`||${k}`, report[k]);
+  for (const sc of report.screens) {
+    check(`${sc.id}||hits`, sc.hits);
+    check(`${sc.id}||power_w`, sc.power_w);
+    for (const row of sc.by_source) {
+      for (const [k, v] of Object.entries(row)) {
+        if (k === 'source' || (typeof v !== 'number' && !Array.isArray(v))) continue;
+        check(`${sc.id}|${row.source}|${k}`, v);
+      }
+    }
+  }
+  assert.ok(compared >= 8, `compared ${compared} figures`);
 }
 
 /**

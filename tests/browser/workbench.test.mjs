@@ -14,7 +14,7 @@ import assert from 'node:assert/strict';
 import { readFileSync, writeFileSync } from 'node:fs';
 import { join } from 'node:path';
 import { deflateRawSync } from 'node:zlib';
-import { WWW, close, native, setUp, settled, tearDown, watchPage } from './harness.mjs';
+import { WWW, assertMatchesNative, close, native, readStats, setUp, settled, tearDown, watchPage } from './harness.mjs';
 
 let env;
 let server;
@@ -40,47 +40,11 @@ async function openPage(hash = '', { context } = {}) {
 }
 
 
-/** Every statistics cell: "screen|source|key" -> value. */
-async function readStats(page) {
-  return page.evaluate(() => {
-    const out = {};
-    for (const c of document.querySelectorAll('[data-stat]')) {
-      out[`${c.dataset.screen}|${c.dataset.source}|${c.dataset.stat}`] = JSON.parse(c.dataset.value);
-    }
-    return out;
-  });
-}
-
 async function layoutOf(page) {
   return page.evaluate(() => JSON.parse(window.catoptric.session.layout_json()));
 }
 
 
-
-/** Asserts the page's cells match the native report (and that there are some). */
-function assertMatchesNative(stats, report) {
-  let compared = 0;
-  const check = (key, want) => {
-    assert.ok(key in stats, `the page shows ${key}`);
-    const got = stats[key];
-    if (Array.isArray(want)) want.forEach((w, i) => assert.ok(close(got[i], w), `${key}[${i}]: page ${got[i]}, native ${w}`));
-    else if (Number.isInteger(want) && /\|(hits|rays_\w+)$/.test(key)) assert.equal(got, want, key);
-    else assert.ok(close(got, want), `${key}: page ${got}, native ${want}`);
-    compared++;
-  };
-  for (const k of ['rays_launched', 'rays_escaped', 'rays_absorbed']) check(`||${k}`, report[k]);
-  for (const sc of report.screens) {
-    check(`${sc.id}||hits`, sc.hits);
-    check(`${sc.id}||power_w`, sc.power_w);
-    for (const row of sc.by_source) {
-      for (const [k, v] of Object.entries(row)) {
-        if (k === 'source' || (typeof v !== 'number' && !Array.isArray(v))) continue;
-        check(`${sc.id}|${row.source}|${k}`, v);
-      }
-    }
-  }
-  assert.ok(compared >= 8, `compared ${compared} figures`);
-}
 
 /** Counts bluish canvas pixels (the first source's colour, light theme). */
 async function bluishPixels(page) {
@@ -394,7 +358,7 @@ describe('the workbench page', () => {
     }
   });
 
-  test('a long trace runs in the worker with progress and matches the native trace', async () => {
+  test('a long trace runs on the worker pool with progress and matches the native trace', async () => {
     const layout = JSON.parse(readFileSync(join(WWW, 'presets', 'sphere-f5.json'), 'utf8'));
     layout.name = 'Sphere, many rays';
     for (const s of layout.sources) s.rays = 300_000;
@@ -412,7 +376,13 @@ describe('the workbench page', () => {
       await page.waitForFunction(() => document.getElementById('layout-name').value === 'Sphere, many rays');
       await settled(page);
       assert.equal(await page.evaluate(() => window.progressSeen), true, 'the progress indicator showed');
-      assert.equal(await page.evaluate(() => window.catoptric.result.background), true, 'the full trace came from the worker');
+      assert.equal(await page.evaluate(() => window.catoptric.result.background), true, 'the full trace came from the worker pool');
+      // One worker per hardware thread, at most 8 (DESIGN §9.1).
+      const [workers, want] = await page.evaluate(() => [
+        document.getElementById('ro-time').dataset.workers,
+        Math.max(1, Math.min(8, navigator.hardwareConcurrency || 1)),
+      ]);
+      assert.equal(workers, String(want), 'the readout names the pool size');
       assertMatchesNative(await readStats(page), report);
       assert.deepEqual(seen.errors, []);
     } finally {
