@@ -61,10 +61,10 @@ pub(crate) fn cone_half_angle_of(sel: &Subset) -> Option<f64> {
 /// The pass behind [`cone_half_angle`].
 #[derive(Debug, Clone, Copy)]
 pub(crate) struct ConeSums {
-    m: Vec3,
-    best: f64,
-    at: usize,
-    back: f64,
+    pub m: Vec3,
+    pub best: f64,
+    pub at: usize,
+    pub back: f64,
 }
 
 impl ConeSums {

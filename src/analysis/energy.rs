@@ -29,8 +29,10 @@ pub struct EncircledEnergy {
     pub centre_mm: [f64; 2],
     /// Radius of each hit from the centre (in hit order), mm.
     pub radius_mm: Vec<f64>,
-    /// Weight of each hit.
+    /// Weight of each hit; empty when every hit weighs `uniform`.
     pub weight: Vec<f64>,
+    /// The one weight of every hit, when they are all equal.
+    pub uniform: Option<f64>,
     /// Total weight.
     total: f64,
     /// Largest radius, mm.
@@ -44,6 +46,24 @@ pub struct EncircledEnergy {
 }
 
 impl EncircledEnergy {
+    /// Each hit's weight, in hit order.
+    pub fn weights(&self) -> impl Iterator<Item = f64> + '_ {
+        let n = self.radius_mm.len();
+        let uniform = self.uniform.map(|w| std::iter::repeat_n(w, n));
+        let listed = self.uniform.is_none().then(|| self.weight.iter().copied());
+        uniform.into_iter().flatten().chain(listed.into_iter().flatten())
+    }
+
+    /// Calls `f(radius, weight)` for every hit, in hit order (one loop per
+    /// case, so the uniform case reads no weights).
+    #[inline(always)]
+    fn each(&self, mut f: impl FnMut(f64, f64)) {
+        match self.uniform {
+            Some(w) => self.radius_mm.iter().for_each(|&r| f(r, w)),
+            None => self.radius_mm.iter().zip(&self.weight).for_each(|(&r, &w)| f(r, w)),
+        }
+    }
+
     #[inline]
     fn bin(&self, r: f64) -> usize {
         ((r * self.scale) as usize).min(BINS - 1)
@@ -57,34 +77,62 @@ impl EncircledEnergy {
     /// Radius (mm) holding `frac` of the power, interpolated; `None`
     /// without hits or for `frac` outside (0, 1].
     pub fn radius_for(&self, frac: f64) -> Option<f64> {
-        if self.radius_mm.is_empty() || !(frac > 0.0 && frac <= 1.0) {
-            return None;
-        }
+        self.radii_for(&[frac])[0]
+    }
+
+    /// [`EncircledEnergy::radius_for`] of several fractions, with one pass
+    /// over the hits for all of them.
+    pub fn radii_for(&self, fracs: &[f64]) -> Vec<Option<f64>> {
         // First sorted position whose cumulative fraction reaches `frac`:
-        // find its bin, then walk that bin's hits in order.
-        let b = (0..BINS).rev().find(|&b| self.before[b] / self.total < frac && self.lo[b].is_finite());
-        let Some(b) = b else { return Some(0.0) };
-        let mut inside: Vec<(f64, f64)> = self
-            .radius_mm
-            .iter()
-            .zip(&self.weight)
-            .filter(|(r, _)| self.bin(**r) == b)
-            .map(|(r, w)| (*r, *w))
-            .collect();
-        inside.sort_unstable_by(|a, b| a.0.total_cmp(&b.0));
-        let (mut r0, mut acc) = (self.max_below(b), self.before[b]);
-        let mut f0 = acc / self.total;
-        let last_bin = (b + 1..BINS).all(|k| !self.lo[k].is_finite());
-        for (j, &(r1, w)) in inside.iter().enumerate() {
-            acc += w;
-            // The very last hit holds everything (whatever the rounding).
-            let f1 = if last_bin && j + 1 == inside.len() { 1.0 } else { acc / self.total };
-            if f1 >= frac {
-                return Some(if f1 > f0 && f1 != frac { r0 + (r1 - r0) * (frac - f0) / (f1 - f0) } else { r1 });
+        // find its bin, then walk that bin's hits in order. A hit is in bin
+        // b exactly when its radius lies within the bin's least and largest
+        // (binning keeps the order).
+        let target = |frac: f64| -> Option<Option<usize>> {
+            if self.radius_mm.is_empty() || !(frac > 0.0 && frac <= 1.0) {
+                return None;
             }
-            (r0, f0) = (r1, f1);
+            Some((0..BINS).rev().find(|&b| self.before[b] / self.total < frac && self.lo[b].is_finite()))
+        };
+        let bins: Vec<Option<Option<usize>>> = fracs.iter().map(|&f| target(f)).collect();
+        let mut inside: Vec<Vec<(f64, f64)>> = vec![Vec::new(); fracs.len()];
+        if bins.iter().any(|b| matches!(b, Some(Some(_)))) {
+            let spans: Vec<(f64, f64)> =
+                bins.iter().map(|b| b.flatten().map_or((f64::INFINITY, f64::NEG_INFINITY), |b| (self.lo[b], self.hi[b]))).collect();
+            // One cheap range test per wanted bin.
+            for (t, &(lo, hi)) in spans.iter().enumerate() {
+                if lo <= hi {
+                    let got = &mut inside[t];
+                    self.each(|r, w| {
+                        if r >= lo && r <= hi {
+                            got.push((r, w));
+                        }
+                    });
+                }
+            }
         }
-        Some(r0)
+        fracs
+            .iter()
+            .zip(bins)
+            .zip(inside)
+            .map(|((&frac, b), mut inside)| {
+                let b = b?;
+                let Some(b) = b else { return Some(0.0) };
+                inside.sort_unstable_by(|a, b| a.0.total_cmp(&b.0));
+                let (mut r0, mut acc) = (self.max_below(b), self.before[b]);
+                let mut f0 = acc / self.total;
+                let last_bin = (b + 1..BINS).all(|k| !self.lo[k].is_finite());
+                for (j, &(r1, w)) in inside.iter().enumerate() {
+                    acc += w;
+                    // The very last hit holds everything (whatever the rounding).
+                    let f1 = if last_bin && j + 1 == inside.len() { 1.0 } else { acc / self.total };
+                    if f1 >= frac {
+                        return Some(if f1 > f0 && f1 != frac { r0 + (r1 - r0) * (frac - f0) / (f1 - f0) } else { r1 });
+                    }
+                    (r0, f0) = (r1, f1);
+                }
+                Some(r0)
+            })
+            .collect()
     }
 
     /// Fraction of the power within radius `r` mm, interpolated.
@@ -98,14 +146,14 @@ impl EncircledEnergy {
         // Weight below r, the largest radius below it and the first at or
         // above it (with its weight).
         let (mut below, mut r0, mut r1, mut w1) = (0.0, 0.0f64, f64::INFINITY, 0.0);
-        for (&x, &w) in self.radius_mm.iter().zip(&self.weight) {
+        self.each(|x, w| {
             if x < r {
                 below += w;
                 r0 = r0.max(x);
             } else if x < r1 {
                 (r1, w1) = (x, w);
             }
-        }
+        });
         interpolate(r, r0, below / self.total, r1, (below + w1) / self.total)
     }
 
@@ -123,7 +171,7 @@ impl EncircledEnergy {
         let m = n - 1;
         let inv_step = 1.0 / step;
         let (mut wsum, mut lo, mut wlo, mut hi) = (vec![0.0; m + 1], vec![f64::INFINITY; m + 1], vec![0.0; m + 1], vec![f64::NEG_INFINITY; m + 1]);
-        for (&x, &w) in self.radius_mm.iter().zip(&self.weight) {
+        self.each(|x, w| {
             let mut j = ((x * inv_step) as usize).min(m);
             // Settle the bin exactly against the sample radii.
             while j > 0 && x < radii[j] {
@@ -137,7 +185,7 @@ impl EncircledEnergy {
                 (lo[j], wlo[j]) = (x, w);
             }
             hi[j] = hi[j].max(x);
-        }
+        });
         // Normalised by the bins' own sum, so the last point is exactly 1.
         let total: f64 = wsum.iter().sum();
         let mut f = vec![0.0; n];
@@ -186,16 +234,18 @@ pub(crate) fn encircled_energy_of(sel: &Subset) -> Option<EncircledEnergy> {
     let (u, v) = (sel.col(&sel.h.u), sel.col(&sel.h.v));
     let radius_mm: Vec<f64> = u.iter().zip(v).map(|(x, y)| ((x - c[0]) * (x - c[0]) + (y - c[1]) * (y - c[1])).sqrt()).collect();
     let rmax = radius_mm.iter().copied().fold(0.0, f64::max);
-    Some(EncircledEnergy::from_radii(c, radius_mm, sel.weights().into_owned(), rmax))
+    Some(EncircledEnergy::from_radii(c, radius_mm, &sel.weights(), rmax))
 }
 
 impl EncircledEnergy {
     /// From the hits' radii about `centre` (largest `rmax`) and weights.
-    pub(crate) fn from_radii(centre: [f64; 2], radius_mm: Vec<f64>, weight: Vec<f64>, rmax: f64) -> EncircledEnergy {
+    pub(crate) fn from_radii(centre: [f64; 2], radius_mm: Vec<f64>, weight: &[f64], rmax: f64) -> EncircledEnergy {
+        let uniform = weight.first().copied().filter(|w0| weight.iter().all(|w| w == w0));
         let mut e = EncircledEnergy {
             centre_mm: centre,
             radius_mm,
-            weight,
+            weight: if uniform.is_some() { Vec::new() } else { weight.to_vec() },
+            uniform,
             total: 0.0,
             rmax,
             scale: if rmax > 0.0 { BINS as f64 / rmax } else { 0.0 },
@@ -204,7 +254,7 @@ impl EncircledEnergy {
             hi: vec![f64::NEG_INFINITY; BINS],
         };
         let mut wsum = vec![0.0; BINS];
-        for (&r, &w) in e.radius_mm.iter().zip(&e.weight) {
+        for (&r, &w) in e.radius_mm.iter().zip(weight) {
             let b = e.bin(r);
             wsum[b] += w;
             e.lo[b] = e.lo[b].min(r);
@@ -227,7 +277,7 @@ mod tests {
 
     /// The definition by a full sort (the previous implementation).
     fn sorted(e: &EncircledEnergy) -> (Vec<f64>, Vec<f64>) {
-        let mut rw: Vec<(f64, f64)> = e.radius_mm.iter().copied().zip(e.weight.iter().copied()).collect();
+        let mut rw: Vec<(f64, f64)> = e.radius_mm.iter().copied().zip(e.weights()).collect();
         rw.sort_unstable_by(|a, b| a.0.total_cmp(&b.0));
         let mut acc = 0.0;
         let (r, mut f): (Vec<f64>, Vec<f64>) = rw

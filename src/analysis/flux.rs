@@ -81,15 +81,19 @@ fn bin_hits(h: &crate::trace::ScreenHits, half: f64, nx: usize, ny: usize) -> Ve
 
 #[inline(always)]
 fn bin_hits_body(h: &crate::trace::ScreenHits, half: f64, nx: usize, ny: usize) -> Vec<f64> {
-    let mut w_m2 = vec![0.0; nx * ny];
+    // Four interleaved maps (hit k into map k mod 4), added in order at the
+    // end: a focused spot puts every hit in one pixel, and one map would
+    // make each addition wait for the last.
+    let cells = nx * ny;
+    let mut maps = vec![0.0; 4 * cells];
     let (ku, kv) = (nx as f64 / (2.0 * half), ny as f64 / (2.0 * half));
-    for ((&u, &v), &w) in h.u.iter().zip(&h.v).zip(&h.weight) {
+    for (k, ((&u, &v), &w)) in h.u.iter().zip(&h.v).zip(&h.weight).enumerate() {
         // Truncation is the floor here (negatives and NaN clamp to 0).
         let ix = (((u + half) * ku).max(0.0) as usize).min(nx - 1);
         let iy = (((half - v) * kv).max(0.0) as usize).min(ny - 1);
-        w_m2[iy * nx + ix] += w;
+        maps[(k & 3) * cells + iy * nx + ix] += w;
     }
-    w_m2
+    (0..cells).map(|i| ((maps[i] + maps[cells + i]) + maps[2 * cells + i]) + maps[3 * cells + i]).collect()
 }
 
 pub fn beam_irradiance(scene: &Scene) -> Option<f64> {

@@ -102,13 +102,13 @@ pub(crate) fn focus_fit_of(sel: &Subset) -> Option<FocusFit> {
 /// mean's offset from the first hit).
 #[derive(Debug, Clone, Copy)]
 pub(crate) struct FocusSums {
-    first: [f64; 4],
-    s: [f64; 4],
-    xx: f64,
-    xp: f64,
-    pp: f64,
-    su: f64,
-    sv: f64,
+    pub first: [f64; 4],
+    pub s: [f64; 4],
+    pub xx: f64,
+    pub xp: f64,
+    pub pp: f64,
+    pub su: f64,
+    pub sv: f64,
 }
 
 impl FocusSums {

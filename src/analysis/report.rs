@@ -101,6 +101,7 @@ fn analyse_source(scene: &Scene, hits: &ScreenHits, si: usize, curves: bool) -> 
     let figures = super::fused::figures(&sel, lambda, !extended);
     let (st, fit, n, wf, ee) = (figures.spot, figures.fit, figures.f_number, figures.wavefront, figures.energy);
     let best = fit.as_ref().and_then(|f| f.best_shift());
+    let ee_radii = ee.as_ref().map_or(vec![None, None], |e| e.radii_for(&[0.5, 0.8]));
     let um = |v: Option<f64>| v.map(|x| x * 1e3);
     let report = SourceReport {
         source: scene.sources[si].id().to_string(),
@@ -117,8 +118,8 @@ fn analyse_source(scene: &Scene, hits: &ScreenHits, si: usize, curves: bool) -> 
         wavefront_rms_waves: wf.map(|w| w.rms_waves),
         strehl_estimate: wf.map(|w| w.strehl),
         diffraction_limited: wf.map(|w| w.diffraction_limited()),
-        ee50_radius_um: um(ee.as_ref().and_then(|e| e.radius_for(0.5))),
-        ee80_radius_um: um(ee.as_ref().and_then(|e| e.radius_for(0.8))),
+        ee50_radius_um: um(ee_radii[0]),
+        ee80_radius_um: um(ee_radii[1]),
     };
     let through_focus = fit.map(|f| {
         let (a, b) = default_focus_range(&f);

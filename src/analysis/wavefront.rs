@@ -108,17 +108,33 @@ impl Fit<'_, '_> {
     /// (a, b, c, W − w0) of picked hit `k` (0-based within the subset).
     #[inline(always)]
     fn sample(&self, c: &Cols, k: usize) -> [f64; 4] {
-        let (dx, dy, dz) = (c.du[k], c.dv[k], c.dw[k]);
-        let (qx, qy, qz) = (self.p.x - c.u[k], self.p.y - c.v[k], self.p.z);
-        let w = (c.opl[k] - self.w0) + (dx * qx + dy * qy + dz * qz);
+        self.sample_of(c.u[k], c.v[k], c.du[k], c.dv[k], c.dw[k], c.opl[k])
+    }
+
+    /// (a, b, c, W − w0) of a hit at (u, v) with direction (du, dv, dw)
+    /// and optical path `opl`.
+    #[inline(always)]
+    pub(crate) fn sample_of(&self, u: f64, v: f64, dx: f64, dy: f64, dz: f64, opl: f64) -> [f64; 4] {
+        let (qx, qy, qz) = (self.p.x - u, self.p.y - v, self.p.z);
+        let w = (opl - self.w0) + (dx * qx + dy * qy + dz * qz);
         let dot = |e: &Vec3| dx * e.x + dy * e.y + dz * e.z;
         [dot(&self.e1), dot(&self.e2), dot(&self.m), w]
+    }
+
+    /// The first sample: the shift of the first pass's sums.
+    pub(crate) fn shift(&self) -> [f64; 4] {
+        self.mean
     }
 
     /// Residual wavefront of picked hit `k`, mm.
     #[inline(always)]
     pub(crate) fn residual(&self, c: &Cols, k: usize) -> f64 {
-        let s = self.sample(c, k);
+        self.residual_of(self.sample(c, k))
+    }
+
+    /// Residual wavefront of a sample, mm.
+    #[inline(always)]
+    pub(crate) fn residual_of(&self, s: [f64; 4]) -> f64 {
         (s[3] - self.mean[3])
             - self.coef[0] * (s[0] - self.mean[0])
             - self.coef[1] * (s[1] - self.mean[1])
@@ -126,21 +142,22 @@ impl Fit<'_, '_> {
     }
 }
 
-/// Sums of the fit's one pass over the hits (see [`Fit::add`]).
+/// Sums of the fit's one pass over the hits (see [`Fit::add`]): weighted
+/// sums of the shifted samples d, of d_a·d_b (a ≤ b < 3) and of d_a·d_3.
 #[derive(Debug, Clone, Copy, Default)]
 pub(crate) struct FitSums {
-    s: [f64; 4],
-    nn: [f64; 6],
-    rr: [f64; 3],
+    pub s: [f64; 4],
+    pub nn: [f64; 6],
+    pub rr: [f64; 3],
 }
 
 /// Residual statistics of the second pass.
 #[derive(Debug, Clone, Copy)]
 pub(crate) struct ResidualSums {
-    sum: f64,
-    s2: f64,
-    lo: f64,
-    hi: f64,
+    pub sum: f64,
+    pub s2: f64,
+    pub lo: f64,
+    pub hi: f64,
 }
 
 impl Default for ResidualSums {
