@@ -35,6 +35,8 @@ pub(crate) struct Tally {
     pub escaped: u64,
     pub absorbed: u64,
     pub surface_hits: u64,
+    /// The range recorded more hits than its cap and stopped.
+    pub over_cap: bool,
 }
 
 /// Where a batch's hits on one screen start in the output, and their ray
@@ -220,10 +222,12 @@ pub(crate) fn trace_range(
     em: &Emitter,
     src: u32,
     range: std::ops::Range<usize>,
+    hit_cap: u64,
     batch: &mut Batch,
     out: &mut [ScreenHits],
 ) -> Tally {
     let mut tally = Tally::default();
+    let recorded_before: usize = out.iter().map(|h| h.len()).sum();
     batch.recorded.resize_with(out.len(), Recorded::default);
     batch.touched.resize(comp.recs.len(), false);
     let mut start = range.start;
@@ -249,6 +253,11 @@ pub(crate) fn trace_range(
         run_batch(scene, comp, kernel, batch, n, src, out, &mut tally);
         order_hits(batch, out);
         start = end;
+        let recorded = out.iter().map(|h| h.len()).sum::<usize>() - recorded_before;
+        if recorded as u64 > hit_cap {
+            tally.over_cap = true;
+            return tally;
+        }
     }
     tally
 }

@@ -1,5 +1,6 @@
 //! Sources, sampling and the non-sequential tracer.
 
+pub mod budget;
 mod compiled;
 mod fan;
 mod kernel;
@@ -11,6 +12,7 @@ mod tracer;
 pub use fan::{trace_fan, Fan};
 pub use sampling::{disk_points, halton, seed_of, DiskPoints};
 pub use source::{Emitter, Ray};
+pub use budget::{work_estimate, Limit, MAX_RECORDED_HITS, WORK_BUDGET};
 pub use kernel::{Kernel, LANES};
 pub use run::{merge_parts, slice_range, thread_count, trace_into, trace_part, CHUNK};
 pub use tracer::{trace_reference, ScreenHits, TraceOptions, TraceResult};

@@ -4,6 +4,7 @@
 //! into numbered slices (the page's worker pool traces one slice each) and
 //! the slices merged into exactly the whole trace.
 
+use super::budget::{chunk_hit_cap, Limit, MAX_RECORDED_HITS};
 use super::compiled::Compiled;
 use super::kernel::{trace_range, Batch, Kernel, Tally};
 use super::source::Emitter;
@@ -42,6 +43,7 @@ fn reset(res: &mut TraceResult, scene: &Scene, reserve: usize) {
     res.surface_hits = 0;
     res.launched_by_source.clear();
     res.power_by_source.clear();
+    res.limit = None;
     res.screens.resize_with(scene.screen_ids.len(), ScreenHits::default);
     for s in &mut res.screens {
         s.clear();
@@ -50,10 +52,20 @@ fn reset(res: &mut TraceResult, scene: &Scene, reserve: usize) {
     }
 }
 
-fn add_tally(res: &mut TraceResult, t: &Tally) {
+fn add_tally(res: &mut TraceResult, t: &Tally, max_hits: u64) {
     res.rays_escaped += t.escaped;
     res.rays_absorbed += t.absorbed;
     res.surface_hits += t.surface_hits;
+    if t.over_cap {
+        res.limit = Some(Limit::TooManyHits { cap: max_hits });
+    }
+}
+
+/// A trace that hit a limit keeps its counters but no hits.
+fn settle_limit(res: &mut TraceResult) {
+    if res.limit.is_some() {
+        res.screens.iter_mut().for_each(ScreenHits::clear);
+    }
 }
 
 /// Traces into `res`, reusing its buffers; `progress(done, total)` is
@@ -94,21 +106,31 @@ pub fn trace_part(
             (r.start..r.end).step_by(CHUNK).map(move |a| (si, a..(a + CHUNK).min(r.end)))
         })
         .collect();
+    // Each chunk's share of the hit cap, from the whole trace's rays (not
+    // the slice's), so a slice records what it would in the whole trace.
+    let all_rays: u64 = ems.iter().map(|e| e.len() as u64).sum();
+    let max_hits = opts.max_hits.unwrap_or(MAX_RECORDED_HITS);
+    let cap = |rays: usize| chunk_hit_cap(rays as u64, all_rays, max_hits);
     let mut done = 0u64;
     if threads <= 1 || chunks.len() <= 1 {
         let mut batch = Batch::new();
         for (si, r) in chunks {
-            let t = trace_range(scene, &comp, kernel, &ems[si], si as u32, r.clone(), &mut batch, &mut res.screens);
-            add_tally(res, &t);
+            let t = trace_range(scene, &comp, kernel, &ems[si], si as u32, r.clone(), cap(r.len()), &mut batch, &mut res.screens);
+            add_tally(res, &t, max_hits);
             done += r.len() as u64;
             progress(done, total);
+            if t.over_cap {
+                break;
+            }
         }
+        settle_limit(res);
         return;
     }
-    parallel(scene, &comp, kernel, &ems, &chunks, threads, res, &mut |n| {
+    parallel(scene, &comp, kernel, &ems, &chunks, threads, (&cap, max_hits), res, &mut |n| {
         done += n;
         progress(done, total);
     });
+    settle_limit(res);
 }
 
 #[cfg(not(target_arch = "wasm32"))]
@@ -120,6 +142,7 @@ fn parallel(
     ems: &[Emitter],
     chunks: &[(usize, std::ops::Range<usize>)],
     threads: usize,
+    (cap, max_hits): (&(dyn Fn(usize) -> u64 + Sync), u64),
     res: &mut TraceResult,
     progress: &mut dyn FnMut(u64),
 ) {
@@ -129,7 +152,7 @@ fn parallel(
         wave.par_iter()
             .map_init(Batch::new, |batch, (si, r)| {
                 let mut out = take_buffers(screens);
-                let t = trace_range(scene, comp, kernel, &ems[*si], *si as u32, r.clone(), batch, &mut out);
+                let t = trace_range(scene, comp, kernel, &ems[*si], *si as u32, r.clone(), cap(r.len()), batch, &mut out);
                 (out, t)
             })
             .collect()
@@ -146,10 +169,14 @@ fn parallel(
             None => work(group),
         };
         for (out, t) in wave {
-            add_tally(res, &t);
+            add_tally(res, &t, max_hits);
             outs.push(out);
         }
         progress(group.iter().map(|c| c.1.len() as u64).sum());
+        if res.limit.is_some() {
+            outs.into_iter().for_each(give_buffers);
+            return;
+        }
     }
     let concat = |res: &mut TraceResult| {
         for (k, dst) in res.screens.iter_mut().enumerate() {
@@ -236,14 +263,18 @@ fn parallel(
     ems: &[Emitter],
     chunks: &[(usize, std::ops::Range<usize>)],
     _threads: usize,
+    (cap, max_hits): (&(dyn Fn(usize) -> u64 + Sync), u64),
     res: &mut TraceResult,
     progress: &mut dyn FnMut(u64),
 ) {
     let mut batch = Batch::new();
     for (si, r) in chunks {
-        let t = trace_range(scene, comp, kernel, &ems[*si], *si as u32, r.clone(), &mut batch, &mut res.screens);
-        add_tally(res, &t);
+        let t = trace_range(scene, comp, kernel, &ems[*si], *si as u32, r.clone(), cap(r.len()), &mut batch, &mut res.screens);
+        add_tally(res, &t, max_hits);
         progress(r.len() as u64);
+        if t.over_cap {
+            break;
+        }
     }
 }
 
@@ -257,6 +288,7 @@ pub fn merge_parts(parts: &[TraceResult]) -> TraceResult {
     res.launched_by_source = vec![0; sources];
     res.screens = vec![ScreenHits::default(); first.screens.len()];
     for p in parts {
+        res.limit = res.limit.or(p.limit);
         res.rays_launched += p.rays_launched;
         res.rays_escaped += p.rays_escaped;
         res.rays_absorbed += p.rays_absorbed;
@@ -280,5 +312,6 @@ pub fn merge_parts(parts: &[TraceResult]) -> TraceResult {
             }
         }
     }
+    settle_limit(&mut res);
     res
 }

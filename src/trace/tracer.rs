@@ -93,6 +93,9 @@ pub struct TraceOptions {
     /// Compiled kernel copy to run; `None` picks the best the machine has
     /// (tests run each one against the reference).
     pub kernel: Option<super::Kernel>,
+    /// Most screen hits the trace may record (default
+    /// [`super::MAX_RECORDED_HITS`]; see `trace::budget`).
+    pub max_hits: Option<u64>,
 }
 
 /// Everything a trace produced.
@@ -109,6 +112,9 @@ pub struct TraceResult {
     pub screens: Vec<ScreenHits>,
     /// Ray–surface intersections computed (mirror and screen hits).
     pub surface_hits: u64,
+    /// Set when the trace stopped at a limit (see `trace::budget`); the
+    /// screens then hold no hits.
+    pub limit: Option<super::budget::Limit>,
 }
 
 /// What became of a ray.

@@ -3,7 +3,10 @@
 use crate::Failure;
 use catoptric::analysis::{trace_report, TraceReport};
 use catoptric::error::{printable, Num};
-use catoptric::layout::{checked_link, decode_layout_bytes, decode_link, parse_layout, Layout, MAX_LAYOUT_BYTES, MAX_RAYS_PER_SOURCE};
+use catoptric::layout::{
+    checked_link, decode_layout_bytes, decode_link, parse_layout, Layout, MAX_LAYOUT_BYTES, MAX_RAYS_PER_SOURCE, MAX_RAYS_TOTAL,
+};
+use catoptric::trace::{work_estimate, WORK_BUDGET};
 use catoptric::{trace::TraceOptions, Scene};
 use std::fmt::Write as _;
 use std::io::Read as _;
@@ -27,16 +30,57 @@ fn to_json<T: serde::Serialize>(v: &T) -> String {
     serde_json::to_string_pretty(v).expect("reports always serialize")
 }
 
-pub fn trace(path: &str, rays: Option<u64>, threads: Option<usize>, json: bool) -> Result<String, Failure> {
+/// The `trace` command's options.
+pub struct TraceArgs {
+    pub rays: Option<u64>,
+    pub threads: Option<usize>,
+    pub allow_long: bool,
+    pub max_hits: Option<u64>,
+}
+
+pub fn trace(path: &str, args: TraceArgs, json: bool) -> Result<String, Failure> {
+    let TraceArgs { rays, threads, allow_long, max_hits } = args;
     let threads = crate::bench::check_threads(threads)?;
     let layout = read_layout(path)?;
     if let Some(n) = rays {
         if n == 0 || n > MAX_RAYS_PER_SOURCE {
             return Err(Failure::input(format!("--rays: must be between 1 and {MAX_RAYS_PER_SOURCE} (got {n})")));
         }
+        let total = n.saturating_mul(layout.sources.len() as u64);
+        if total > MAX_RAYS_TOTAL {
+            return Err(Failure::input(format!(
+                "--rays: {n} rays for each of {} sources is {total} in all; at most {MAX_RAYS_TOTAL} are allowed",
+                layout.sources.len()
+            )));
+        }
     }
     let scene = Scene::compile(&layout);
-    let res = catoptric::trace(&scene, TraceOptions { rays: rays.map(|n| n as usize), threads, ..Default::default() });
+    let total_rays = match rays {
+        Some(n) => n * layout.sources.len() as u64,
+        None => layout.sources.iter().map(|s| s.rays()).sum(),
+    };
+    let work = work_estimate(&scene, total_rays);
+    let long = work > WORK_BUDGET;
+    if long && !allow_long {
+        return Err(Failure::input(format!(
+            "{path}: this trace could take up to {work:.1e} ray–element tests ({total_rays} rays, max_bounces {}, {} elements), \
+             above the budget of {WORK_BUDGET:.0e}; lower the rays or max_bounces, or pass --allow-long",
+            layout.max_bounces,
+            layout.elements.len()
+        )));
+    }
+    let opts = TraceOptions { rays: rays.map(|n| n as usize), threads, max_hits, ..Default::default() };
+    let mut last = std::time::Instant::now();
+    let res = catoptric::trace::trace_with(&scene, opts, &mut |done, total| {
+        // A long trace says how far it is, on stderr, now and then.
+        if long && (last.elapsed().as_secs_f64() > 1.0 || done == total) {
+            last = std::time::Instant::now();
+            eprintln!("catoptric: traced {done} of {total} rays");
+        }
+    });
+    if let Some(limit) = res.limit {
+        return Err(Failure::input(format!("{path}: {limit}")));
+    }
     let report = trace_report(&scene, &res);
     Ok(if json { to_json(&report) } else { table(&layout, &report) })
 }

@@ -30,6 +30,13 @@ enum Cmd {
         /// same whatever the count.
         #[arg(long)]
         threads: Option<usize>,
+        /// Trace even when the layout's worst case is above the work
+        /// budget (progress goes to stderr).
+        #[arg(long)]
+        allow_long: bool,
+        /// Most screen hits to record (tests only; default the documented cap).
+        #[arg(long, hide = true)]
+        max_hits: Option<u64>,
         /// Machine-readable output.
         #[arg(long)]
         json: bool,
@@ -90,7 +97,9 @@ fn main() -> ExitCode {
         Err(e) => return fail(Failure::input(usage::line(&e, &Cli::command()))),
     };
     let out = match cli.cmd {
-        Cmd::Trace { layout, rays, threads, json } => commands::trace(&layout, rays, threads, json),
+        Cmd::Trace { layout, rays, threads, allow_long, max_hits, json } => {
+            commands::trace(&layout, commands::TraceArgs { rays, threads, allow_long, max_hits }, json)
+        }
         Cmd::Link { layout, json } => commands::link(&layout, json),
         Cmd::Unlink { fragment, json } => commands::unlink(&fragment, json),
         Cmd::Design { what } => design_cmd::design(what),
