@@ -309,6 +309,7 @@ impl Session {
             launched_by_source: launched_by_source.iter().map(|&x| count("rays launched by a source", x)).collect::<Result<_, _>>()?,
             power_by_source: power_by_source.to_vec(),
             screens: Vec::new(),
+            ..Default::default()
         };
         self.staged.push(res);
         Ok(())
