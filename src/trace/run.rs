@@ -49,7 +49,41 @@ fn reset(res: &mut TraceResult, scene: &Scene, reserve: usize) {
         s.clear();
         // Untouched capacity costs no memory traffic; growing by copying does.
         s.reserve(reserve.min(RESERVE_CAP));
+        advise_huge(&s.u);
+        advise_huge(&s.v);
+        advise_huge(&s.du);
+        advise_huge(&s.dv);
+        advise_huge(&s.dw);
+        advise_huge(&s.opl);
+        advise_huge(&s.weight);
+        advise_huge(&s.source);
     }
+}
+
+/// Asks the kernel to back a large buffer's capacity with huge pages
+/// (Linux with transparent huge pages on "madvise"): a million hits then
+/// fault in a few dozen pages instead of some fifteen thousand, which
+/// otherwise costs a first trace as much as the tracing.
+fn advise_huge<T>(v: &Vec<T>) {
+    #[cfg(target_os = "linux")]
+    {
+        const PAGE: usize = 4096;
+        let bytes = v.capacity() * std::mem::size_of::<T>();
+        if bytes < 4 << 20 {
+            return;
+        }
+        let start = v.as_ptr() as usize;
+        let (a, end) = ((start + PAGE - 1) & !(PAGE - 1), (start + bytes) & !(PAGE - 1));
+        if end > a {
+            // SAFETY: advice only, on memory this Vec owns; it never changes
+            // the contents or the mapping's validity. Failure is harmless.
+            unsafe {
+                libc::madvise(a as *mut libc::c_void, end - a, libc::MADV_HUGEPAGE);
+            }
+        }
+    }
+    #[cfg(not(target_os = "linux"))]
+    let _ = v;
 }
 
 fn add_tally(res: &mut TraceResult, t: &Tally, max_hits: u64) {
@@ -162,12 +196,15 @@ fn parallel(
         .then(|| rayon::ThreadPoolBuilder::new().num_threads(threads).build().ok())
         .flatten();
     // Waves of a few chunks per thread: progress is reported between them.
-    let mut outs: Vec<Vec<ScreenHits>> = Vec::with_capacity(chunks.len());
+    // Each wave's outputs are appended (copies spread over the threads)
+    // and their buffers go back to the pool for the next wave: memory
+    // beyond the result stays at one wave's worth.
     for group in chunks.chunks(threads * 8) {
         let wave = match &pool {
             Some(p) => p.install(|| work(group)),
             None => work(group),
         };
+        let mut outs = Vec::with_capacity(wave.len());
         for (out, t) in wave {
             add_tally(res, &t, max_hits);
             outs.push(out);
@@ -177,18 +214,18 @@ fn parallel(
             outs.into_iter().for_each(give_buffers);
             return;
         }
-    }
-    let concat = |res: &mut TraceResult| {
-        for (k, dst) in res.screens.iter_mut().enumerate() {
-            let parts: Vec<&ScreenHits> = outs.iter().map(|o| &o[k]).collect();
-            concat_parallel(dst, &parts);
+        let concat = |res: &mut TraceResult| {
+            for (k, dst) in res.screens.iter_mut().enumerate() {
+                let parts: Vec<&ScreenHits> = outs.iter().map(|o| &o[k]).collect();
+                concat_parallel(dst, &parts);
+            }
+        };
+        match &pool {
+            Some(p) => p.install(|| concat(res)),
+            None => concat(res),
         }
-    };
-    match &pool {
-        Some(p) => p.install(|| concat(res)),
-        None => concat(res),
+        outs.into_iter().for_each(give_buffers);
     }
-    outs.into_iter().for_each(give_buffers);
 }
 
 /// Appends `parts` to `dst` in order, the copies spread over the threads.
