@@ -48,21 +48,29 @@ pub(crate) fn figures(sel: &Subset, wavelength_mm: f64, wavefront: bool) -> Figu
     best_simd!(figures_body(sel: &Subset, wavelength_mm: f64, wavefront: bool) -> Figures)
 }
 
-/// Runs `body` for every hit k < n with lane l = k mod LANES: full groups
-/// of [`LANES`], then the rest. (A macro, not a closure, so the body is
-/// compiled inline with the caller's instruction set.)
+/// Runs `body` for every hit with lane l = (hit mod LANES) and global index
+/// g: full groups of [`LANES`] hits, then the rest. In a group the named
+/// columns are re-sliced to the group (k = l indexes them), so the
+/// compiler sees fixed-length slices and turns the group into vector
+/// instructions; in the rest k = g. (A macro, not a closure, so the body
+/// is compiled inline with the caller's instruction set.)
 macro_rules! for_lanes {
-    ($n:expr, $k:ident, $l:ident, $body:block) => {{
+    ($n:expr, [$($col:ident),*], [$($mcol:ident),*], $k:ident, $l:ident, $g:ident, $body:block) => {{
         let n = $n;
         let full = n / LANES * LANES;
         for base in (0..full).step_by(LANES) {
+            $(let $col = &$col[base..base + LANES];)*
+            $(let $mcol = &mut $mcol[base..base + LANES];)*
             for $l in 0..LANES {
-                let $k = base + $l;
+                let $k = $l;
+                let $g = base + $l;
+                let _ = $g;
                 $body
             }
         }
-        for $k in full..n {
-            let $l = $k - full;
+        for $g in full..n {
+            let $l = $g - full;
+            let $k = $g;
             $body
         }
     }};
@@ -85,7 +93,7 @@ fn figures_body(sel: &Subset, wavelength_mm: f64, wavefront: bool) -> Figures {
     // position and direction sums.
     let first = [u[0], v[0], du[0] / dw[0], dv[0] / dw[0]];
     let mut a = [[0.0; LANES]; 12];
-    for_lanes!(n, k, l, {
+    for_lanes!(n, [u, v, du, dv, dw, w], [], k, l, g, {
         let wk = w[k];
         let inv = 1.0 / dw[k];
         let (x, y, p, q) = (u[k] - first[0], v[k] - first[1], du[k] * inv - first[2], dv[k] * inv - first[3]);
@@ -118,7 +126,7 @@ fn figures_body(sel: &Subset, wavelength_mm: f64, wavefront: bool) -> Figures {
     let mut wf = if wavefront { Fit::start(sel, reference) } else { None };
     let mut radius = vec![0.0; n];
     let (mut s2, mut rmax2) = ([0.0; LANES], [0.0f64; LANES]);
-    for_lanes!(n, k, l, {
+    for_lanes!(n, [u, v, w], [radius], k, l, g, {
         let r2 = (u[k] - cu) * (u[k] - cu) + (v[k] - cv) * (v[k] - cv);
         s2[l] += w[k] * r2;
         rmax2[l] = rmax2[l].max(r2);
@@ -132,7 +140,7 @@ fn figures_body(sel: &Subset, wavelength_mm: f64, wavefront: bool) -> Figures {
     if let Some(f) = wf.as_ref() {
         let x0 = f.shift();
         let mut b = [[0.0; LANES]; 13];
-        for_lanes!(n, k, l, {
+        for_lanes!(n, [u, v, du, dv, dw, opl, w], [], k, l, g, {
             let x = f.sample_of(u[k], v[k], du[k], dv[k], dw[k], opl[k]);
             let d = [x[0] - x0[0], x[1] - x0[1], x[2] - x0[2], x[3] - x0[3]];
             let wk = w[k];
@@ -172,7 +180,7 @@ fn figures_body(sel: &Subset, wavelength_mm: f64, wavefront: bool) -> Figures {
     let mut wavefront = None;
     if let Some(f) = wf.as_ref() {
         let (mut sum, mut sq, mut lo, mut hi) = ([0.0; LANES], [0.0; LANES], [f64::INFINITY; LANES], [f64::NEG_INFINITY; LANES]);
-        for_lanes!(n, k, l, {
+        for_lanes!(n, [u, v, du, dv, dw, opl, w], [], k, l, g, {
             let r = f.residual_of(f.sample_of(u[k], v[k], du[k], dv[k], dw[k], opl[k]));
             sum[l] += w[k] * r;
             sq[l] += w[k] * r * r;
@@ -196,13 +204,13 @@ fn figures_body(sel: &Subset, wavelength_mm: f64, wavefront: bool) -> Figures {
 #[inline(always)]
 fn cone_pass(m: Vec3, du: &[f64], dv: &[f64], dw: &[f64]) -> ConeSums {
     let (mut best, mut at, mut back) = ([-1.0f64; LANES], [0usize; LANES], [f64::NEG_INFINITY; LANES]);
-    for_lanes!(du.len(), k, l, {
+    for_lanes!(du.len(), [du, dv, dw], [], k, l, g, {
         let (cx, cy, cz) = (dv[k] * m.z - dw[k] * m.y, dw[k] * m.x - du[k] * m.z, du[k] * m.y - dv[k] * m.x);
         let s2 = cx * cx + cy * cy + cz * cz;
         let c = du[k] * m.x + dv[k] * m.y + dw[k] * m.z;
         let better = (c > 0.0) & (s2 > best[l]);
         best[l] = if better { s2 } else { best[l] };
-        at[l] = if better { k } else { at[l] };
+        at[l] = if better { g } else { at[l] };
         back[l] = if c <= 0.0 { back[l].max(-c) } else { back[l] };
     });
     let mut out = ConeSums::new(m);
