@@ -25,13 +25,26 @@
 //! ([`Session::add_slice`], [`Session::add_slice_hits`], or
 //! [`Session::keep_slice`] for its own) and [`Session::merge_slices`]
 //! merges them into exactly the whole trace, then analyses it as
-//! [`Session::retrace`] does.
+//! [`Session::retrace`] does. A slice that stopped at a limit says so
+//! ([`Session::slice_limit`], passed on to [`Session::add_slice`]), so the
+//! merged trace stops at it too ([`Session::limit_message`]).
+//!
+//! # Bounded work
+//!
+//! [`Session::work_estimate`] is the core's worst-case cost of a trace
+//! (`trace::work_estimate`); the page traces nothing above
+//! [`Session::work_budget`] unless the user asks, and only small previews
+//! on its own thread. [`Session::set_max_hits`] lowers the cap on recorded
+//! screen hits for this session's traces.
 
 use crate::analysis::analyse_all;
 use crate::geometry::{Aperture, Sag, Vec3};
 use crate::layout::{decode_link, encode_link, parse_layout, Layout, Source, MAX_RAYS_PER_SOURCE};
 use crate::scene::{Part, Scene};
-use crate::trace::{merge_parts, trace_fan, trace_part, trace_with, Fan, ScreenHits, TraceOptions, TraceResult};
+use crate::trace::{
+    merge_parts, trace_fan, trace_part, trace_with, work_estimate, Fan, Limit, ScreenHits, TraceOptions, TraceResult,
+    WORK_BUDGET,
+};
 use js_sys::{Array, Float32Array, Float64Array, Function, Uint16Array, Uint32Array, Uint8Array};
 use wasm_bindgen::prelude::*;
 use wasm_bindgen::JsCast;
@@ -120,6 +133,9 @@ pub struct Session {
     slice: TraceResult,
     /// Slices gathered for [`Session::merge_slices`], in slice order.
     staged: Vec<TraceResult>,
+    /// Cap on recorded screen hits of this session's traces (`None`: the
+    /// core's default, `trace::MAX_RECORDED_HITS`).
+    max_hits: Option<u64>,
     /// Curves, flux maps and pixels of the analysis views (src/web/analysis.rs).
     pub(crate) views: super::analysis::ViewState,
 }
@@ -154,6 +170,7 @@ impl Session {
             fan_ms: 0.0,
             slice: TraceResult::default(),
             staged: Vec::new(),
+            max_hits: None,
             views: Default::default(),
         };
         s.install(s.layout.clone());
@@ -228,7 +245,7 @@ impl Session {
         if parts == 0 || parts > MAX_SLICES || k >= parts {
             return Err(JsError::new(&format!("trace slice: need 0 <= k < parts <= {MAX_SLICES} (got k = {k}, parts = {parts})")));
         }
-        let opts = TraceOptions { rays, ..Default::default() };
+        let opts = TraceOptions { rays, max_hits: self.max_hits, ..Default::default() };
         trace_part(&self.scene, opts, k as usize, parts as usize, &mut self.slice, &mut |done, total| {
             report_progress(progress.as_ref(), done, total)
         });
@@ -248,6 +265,11 @@ impl Session {
     /// Power of each source, W, as the last traced slice saw it (a copy).
     pub fn slice_power_by_source(&self) -> Vec<f64> {
         self.slice.power_by_source.clone()
+    }
+    /// The hit cap the last traced slice stopped at, if it stopped at one
+    /// (pass it on to [`Session::add_slice`]).
+    pub fn slice_limit(&self) -> Option<f64> {
+        self.slice.limit.map(|Limit::TooManyHits { cap }| cap as f64)
     }
     /// Hits of the last traced slice on screen `screen` as fresh typed
     /// arrays (copies, safe to keep and to transfer): [u, v, du, dv, dw,
@@ -277,9 +299,16 @@ impl Session {
     }
     /// Gathers the next slice (in slice order) from its counters as
     /// [`Session::slice_counts`], [`Session::slice_launched_by_source`] and
-    /// [`Session::slice_power_by_source`] gave them; its hits follow with
-    /// [`Session::add_slice_hits`], screen by screen.
-    pub fn add_slice(&mut self, counts: &[f64], launched_by_source: &[f64], power_by_source: &[f64]) -> Result<(), JsError> {
+    /// [`Session::slice_power_by_source`] gave them, with the hit cap it
+    /// stopped at ([`Session::slice_limit`]; `undefined` when it did not);
+    /// its hits follow with [`Session::add_slice_hits`], screen by screen.
+    pub fn add_slice(
+        &mut self,
+        counts: &[f64],
+        launched_by_source: &[f64],
+        power_by_source: &[f64],
+        limit: Option<f64>,
+    ) -> Result<(), JsError> {
         let sources = self.scene.sources.len();
         let count = |what: &str, x: f64| -> Result<u64, JsError> {
             if (0.0..=MAX_EXACT_COUNT).contains(&x) && x.fract() == 0.0 {
@@ -309,7 +338,7 @@ impl Session {
             launched_by_source: launched_by_source.iter().map(|&x| count("rays launched by a source", x)).collect::<Result<_, _>>()?,
             power_by_source: power_by_source.to_vec(),
             screens: Vec::new(),
-            ..Default::default()
+            limit: limit.map(|cap| count("hit cap", cap).map(|cap| Limit::TooManyHits { cap })).transpose()?,
         };
         self.staged.push(res);
         Ok(())
@@ -441,10 +470,58 @@ impl Session {
     pub fn fan_ms(&self) -> f64 {
         self.fan_ms
     }
+    /// Why the last trace stopped short (the core's message), or `None`
+    /// when it ran to the end. A trace that stopped keeps its counters but
+    /// no screen hits.
+    pub fn limit_message(&self) -> Option<String> {
+        self.result.limit.map(|l| l.to_string())
+    }
+
+    // ----- bounded work --------------------------------------------------
+
+    /// Worst-case cost (element tests, `trace::work_estimate`) of tracing
+    /// the layout with `rays_per_source` rays per source, or with each
+    /// source's own count.
+    pub fn work_estimate(&self, rays_per_source: Option<u32>) -> f64 {
+        let rays = match rays_per_source {
+            Some(n) => u64::from(n).saturating_mul(self.layout.sources.len() as u64),
+            None => self.layout.sources.iter().map(|s| s.rays()).sum(),
+        };
+        work_estimate(&self.scene, rays) as f64
+    }
+    /// The budget (`trace::WORK_BUDGET`, element tests) above which the
+    /// page pauses a trace until the user asks for it.
+    pub fn work_budget() -> f64 {
+        WORK_BUDGET as f64
+    }
+    /// True when a full trace of the layout is estimated above the budget.
+    pub fn over_budget(&self) -> bool {
+        self.work_estimate(None) > Self::work_budget()
+    }
+    /// Caps the screen hits this session's traces record (whole number
+    /// from 1 to 2⁵³; `undefined`: the core's default cap).
+    pub fn set_max_hits(&mut self, max_hits: Option<f64>) -> Result<(), JsError> {
+        self.max_hits = match max_hits {
+            None => None,
+            Some(n) if (1.0..=MAX_EXACT_COUNT).contains(&n) && n.fract() == 0.0 => Some(n as u64),
+            Some(n) => return Err(JsError::new(&format!("hit cap: must be a whole number from 1 to 2^53 (got {n})"))),
+        };
+        Ok(())
+    }
     /// True when a source is an extended solar disk (the page shows its
     /// concentrated-sunlight caution).
     pub fn has_sun(&self) -> bool {
         self.layout.sources.iter().any(|s| matches!(s, Source::Beam(b) if b.sun_half_angle_mrad > 0.0))
+    }
+
+    /// Test hook: ends this call in a WebAssembly trap while the session is
+    /// borrowed, as a failed allocation deep in a trace would. It changes
+    /// nothing; the browser tests use it to check that the page recovers
+    /// (a fresh module and session holding the last good layout).
+    #[wasm_bindgen(js_name = "__trapForTests")]
+    pub fn trap_for_tests(&mut self) {
+        #[cfg(target_arch = "wasm32")]
+        core::arch::wasm32::unreachable();
     }
 
     // ----- scene lookups -------------------------------------------------
@@ -587,7 +664,7 @@ impl Session {
 
     fn retrace_inner(&mut self, rays: Option<u32>, progress: Option<&Function>) -> Result<(), JsError> {
         let rays = check_rays(rays)?;
-        let opts = TraceOptions { rays, ..Default::default() };
+        let opts = TraceOptions { rays, max_hits: self.max_hits, ..Default::default() };
         let t0 = now_ms();
         self.result = trace_with(&self.scene, opts, &mut |done, total| report_progress(progress, done, total));
         self.finish_trace(rays, now_ms() - t0)
