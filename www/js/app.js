@@ -5,12 +5,20 @@
 // the last layout the session accepted). An edit clones it, changes the
 // clone and sends the JSON to the session, which validates it; a refused
 // edit leaves both untouched and the message names the field. Every
-// accepted change re-traces: first a quick trace (≤ LIVE_RAYS rays in all)
-// in the next animation frame, then, when the edit settles, the full ray
-// count — on the main thread up to WORKER_RAYS rays, on the worker pool
-// (pool.js) above.
+// accepted change re-traces: first a quick preview in the next animation
+// frame, then, when the edit settles, the full ray count. The page's own
+// thread traces at most MAIN_RAYS rays and MAIN_WORK element tests (the
+// core's worst-case estimate) and records at most MAIN_MAX_HITS hits: a
+// layout above that gets a preview here and its full trace on the worker
+// pool (pool.js); a layout above the core's work budget is paused until the
+// user asks for it (#trace-notice). A trace that stops at a limit keeps
+// the layout and says why.
+//
+// The session is guarded (wasm.js): a trap re-creates the module and the
+// session with the last good layout. Autosave keeps a history (history.js).
 
-import init, { Session } from '../pkg/catoptric.js';
+import { api, guardSession, prepareSpare, startWasm } from './wasm.js';
+import { History, LISTED, isQuotaError } from './history.js';
 import { Editor, niceStep, roundTo } from './editor.js';
 import { Props } from './props.js';
 import { Drawer } from './drawer.js';
@@ -23,9 +31,12 @@ import { CausticLayer } from './views/caustic.js';
 import { updateCautions } from './views/cautions.js';
 import { exportAnalysis } from './views/analysis-export.js';
 
-const AUTOSAVE_KEY = 'catoptric.autosave.v1';
-const LIVE_RAYS = 20_000;
-const WORKER_RAYS = 200_000;
+/** Most rays the page's own thread traces (previews and small layouts). */
+const MAIN_RAYS = 20_000;
+/** Most worst-case element tests (work_estimate) the page's own thread traces. */
+const MAIN_WORK = 2e7;
+/** Most screen hits a trace on the page's own thread records. */
+const MAIN_MAX_HITS = 1_000_000;
 const SETTLE_MS = 300;
 const MAX_FILE_BYTES = 16 << 20;
 const UNDO_DEPTH = 200;
@@ -66,13 +77,47 @@ function decodeLayoutBytes(bytes) {
   return new TextDecoder(enc).decode(bytes);
 }
 
+/** A bold run of text. */
+function b(text) {
+  const el = document.createElement('b');
+  el.textContent = text;
+  return el;
+}
+
 function errText(e) {
   return String(e?.message ?? e);
+}
+
+/** A large count in words a reader takes in at once: 1.2 × 10¹¹. */
+function sci(x) {
+  if (!(x >= 1e6)) return fmtInt(x);
+  const e = Math.floor(Math.log10(x));
+  const m = x / 10 ** e;
+  const sup = String(e).split('').map((d) => '⁰¹²³⁴⁵⁶⁷⁸⁹'[Number(d)]).join('');
+  return `${m.toFixed(1).replace(/\.0$/, '')} × 10${sup}`;
+}
+
+function clock(t) {
+  if (!(t > 1)) return 'earlier';
+  const d = new Date(t);
+  const today = new Date().toDateString() === d.toDateString();
+  return today ? d.toLocaleTimeString() : d.toLocaleString();
 }
 
 class App {
   constructor(session) {
     this.session = session;
+    session.set_max_hits(MAIN_MAX_HITS);
+    this.history = new History();
+    /** The next autosave starts a new version (after a whole layout was opened). */
+    this.freshSave = false;
+    /** Time of the newest save this tab knows of (its own or another tab's). */
+    this.seenSave = 0;
+    /** The user asked to trace this layout although it is over the work budget. */
+    this.allowLong = false;
+    /** Hit cap for the pool's traces (undefined: the core's default). */
+    this.poolMaxHits = undefined;
+    this.recoveries = 0;
     this.layout = JSON.parse(session.layout_json());
     this.selection = null;
     this.geom = { outline: new Float32Array(), spans: new Uint32Array(), fan: new Float32Array(), fanSrc: new Uint16Array(), fanEsc: new Uint8Array() };
@@ -90,7 +135,7 @@ class App {
     this.background = new TracePool({
       onProgress: (gen, done, total) => this.progress(gen, done, total),
       onDone: (gen, m) => this.workerDone(gen, m),
-      onError: (gen, msg) => { this.hideProgress(); this.setTraceState('preview'); this.message(`The full trace failed: ${msg}`); },
+      onError: (gen, msg) => { this.hideProgress(); this.setTraceState('preview'); this.message(`The full trace failed: ${msg}. Your layout is unchanged.`); },
     });
     this.caustic = new CausticLayer(this);
     this.editor = new Editor($('canvas'), this);
@@ -228,6 +273,7 @@ class App {
       return false;
     }
     this.pushUndo(before);
+    this.freshSave = true;
     this.adopt();
     return true;
   }
@@ -235,6 +281,7 @@ class App {
   /** Takes the session's layout as the page's copy (after a load). */
   adopt() {
     this.layout = JSON.parse(this.session.layout_json());
+    this.allowLong = false;
     this.selection = null;
     this.spotScreen = 0;
     this.refreshOutline();
@@ -273,10 +320,143 @@ class App {
     $('btn-redo').disabled = !this.redo.length;
   }
 
+  /**
+   * Keeps the layout in this tab's autosave history (a new version after a
+   * whole layout was opened). A refused save (full storage) is said once
+   * and marked on the History button; the layout stays in the page.
+   */
   autosave() {
+    const fresh = this.freshSave;
+    this.freshSave = false;
+    const err = this.history.save(this.currentJson(), { fresh });
+    const btn = $('btn-history');
+    if (err) {
+      if (btn.dataset.saved !== 'false') {
+        const why = isQuotaError(err) ? 'the browser’s storage for this page is full' : errText(err);
+        this.message(`Could not keep this layout in the browser: ${why}. It stays open in this tab — use Save to keep it as a file.`);
+      }
+      btn.dataset.saved = 'false';
+      btn.title = `Not kept in this browser: ${errText(err)}`;
+    } else {
+      btn.dataset.saved = 'true';
+      btn.title = 'Earlier versions of your work kept in this browser';
+      this.seenSave = Math.max(this.seenSave, this.history.latest()?.t ?? 0);
+    }
+    if (!$('history-menu').hidden) this.renderHistory();
+  }
+
+  /** The History menu: saved versions (newest first) and kept unrestorable ones. */
+  renderHistory() {
+    const menu = $('history-menu');
+    const rows = [];
+    const status = document.createElement('p');
+    status.className = 'menu-note';
+    status.textContent = this.history.failure
+      ? `Not kept in this browser: ${errText(this.history.failure)}. Use Save to keep a file.`
+      : 'Kept in this browser as you work; choose a version to open it (Undo comes back).';
+    rows.push(status);
+    const current = this.currentJson();
+    const list = this.history.entries().slice(0, LISTED);
+    for (const e of list) {
+      const btn = document.createElement('button');
+      btn.type = 'button';
+      btn.setAttribute('role', 'menuitem');
+      btn.className = 'history-item';
+      btn.dataset.history = String(e.t);
+      const same = e.json === current;
+      const name = document.createElement('span');
+      name.className = 'history-name';
+      name.textContent = e.name;
+      const when = document.createElement('span');
+      when.className = 'history-when';
+      when.textContent = `${clock(e.t)}${e.own ? '' : ' · other tab'}${same ? ' · open now' : ''}`;
+      btn.append(name, when);
+      btn.title = `${e.name}, saved ${e.t > 1 ? new Date(e.t).toLocaleString() : 'by an earlier version of the page'}`;
+      btn.disabled = same;
+      btn.onclick = () => {
+        menu.hidden = true;
+        if (this.loadText(e.json, `the version saved ${clock(e.t)}`)) this.message(`Opened the version of “${e.name}” saved ${clock(e.t)}. Undo brings back what you had.`, 'info');
+      };
+      rows.push(btn);
+    }
+    if (!list.length) {
+      const p = document.createElement('p');
+      p.className = 'menu-note';
+      p.textContent = 'No saved versions yet.';
+      rows.push(p);
+    }
+    const kept = this.history.kept();
+    if (kept.length) {
+      const h = document.createElement('p');
+      h.className = 'menu-head';
+      h.textContent = 'Could not be restored (kept as they were)';
+      rows.push(h);
+      kept.forEach((k, i) => {
+        const row = document.createElement('div');
+        row.className = 'history-kept';
+        row.dataset.kept = String(i);
+        const what = document.createElement('span');
+        what.className = 'history-name';
+        what.textContent = `${k.name} · ${clock(k.t)}`;
+        const why = document.createElement('span');
+        why.className = 'history-error';
+        why.textContent = k.error;
+        const dl = document.createElement('button');
+        dl.type = 'button';
+        dl.textContent = 'Download';
+        dl.title = 'Download this version exactly as it was kept, as a .json file';
+        dl.onclick = () => this.downloadKept(k);
+        const del = document.createElement('button');
+        del.type = 'button';
+        del.textContent = 'Discard';
+        del.title = 'Forget this version';
+        del.onclick = () => { this.history.discardKept(i); this.renderHistory(); };
+        row.append(what, why, dl, del);
+        rows.push(row);
+      });
+    }
+    menu.replaceChildren(...rows);
+  }
+
+  downloadKept(k) {
+    const stamp = k.t > 1 ? new Date(k.t).toISOString().slice(0, 19).replace(/[T:]/g, '-') : 'earlier';
+    download(`${slug(k.name)}-unrestored-${stamp}.json`, new Blob([k.json], { type: 'application/json' }));
+  }
+
+  /** Another tab saved newer work: say so and list it. */
+  onStorage(ev) {
+    const l = this.history.isNewerElsewhere(ev, this.seenSave);
+    if (!l) return;
+    this.seenSave = l.t;
+    // A tab that only saved what this one shows has nothing new.
+    if (this.history.slot(l.tab)[0]?.json === this.currentJson()) return;
+    if (!$('history-menu').hidden) this.renderHistory();
+    this.message(`Another tab saved newer work (“${l.name}”, ${clock(l.t)}). It is in History; this tab keeps its own layout.`, 'info');
+  }
+
+  /** The wasm module trapped and was re-created: catch the page up. */
+  recovered(err, ok) {
+    this.recoveries++;
+    document.body.dataset.recoveries = String(this.recoveries);
+    this.result = null;
+    this.lastEdit = { key: null, t: 0 };
+    this.background.cancel();
+    this.hideProgress();
     try {
-      localStorage.setItem(AUTOSAVE_KEY, this.session.layout_json());
-    } catch { /* private mode or full storage: the page still works */ }
+      this.refreshOutline();
+    } catch { /* shown below */ }
+    const what = errText(err);
+    this.message(ok
+      ? `The WebAssembly module stopped (${what}) and was restarted with your layout; you can go on working.`
+      : `The WebAssembly module stopped (${what}) and was restarted, but your layout could not be reloaded into it; it is still in History.`);
+    this.requestTrace(false);
+    this.requestDraw();
+  }
+
+  /** Loads the page's last good state into a replacement session. */
+  restoreInto(s) {
+    s.set_max_hits(MAIN_MAX_HITS);
+    s.load_json(this.currentJson());
   }
 
   // ---- selection and items ---------------------------------------------------------
@@ -393,43 +573,117 @@ class App {
     this.fullTimer = setTimeout(() => this.runFull(), live ? SETTLE_MS : 0);
   }
 
-  liveRays() {
-    const total = this.session.layout_rays();
-    const n = this.session.source_count();
-    return total > LIVE_RAYS && n ? Math.max(1, Math.floor(LIVE_RAYS / n)) : undefined;
+  /** True when the whole trace is small enough for the page's own thread. */
+  fitsMain() {
+    const s = this.session;
+    return s.layout_rays() <= MAIN_RAYS && s.work_estimate(undefined) <= MAIN_WORK;
+  }
+
+  /**
+   * Rays per source of a preview on the page's own thread: at most
+   * MAIN_RAYS in all and MAIN_WORK element tests; undefined when the whole
+   * trace fits, 0 when not even one ray per source does.
+   */
+  previewRays() {
+    const s = this.session;
+    const n = s.source_count();
+    if (!n || this.fitsMain()) return undefined;
+    const perRay = s.work_estimate(1) / n;
+    const per = Math.floor(Math.min(MAIN_RAYS, MAIN_WORK / Math.max(perRay, 1)) / n);
+    return Math.max(0, Math.min(per, Math.floor(s.layout_rays() / n) || 1));
   }
 
   runLive() {
     this.liveRaf = 0;
     const gen = this.traceGen;
     if (this.result && this.result.gen === gen) return;
-    const per = this.liveRays();
-    this.traceMain(gen, per);
+    this.traceMain(gen, this.previewRays());
   }
 
   runFull() {
     const gen = this.traceGen;
     if (this.result && this.result.gen === gen && this.result.kind === 'full') return;
     if (this.liveRaf) { cancelAnimationFrame(this.liveRaf); this.liveRaf = 0; }
-    if (this.session.layout_rays() <= WORKER_RAYS) {
+    if (this.fitsMain()) {
+      this.hideNotice();
       this.traceMain(gen, undefined);
       return;
     }
-    if (!this.result || this.result.gen !== gen) this.traceMain(gen, this.liveRays());
+    if (!this.result || this.result.gen !== gen) this.traceMain(gen, this.previewRays());
+    if (gen !== this.traceGen) return; // the preview failed and the page moved on
+    if (this.session.over_budget() && !this.allowLong) {
+      this.pause();
+      return;
+    }
+    this.hideNotice();
+    this.startPool(gen);
+  }
+
+  startPool(gen) {
     this.setTraceState('running');
     this.showProgress(0, this.session.layout_rays());
-    this.background.start(gen, this.session.layout_json());
+    this.background.start(gen, this.session.layout_json(), undefined, this.poolMaxHits);
+  }
+
+  /** Over the work budget: keep the preview, say so, offer to trace anyway. */
+  pause() {
+    const s = this.session;
+    const work = s.work_estimate(undefined);
+    const budget = api().Session.work_budget();
+    const pre = this.result?.gen === this.traceGen && this.result.kind === 'preview' ? this.result : null;
+    const what = pre ? `The figures are from a preview of ${fmtInt(pre.launched)} rays.` : 'Nothing has been traced yet.';
+    this.setTraceState('paused');
+    this.notice('paused', [
+      b('Full trace paused. '),
+      `This layout could take up to ${sci(work)} ray–element tests (${fmtInt(s.layout_rays())} rays, max_bounces ${this.layout.max_bounces}), `,
+      `above the budget of ${sci(budget)}: it might run for minutes. ${what} `,
+      'Lower the rays or max_bounces to trace at once, or ',
+    ], { label: 'Trace anyway', title: 'Run the full trace in the background workers; Stop ends it', run: () => this.traceAnyway() });
+  }
+
+  traceAnyway() {
+    this.allowLong = true;
+    this.hideNotice();
+    const gen = this.traceGen;
+    if (this.result?.gen === gen && this.result.kind === 'full') return;
+    this.startPool(gen);
+  }
+
+  /** The trace notice strip (paused or stopped at a limit): parts and an optional button. */
+  notice(kind, parts, button = null) {
+    const box = $('trace-notice');
+    box.dataset.kind = kind;
+    const text = $('trace-notice-text');
+    text.replaceChildren(...parts);
+    const btn = $('trace-notice-action');
+    btn.hidden = !button;
+    if (button) {
+      btn.textContent = button.label;
+      btn.title = button.title;
+      btn.onclick = button.run;
+    }
+    box.hidden = false;
+  }
+  hideNotice() {
+    $('trace-notice').hidden = true;
   }
 
   traceMain(gen, perSource) {
+    const s = this.session;
+    if (perSource === 0) {
+      // Not even one ray per source fits the page's own thread: draw the fan only.
+      try { s.retrace_fan(); } catch (e) { this.message(`Trace failed: ${errText(e)}`); return; }
+      this.refreshFan();
+      this.setResult(null, gen);
+      return;
+    }
     try {
-      this.session.retrace(perSource);
+      s.retrace(perSource);
     } catch (e) {
       this.message(`Trace failed: ${errText(e)}`);
       return;
     }
     this.refreshFan();
-    const s = this.session;
     const res = {
       gen,
       kind: perSource === undefined ? 'full' : 'preview',
@@ -438,6 +692,7 @@ class App {
       escaped: s.rays_escaped(),
       absorbed: s.rays_absorbed(),
       ms: s.trace_ms(),
+      limit: s.limit_message() ?? null,
       spots: new Map(),
       spot: null,
     };
@@ -461,26 +716,31 @@ class App {
     const res = {
       gen, kind: 'full', reportText: m.reportText, report: JSON.parse(m.reportText),
       launched: m.launched, escaped: m.escaped, absorbed: m.absorbed, ms: m.ms, spots, analysis: m.analysis,
-      spot: (i) => spots.get(i) ?? null, background: true, workers: m.workers,
+      spot: (i) => spots.get(i) ?? null, background: true, workers: m.workers, limit: m.limit ?? null,
     };
     this.setResult(res);
   }
 
-  setResult(res) {
+  /** Shows a trace's figures (or none: `res` null, for generation `gen`). */
+  setResult(res, gen = res?.gen) {
     this.result = res;
-    this.setTraceState(res.kind);
-    $('ro-rays').textContent = fmtInt(res.launched);
-    $('ro-rays').title = `${fmtInt(res.launched)} rays launched`;
-    $('ro-fate').textContent = `${fmtInt(res.escaped)} / ${fmtInt(res.absorbed)}`;
+    const none = !res;
+    this.setTraceState(none ? 'preview' : res.limit && res.kind === 'full' ? 'limit' : res.kind);
+    $('ro-rays').textContent = none ? '–' : fmtInt(res.launched);
+    $('ro-rays').title = none ? 'Too costly to preview here' : `${fmtInt(res.launched)} rays launched`;
+    $('ro-fate').textContent = none ? '–' : `${fmtInt(res.escaped)} / ${fmtInt(res.absorbed)}`;
     const time = $('ro-time');
-    time.textContent = `${fmtNum(res.ms, 3)} ms${res.background ? ' (background)' : ''}`;
-    if (res.background) {
+    time.textContent = none ? '–' : `${fmtNum(res.ms, 3)} ms${res.background ? ' (background)' : ''}`;
+    if (res?.background) {
       time.dataset.workers = String(res.workers);
       time.title = `Wall time of the last trace, in the background on ${res.workers} worker${res.workers === 1 ? '' : 's'}`;
     } else {
       delete time.dataset.workers;
       time.removeAttribute('title');
     }
+    const kind = $('trace-notice').dataset.kind;
+    if (res?.limit) this.showLimit(res);
+    else if (gen === this.traceGen && (kind === 'limit' || (kind === 'paused' && res?.kind === 'full'))) this.hideNotice();
     this.updateScreens();
     this.updateFigures();
     updateCautions(this);
@@ -488,10 +748,20 @@ class App {
     this.requestDraw();
   }
 
+  /** A trace stopped at a limit: its message, and the layout stays as it is. */
+  showLimit(res) {
+    const which = res.kind === 'full' ? 'The trace' : 'The preview trace';
+    this.notice('limit', [
+      b(`${which} stopped at a limit: `),
+      `${res.limit}. `,
+      'Your layout is unchanged; the screens show no hits from this trace.',
+    ]);
+  }
+
   setTraceState(kind) {
     const el = $('ro-state');
     el.dataset.trace = kind;
-    el.textContent = kind === 'full' ? 'full trace' : kind === 'running' ? 'tracing…' : kind === 'preview' ? 'preview' : '–';
+    el.textContent = { full: 'full trace', running: 'tracing…', preview: 'preview', paused: 'paused', limit: 'stopped at a limit' }[kind] ?? '–';
     document.body.dataset.trace = kind;
   }
 
@@ -741,6 +1011,20 @@ class App {
 
     window.addEventListener('hashchange', () => this.openHash());
     window.addEventListener('pagehide', () => this.autosave());
+    window.addEventListener('storage', (e) => this.onStorage(e));
+    $('trace-notice-close').onclick = () => this.hideNotice();
+
+    // history menu
+    const hist = $('history-menu');
+    const hbtn = $('btn-history');
+    hbtn.onclick = (e) => {
+      e.stopPropagation();
+      hist.hidden = !hist.hidden;
+      hbtn.setAttribute('aria-expanded', String(!hist.hidden));
+      if (!hist.hidden) this.renderHistory();
+    };
+    hist.addEventListener('click', (e) => e.stopPropagation());
+    document.addEventListener('click', () => { hist.hidden = true; hbtn.setAttribute('aria-expanded', 'false'); });
     window.addEventListener('keydown', (e) => this.onKey(e));
     window.matchMedia?.('(prefers-color-scheme: dark)').addEventListener?.('change', () => { this.theme = readTheme(); this.requestDraw(); });
   }
@@ -780,24 +1064,11 @@ class App {
   async start() {
     this.setTheme(document.documentElement.dataset.theme || 'light');
     const presets = await this.loadPresetIndex();
-    let saved = null;
-    try { saved = localStorage.getItem(AUTOSAVE_KEY); } catch { /* no storage */ }
-    let restored = false;
-    if (saved) {
-      try {
-        this.session.load_json(saved);
-        this.adopt();
-        this.undo.length = 0;
-        this.updateUndo();
-        restored = true;
-      } catch (e) {
-        this.message(`The layout kept from your last visit could not be restored: ${errText(e)}. Opening an example instead.`);
-      }
-    }
+    const restored = this.restoreNewest();
     // A shared link opens over the restored work, which stays one Undo away
-    // (the autosave now holds the linked layout).
+    // and one version back in History.
     if (this.openHash()) {
-      if (restored) this.message('Opened the layout from the shared link. Undo brings back the layout you were working on.', 'info');
+      if (restored) this.message('Opened the layout from the shared link. Undo (or History) brings back the layout you were working on.', 'info');
       return;
     }
     if (restored) return;
@@ -808,6 +1079,52 @@ class App {
     } else {
       this.adopt();
     }
+  }
+
+  /**
+   * Opens the newest saved version that loads. One that does not is kept
+   * (never written over) and offered for download; the next newer-to-older
+   * one is tried. Returns true when a version was opened.
+   */
+  restoreNewest() {
+    const failed = [];
+    let opened = null;
+    const known = new Set(this.history.kept().map((k) => k.json));
+    for (const e of this.history.entries()) {
+      if (known.has(e.json)) continue; // failed before: listed under History, never retried blindly
+      try {
+        this.session.load_json(e.json);
+      } catch (err) {
+        const why = errText(err).replace(/\.+$/, '');
+        this.history.keep(e, why);
+        failed.push({ ...e, error: why });
+        continue;
+      }
+      opened = e;
+      break;
+    }
+    this.seenSave = this.history.latest()?.t ?? 0;
+    if (opened) {
+      // A new version, so a restored layout never writes over this tab's own.
+      this.freshSave = true;
+      this.adopt();
+      this.undo.length = 0;
+      this.updateUndo();
+    }
+    if (failed.length) {
+      const f = failed[0];
+      const then = opened ? ` Opened the version of “${opened.name}” saved ${clock(opened.t)} instead.` : '';
+      this.message(`The layout “${f.name}” kept from ${clock(f.t)} could not be restored: ${f.error}. It is kept as it was (History → Download).${then}`);
+      const box = $('message-text');
+      const dl = document.createElement('button');
+      dl.type = 'button';
+      dl.className = 'message-action';
+      dl.textContent = 'Download it';
+      dl.title = 'Download the layout that could not be restored, exactly as it was kept, as a .json file';
+      dl.onclick = () => this.downloadKept(f);
+      box.append(' ', dl);
+    }
+    return opened !== null;
   }
 
   async loadPresetIndex() {
@@ -833,18 +1150,26 @@ class App {
 
 async function main() {
   applyTheme(initialTheme());
+  let mod;
   try {
-    await init();
+    mod = await startWasm();
   } catch (e) {
     const box = $('message');
     $('message-text').textContent = `The workbench could not start: its WebAssembly module did not load (${errText(e)}).`;
     box.hidden = false;
     return;
   }
-  const app = new App(new Session());
+  let app = null;
+  const { session } = guardSession(new mod.Session(), {
+    restore: (s) => app.restoreInto(s),
+    onRecovered: (err, ok) => app.recovered(err, ok),
+  });
+  app = new App(session);
   window.catoptric = app; // for the browser tests and the console
   await app.start();
   document.body.dataset.ready = 'true';
+  // A spare module instance, so a trap is recovered from at once.
+  prepareSpare();
 }
 
 main();

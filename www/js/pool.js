@@ -32,8 +32,12 @@ export class TracePool {
     this.job = null;
   }
 
-  /** Traces `layoutJson` (with `rays` per source when given) as generation `gen`. */
-  start(gen, layoutJson, rays = undefined) {
+  /**
+   * Traces `layoutJson` (with `rays` per source when given; recording at
+   * most `maxHits` screen hits, the core's cap when undefined) as
+   * generation `gen`.
+   */
+  start(gen, layoutJson, rays = undefined, maxHits = undefined) {
     this.cancel();
     if (!this.workers.length) {
       const n = poolSize();
@@ -52,7 +56,7 @@ export class TracePool {
       gen, rays, parts, t0: performance.now(), left: parts,
       done: new Array(parts).fill(0), total: new Array(parts).fill(0), slices: new Array(parts).fill(null),
     };
-    this.workers.forEach((w, k) => w.postMessage({ type: 'slice', gen, layout: layoutJson, rays, k, parts, keep: k === 0 }));
+    this.workers.forEach((w, k) => w.postMessage({ type: 'slice', gen, layout: layoutJson, rays, maxHits, k, parts, keep: k === 0 }));
   }
 
   message(worker, m) {
@@ -92,7 +96,7 @@ export class TracePool {
     const slices = job.slices.map((m, k) => {
       if (k === 0) return null;
       for (const cols of m.hits) for (const a of cols) transfer.push(a.buffer);
-      return { counts: m.counts, launched: m.launched, power: m.power, hits: m.hits };
+      return { counts: m.counts, launched: m.launched, power: m.power, limit: m.limit, hits: m.hits };
     });
     job.slices = null;
     const ms = performance.now() - job.t0;

@@ -3,18 +3,20 @@
 //
 // Messages in:
 //   { type: 'slice', gen, layout (JSON text), rays (per source or
-//     undefined), k, parts, keep } — trace slice k of parts. With keep (the
+//     undefined), maxHits (hit cap or undefined), k, parts, keep } — trace
+//     slice k of parts. With keep (the
 //     merging worker's own slice 0) the hits stay in this worker's session.
 //   { type: 'merge', gen, rays, parts, ms, slices } — slices[1..parts] as
 //     the other workers posted them (slices[0] is the kept one): merge,
 //     analyse and post the result.
 // Messages out:
 //   { gen, type: 'progress', k, done, total } (the slice's ray counts),
-//   { gen, type: 'slice', k, counts, launched, power, hits } where hits[i]
-//     is screen i's [u, v, du, dv, dw, opl, weight, source] typed arrays
-//     (transferred; absent for a kept slice),
-//   { gen, type: 'done', reportText, launched, escaped, absorbed, ms, spots,
-//     analysis } after a merge,
+//   { gen, type: 'slice', k, counts, launched, power, limit, hits } where
+//     limit is the hit cap the slice stopped at (undefined when it ran to
+//     the end) and hits[i] is screen i's [u, v, du, dv, dw, opl, weight,
+//     source] typed arrays (transferred; absent for a kept slice),
+//   { gen, type: 'done', reportText, launched, escaped, absorbed, ms, limit
+//     (the core's message, or null), spots, analysis } after a merge,
 //   { gen, type: 'error', message }.
 
 import init, { Session } from '../pkg/catoptric.js';
@@ -43,9 +45,10 @@ self.onmessage = async (ev) => {
   }
 };
 
-function traceSlice(s, { gen, layout, rays, k, parts, keep }) {
+function traceSlice(s, { gen, layout, rays, maxHits, k, parts, keep }) {
   keptGen = null;
   s.load_json(layout);
+  s.set_max_hits(maxHits);
   let last = 0;
   s.trace_slice(rays, k, parts, (done, total) => {
     const now = performance.now();
@@ -54,7 +57,10 @@ function traceSlice(s, { gen, layout, rays, k, parts, keep }) {
       self.postMessage({ gen, type: 'progress', k, done, total });
     }
   });
-  const msg = { gen, type: 'slice', k, counts: s.slice_counts(), launched: s.slice_launched_by_source(), power: s.slice_power_by_source() };
+  const msg = {
+    gen, type: 'slice', k, counts: s.slice_counts(), launched: s.slice_launched_by_source(), power: s.slice_power_by_source(),
+    limit: s.slice_limit(),
+  };
   if (keep) {
     s.clear_slices();
     s.keep_slice();
@@ -73,7 +79,7 @@ function merge(s, { gen, rays, parts, ms, slices }) {
   keptGen = null;
   for (let k = 1; k < parts; k++) {
     const p = slices[k];
-    s.add_slice(p.counts, p.launched, p.power);
+    s.add_slice(p.counts, p.launched, p.power, p.limit);
     for (const cols of p.hits) s.add_slice_hits(cols);
     slices[k] = null;
   }
@@ -113,6 +119,7 @@ function postDone(gen, s) {
     reportText: s.report_json(),
     launched: s.rays_launched(), escaped: s.rays_escaped(), absorbed: s.rays_absorbed(),
     ms: s.trace_ms(),
+    limit: s.limit_message() ?? null,
     spots,
   }, transfer);
 }

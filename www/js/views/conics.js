@@ -4,7 +4,7 @@
 // third-order limits for a sphere and for the conic constant. Figures from
 // `compare_conics_json` (the document of `catoptric compare --json`).
 
-import { compare_conics_json } from '../../pkg/catoptric.js';
+import { api } from '../wasm.js';
 import {
   Form, button, conicMirror, csvText, debounce, denoise, errText, figureTable, fmtNum, heading, linePlot, para, rowTable,
   saveCsv, unitOf, visible,
@@ -104,7 +104,7 @@ export class ConicsView {
     const f = this.form;
     let r;
     try {
-      r = JSON.parse(compare_conics_json(f.num('radius'), f.num('diameter'), f.text('conics'), f.num('wavelength')));
+      r = JSON.parse(api().compare_conics_json(f.num('radius'), f.num('diameter'), f.text('conics'), f.num('wavelength')));
     } catch (e) {
       this.result = null;
       f.showError(errText(e));

@@ -4,7 +4,7 @@
 // Figures from `two_mirror_json` and `off_axis_json` (the documents of
 // `catoptric design … --json`).
 
-import { off_axis_json, two_mirror_json } from '../../pkg/catoptric.js';
+import { api } from '../wasm.js';
 import { Form, button, csvText, debounce, errText, figureTable, heading, para, pick, saveCsv, visible } from './common.js';
 
 const TYPES = [
@@ -136,7 +136,7 @@ export class DesignersView {
       figures: TWO_MIRROR_FIGURES,
       note: 'Radii are signed as in layouts: concave +, convex −. Closed forms from the first-order layout; open the layout to trace it.',
       run: (f) => {
-        const d = JSON.parse(two_mirror_json(f.text('type'), f.num('diameter'), f.num('primary_focal'), f.num('focal'), f.num('back_focus'), f.num('field_deg')));
+        const d = JSON.parse(api().two_mirror_json(f.text('type'), f.num('diameter'), f.num('primary_focal'), f.num('focal'), f.num('back_focus'), f.num('field_deg')));
         d.obstruction_pct = 100 * d.obstruction_fraction;
         return d;
       },
@@ -153,7 +153,7 @@ export class DesignersView {
       ],
       figures: OFF_AXIS_FIGURES,
       note: 'A segment of a paraboloid: light parallel to the parent axis meets at the parent focus, clear of the incoming beam. The same geometry places the feed of an offset dish.',
-      run: (f) => JSON.parse(off_axis_json(f.num('parent_focal'), f.num('offset'), f.num('diameter'))),
+      run: (f) => JSON.parse(api().off_axis_json(f.num('parent_focal'), f.num('offset'), f.num('diameter'))),
     });
     const caution = document.createElement('p');
     caution.className = 'caution inline';

@@ -4,7 +4,7 @@
 // (colour_map_rgba: an OKLab colour map of our own, lightness rising with
 // flux) and go on the canvas as one ImageData.
 
-import { colour_map_rgba } from '../../pkg/catoptric.js';
+import { api } from '../wasm.js';
 import { fmtNum, withUnit } from '../format.js';
 import { prepareCanvas, ticks, tickLabel } from './plot.js';
 import { chosen, figureList, visible } from './data.js';
@@ -60,7 +60,7 @@ export class FluxView {
     this.current = c;
     // The map's pixels: built once per result and screen.
     if (f && f.peak > 0) {
-      const px = colour_map_rgba(f.grid, 0, f.peak);
+      const px = api().colour_map_rgba(f.grid, 0, f.peak);
       this.off.width = f.nx;
       this.off.height = f.ny;
       this.off.getContext('2d').putImageData(new ImageData(px, f.nx, f.ny), 0, 0);
@@ -68,7 +68,7 @@ export class FluxView {
       for (let i = 0; i < BAR_STEPS; i++) ramp[i] = BAR_STEPS - 1 - i;
       this.bar.width = 1;
       this.bar.height = BAR_STEPS;
-      this.bar.getContext('2d').putImageData(new ImageData(colour_map_rgba(ramp, 0, BAR_STEPS - 1), 1, BAR_STEPS), 0, 0);
+      this.bar.getContext('2d').putImageData(new ImageData(api().colour_map_rgba(ramp, 0, BAR_STEPS - 1), 1, BAR_STEPS), 0, 0);
     }
     this.draw();
     this.figures(c);

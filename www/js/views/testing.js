@@ -6,7 +6,7 @@
 // traced in the editor. Figures from `zone_table_json`,
 // `measured_readings_json` and `measured_csv_json`.
 
-import { measured_csv_json, measured_readings_json, zone_table_json } from '../../pkg/catoptric.js';
+import { api } from '../wasm.js';
 import {
   Form, button, conicMirror, csvText, debounce, errText, figureTable, fmtNum, heading, para, rowTable, saveCsv,
   visible,
@@ -128,7 +128,7 @@ export class TestingView {
     let t;
     try {
       const d = this.design();
-      t = JSON.parse(zone_table_json(d.radius, d.conic, d.diameter, f.num('zones'), f.text('source'), f.num('wavelength')));
+      t = JSON.parse(api().zone_table_json(d.radius, d.conic, d.diameter, f.num('zones'), f.text('source'), f.num('wavelength')));
     } catch (e) {
       this.table = null;
       f.showError(errText(e));
@@ -208,7 +208,7 @@ export class TestingView {
     let doc;
     try {
       const d = this.design();
-      doc = JSON.parse(measured_readings_json(d.radius, d.conic, d.diameter, new Float64Array(pairs), this.mform.num('tolerance_nm')));
+      doc = JSON.parse(api().measured_readings_json(d.radius, d.conic, d.diameter, new Float64Array(pairs), this.mform.num('tolerance_nm')));
     } catch (e) {
       // readings[i] is the i-th filled zone: say which zone it is.
       const text = errText(e).replace(/^readings\[(\d+)\]/, (_, j) => `zone ${zoneOf[Number(j)] + 1} reading (readings[${j}])`);
@@ -260,7 +260,7 @@ export class TestingView {
     let doc;
     try {
       const d = this.design();
-      doc = JSON.parse(measured_csv_json(d.radius, d.conic, d.diameter, this.csv.text, this.mform.num('tolerance_nm')));
+      doc = JSON.parse(api().measured_csv_json(d.radius, d.conic, d.diameter, this.csv.text, this.mform.num('tolerance_nm')));
     } catch (e) {
       this.measured = null;
       this.showMeasured(`${this.csv.name}: ${errText(e)}`);
