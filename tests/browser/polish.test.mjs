@@ -264,7 +264,7 @@ describe('acceptance-pass regressions: keeping work', () => {
       await page.goto(server.url);
       await settled(page);
       await page.fill('#layout-name', 'my mirror, half parabolized');
-      await page.waitForFunction(() => JSON.parse(localStorage.getItem('catoptric.autosave.v1')).name === 'my mirror, half parabolized');
+      await page.waitForFunction(() => window.catoptric.history.latest()?.name === 'my mirror, half parabolized');
       const link = await page.evaluate(async () => {
         const r = await fetch('presets/cassegrain.json');
         const s = new window.catoptric.session.constructor();
