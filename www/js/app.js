@@ -10,7 +10,8 @@
 // thread traces at most MAIN_RAYS rays and MAIN_WORK element tests (the
 // core's worst-case estimate) and records at most MAIN_MAX_HITS hits: a
 // layout above that gets a preview here and its full trace on the worker
-// pool (pool.js); a layout above the core's work budget is paused until the
+// pool (pool.js), as does a trace here that reaches MAIN_MAX_HITS; a layout
+// above the core's work budget is paused until the
 // user asks for it (#trace-notice). A trace that stops at a limit keeps
 // the layout and says why.
 //
@@ -34,9 +35,12 @@ import { exportAnalysis } from './views/analysis-export.js';
 /** Most rays the page's own thread traces (previews and small layouts). */
 const MAIN_RAYS = 20_000;
 /** Most worst-case element tests (work_estimate) the page's own thread traces. */
-const MAIN_WORK = 2e7;
-/** Most screen hits a trace on the page's own thread records. */
-const MAIN_MAX_HITS = 1_000_000;
+const MAIN_WORK = 5e6;
+/**
+ * Most screen hits a trace on the page's own thread records (≈ 15 MB); a
+ * full trace that would record more is handed to the pool.
+ */
+const MAIN_MAX_HITS = 250_000;
 const SETTLE_MS = 300;
 const MAX_FILE_BYTES = 16 << 20;
 const UNDO_DEPTH = 200;
@@ -604,10 +608,11 @@ class App {
     const gen = this.traceGen;
     if (this.result && this.result.gen === gen && this.result.kind === 'full') return;
     if (this.liveRaf) { cancelAnimationFrame(this.liveRaf); this.liveRaf = 0; }
-    if (this.fitsMain()) {
+    const handedOver = () => this.result?.gen === gen && this.result.overMain;
+    if (this.fitsMain() && !handedOver()) {
       this.hideNotice();
       this.traceMain(gen, undefined);
-      return;
+      if (!handedOver()) return;
     }
     if (!this.result || this.result.gen !== gen) this.traceMain(gen, this.previewRays());
     if (gen !== this.traceGen) return; // the preview failed and the page moved on
@@ -631,13 +636,15 @@ class App {
     const work = s.work_estimate(undefined);
     const budget = api().Session.work_budget();
     const pre = this.result?.gen === this.traceGen && this.result.kind === 'preview' ? this.result : null;
-    const what = pre ? `The figures are from a preview of ${fmtInt(pre.launched)} rays.` : 'Nothing has been traced yet.';
+    const what = !pre ? 'Nothing has been traced yet.'
+      : pre.limit ? `A preview of ${fmtInt(pre.launched)} rays stopped at a limit too: ${pre.limit}.`
+        : `The figures are from a preview of ${fmtInt(pre.launched)} rays.`;
     this.setTraceState('paused');
     this.notice('paused', [
       b('Full trace paused. '),
       `This layout could take up to ${sci(work)} ray–element tests (${fmtInt(s.layout_rays())} rays, max_bounces ${this.layout.max_bounces}), `,
       `above the budget of ${sci(budget)}: it might run for minutes. ${what} `,
-      'Lower the rays or max_bounces to trace at once, or ',
+      'Lower the rays or max_bounces and it traces at once.',
     ], { label: 'Trace anyway', title: 'Run the full trace in the background workers; Stop ends it', run: () => this.traceAnyway() });
   }
 
@@ -684,15 +691,19 @@ class App {
       return;
     }
     this.refreshFan();
+    const limit = s.limit_message() ?? null;
+    // A whole trace here that reached this thread's hit cap goes to the pool.
+    const overMain = perSource === undefined && limit !== null;
     const res = {
       gen,
-      kind: perSource === undefined ? 'full' : 'preview',
+      kind: perSource === undefined && !overMain ? 'full' : 'preview',
+      overMain,
       reportText: s.report_json(),
       launched: s.rays_launched(),
       escaped: s.rays_escaped(),
       absorbed: s.rays_absorbed(),
       ms: s.trace_ms(),
-      limit: s.limit_message() ?? null,
+      limit,
       spots: new Map(),
       spot: null,
     };
@@ -725,7 +736,8 @@ class App {
   setResult(res, gen = res?.gen) {
     this.result = res;
     const none = !res;
-    this.setTraceState(none ? 'preview' : res.limit && res.kind === 'full' ? 'limit' : res.kind);
+    const stopped = res?.limit && res.kind === 'full';
+    this.setTraceState(none ? 'preview' : stopped ? 'limit' : res.kind);
     $('ro-rays').textContent = none ? '–' : fmtInt(res.launched);
     $('ro-rays').title = none ? 'Too costly to preview here' : `${fmtInt(res.launched)} rays launched`;
     $('ro-fate').textContent = none ? '–' : `${fmtInt(res.escaped)} / ${fmtInt(res.absorbed)}`;
@@ -739,7 +751,7 @@ class App {
       time.removeAttribute('title');
     }
     const kind = $('trace-notice').dataset.kind;
-    if (res?.limit) this.showLimit(res);
+    if (stopped) this.showLimit(res);
     else if (gen === this.traceGen && (kind === 'limit' || (kind === 'paused' && res?.kind === 'full'))) this.hideNotice();
     this.updateScreens();
     this.updateFigures();
@@ -750,9 +762,8 @@ class App {
 
   /** A trace stopped at a limit: its message, and the layout stays as it is. */
   showLimit(res) {
-    const which = res.kind === 'full' ? 'The trace' : 'The preview trace';
     this.notice('limit', [
-      b(`${which} stopped at a limit: `),
+      b('The trace stopped at a limit: '),
       `${res.limit}. `,
       'Your layout is unchanged; the screens show no hits from this trace.',
     ]);
@@ -1034,7 +1045,7 @@ class App {
     const typing = t && (t.tagName === 'INPUT' || t.tagName === 'TEXTAREA' || t.tagName === 'SELECT');
     const ctrl = e.ctrlKey || e.metaKey;
     if (e.key === 'Escape') {
-      for (const id of ['help', 'share']) if (!$(id).hidden) { $(id).hidden = true; e.preventDefault(); return; }
+      for (const id of ['help', 'share', 'history-menu']) if (!$(id).hidden) { $(id).hidden = true; e.preventDefault(); return; }
       if (typing) { t.blur(); return; }
     }
     if (ctrl && e.key.toLowerCase() === 's') { e.preventDefault(); this.save(); return; }

@@ -229,7 +229,7 @@ export class Props {
     const ns = L.elements.length - nm;
     const rays = L.sources.reduce((a, x) => a + x.rays, 0);
     this.note(s, `${nm} mirror${nm === 1 ? '' : 's'}, ${ns} screen${ns === 1 ? '' : 's'}, ${L.sources.length} source${L.sources.length === 1 ? '' : 's'}; ${fmtInt(rays)} rays in a full trace.`);
-    this.note(s, 'Click an item in the drawing to edit it, or add one with the toolbox on the left. Above 200 000 rays the full trace runs in the background while a quicker preview follows your edits.');
+    this.note(s, 'Click an item in the drawing to edit it, or add one with the toolbox on the left. Above 20 000 rays (or with many bounces) the full trace runs in the background while a quicker preview follows your edits; a layout that could take minutes waits until you ask for it.');
     this.derived = [];
   }
 

@@ -8,7 +8,9 @@
 // (`guardSession`): when a call fails that way, the guard swaps in a
 // session made on a fresh instance of the module (its own memory), loads
 // the last good layout into it, and rethrows a readable error. A spare
-// instance is kept ready so the swap needs no await.
+// instance is kept ready so the swap needs no await. The module is compiled
+// once: instances are made from the compiled module, and the spare's glue
+// is imported while the page starts, so a recovery fetches nothing.
 //
 // Stateless functions (designers, tables, colour maps) are reached through
 // `api()`, which follows the instance the session runs on.
@@ -19,24 +21,43 @@ let current = firstModule;
 let instances = 1;
 let spare = null;
 let spareLoading = null;
+/** The compiled module every instance is made from. */
+let compiled = null;
+/** The next instance's glue (a fresh import: its own `wasm` variable). */
+let nextGlue = null;
 
 /** The module namespace now in use (functions and the Session class). */
 export function api() {
   return current;
 }
 
-/** Instantiates the module the page starts with. */
+function importGlue() {
+  const url = new URL('../pkg/catoptric.js', import.meta.url);
+  url.searchParams.set('instance', String(++instances));
+  return import(url.href);
+}
+
+/** Compiles the module and instantiates the one the page starts with. */
 export async function startWasm() {
-  await init();
+  const url = new URL('../pkg/catoptric_bg.wasm', import.meta.url);
+  nextGlue = importGlue();
+  nextGlue.catch(() => { nextGlue = null; });
+  try {
+    compiled = await WebAssembly.compileStreaming(fetch(url));
+  } catch {
+    compiled = await WebAssembly.compile(await (await fetch(url)).arrayBuffer());
+  }
+  await init({ module_or_path: compiled });
+  try { await nextGlue; } catch { /* made again when needed */ }
   return current;
 }
 
-/** A new instance of the module: a fresh import of its glue, so fresh memory. */
+/** A new instance of the module, with fresh memory. */
 async function loadInstance() {
-  const url = new URL('../pkg/catoptric.js', import.meta.url);
-  url.searchParams.set('instance', String(++instances));
-  const mod = await import(url.href);
-  await mod.default();
+  const glue = nextGlue ?? importGlue();
+  nextGlue = null;
+  const mod = await glue;
+  await mod.default(compiled ? { module_or_path: compiled } : undefined);
   return mod;
 }
 
