@@ -288,6 +288,22 @@ describe('wasm traps', () => {
       assert.equal(await layoutName(page), 'A file after the trap');
       const log = await page.evaluate(() => document.getElementById('message-text').textContent);
       assert.doesNotMatch(log, /recursive use/);
+
+      // A layout whose trace traps every time: one retry, then the trace
+      // waits for the user (no loop of traces and traps).
+      await page.evaluate(() => {
+        const app = window.catoptric;
+        app.realTraceMain = app.traceMain;
+        app.traceMain = function trapping() { this.session.__trapForTests(); };
+        app.requestTrace(false);
+      });
+      await page.waitForFunction(() => document.body.dataset.trace === 'paused');
+      assert.equal(await page.evaluate(() => document.body.dataset.recoveries), '4');
+      await page.evaluate(() => { const app = window.catoptric; app.traceMain = app.realTraceMain; });
+      assert.match(await page.locator('#trace-notice').innerText(), /stopped the WebAssembly module twice/);
+      await page.click('#trace-notice-action');
+      await settled(page);
+      assert.equal(await layoutName(page), 'A file after the trap');
     } finally {
       await ctx.close();
     }

@@ -453,7 +453,23 @@ class App {
     this.message(ok
       ? `The WebAssembly module stopped (${what}) and was restarted with your layout; you can go on working.`
       : `The WebAssembly module stopped (${what}) and was restarted, but your layout could not be reloaded into it; it is still in History.`);
-    this.requestTrace(false);
+    // Trace again, unless this very layout stopped the module before: then
+    // wait for the user rather than loop.
+    const json = this.currentJson();
+    const again = this.trapJson === json;
+    this.trapJson = json;
+    if (again) {
+      this.traceGen++;
+      clearTimeout(this.fullTimer);
+      if (this.liveRaf) { cancelAnimationFrame(this.liveRaf); this.liveRaf = 0; }
+      this.setTraceState('paused');
+      this.notice('paused', [
+        b('Trace paused. '),
+        'Tracing this layout stopped the WebAssembly module twice in a row; change it (fewer rays or bounces) or trace it once more.',
+      ], { label: 'Trace again', title: 'Trace this layout once more', run: () => { this.hideNotice(); this.requestTrace(false); } });
+    } else {
+      this.requestTrace(false);
+    }
     this.requestDraw();
   }
 
@@ -737,6 +753,7 @@ class App {
     this.result = res;
     const none = !res;
     const stopped = res?.limit && res.kind === 'full';
+    if (res?.kind === 'full') this.trapJson = null; // traced through: no trap loop
     this.setTraceState(none ? 'preview' : stopped ? 'limit' : res.kind);
     $('ro-rays').textContent = none ? '–' : fmtInt(res.launched);
     $('ro-rays').title = none ? 'Too costly to preview here' : `${fmtInt(res.launched)} rays launched`;

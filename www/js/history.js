@@ -53,8 +53,11 @@ function nameOf(json) {
 }
 
 export class History {
-  constructor(storage = globalThis.localStorage, session = globalThis.sessionStorage) {
-    this.store = storage;
+  /** `storage`, `session`: Storage objects (the page's, by default). */
+  constructor(storage = undefined, session = undefined) {
+    // Reading localStorage itself throws where storage is switched off.
+    try { this.store = storage ?? globalThis.localStorage ?? null; } catch { this.store = null; }
+    try { session ??= globalThis.sessionStorage; } catch { session = null; }
     this.tab = this.tabId(session);
     /** Error of the last save, or null when it worked. */
     this.failure = null;
