@@ -16,7 +16,7 @@ use super::session::Session;
 use crate::analysis::{caustic_raster, longitudinal_aberration, Analyses, SourceCurves, SourceReport, MAX_RASTER_SIDE};
 use crate::layout::Source;
 use crate::pixels::{caustic_rgba, map_rgba};
-use crate::trace::trace_fan;
+use crate::trace::{trace_fan, work_estimate};
 use js_sys::Uint8Array;
 use wasm_bindgen::prelude::*;
 use wasm_bindgen::Clamped;
@@ -25,6 +25,10 @@ use wasm_bindgen::Clamped;
 pub const MAX_CAUSTIC_RAYS: u32 = 20_000;
 /// Most meridional rays of a longitudinal aberration curve.
 pub const MAX_LONGITUDINAL_RAYS: u32 = 2001;
+/// Most worst-case element tests (`trace::work_estimate`) a view may trace
+/// on the page's thread (the caustic layer, the longitudinal curve): in a
+/// cavity they get fewer rays, or refuse.
+pub const MAX_VIEW_WORK: u64 = 20_000_000;
 
 /// What the views keep between calls.
 #[derive(Default)]
@@ -87,6 +91,9 @@ impl Session {
     pub fn longitudinal_curve(&self, screen: usize, source: usize, rays: u32) -> Result<Option<Vec<f64>>, JsError> {
         if !(2..=MAX_LONGITUDINAL_RAYS).contains(&rays) {
             return Err(JsError::new(&format!("longitudinal rays: must be between 2 and {MAX_LONGITUDINAL_RAYS} (got {rays})")));
+        }
+        if work_estimate(&self.scene, u64::from(rays)) > MAX_VIEW_WORK {
+            return Err(JsError::new("longitudinal curve: this layout's rays could bounce too often to trace the curve here"));
         }
         Ok(longitudinal_aberration(&self.scene, screen, source, rays as usize)
             .filter(|la| !la.height.is_empty())
@@ -155,7 +162,13 @@ impl Session {
         if ![y0, z0, y1, z1].iter().all(|v| v.is_finite()) || y1 <= y0 || z1 <= z0 {
             return Err(JsError::new("caustic view: needs finite corners with y1 > y0 and z1 > z0"));
         }
-        let fan = trace_fan(&self.scene, rays as usize, None);
+        // Fewer rays where each could bounce on and on (a cavity).
+        let sources = self.scene.sources.len().max(1) as u64;
+        let fits = MAX_VIEW_WORK / work_estimate(&self.scene, 1).max(1).saturating_mul(sources);
+        if fits == 0 {
+            return Err(JsError::new("caustic: this layout's rays could bounce too often to draw the caustic here"));
+        }
+        let fan = trace_fan(&self.scene, u64::from(rays).min(fits) as usize, None);
         let density = caustic_raster(&fan, [y0, z0, y1, z1], width, height);
         // A deep brown-red on the light ground, a warm yellow on the dark one.
         let colour = if dark { [255, 204, 110] } else { [150, 45, 10] };

@@ -53,6 +53,10 @@ use wasm_bindgen::JsCast;
 pub const DEFAULT_FAN_RAYS: usize = 64;
 /// Most fan rays per source the page may ask for.
 pub const MAX_FAN_RAYS: usize = 4096;
+/// Most worst-case element tests (`trace::work_estimate`) a fan may cost:
+/// the fan is traced on the page's own thread after every edit, so in a
+/// cavity (many bounces, many screens) it gets fewer rays, or none.
+pub const MAX_FAN_WORK: u64 = 20_000_000;
 /// Points per mirror outline (each side of a central hole gets its share).
 const OUTLINE_POINTS: usize = 97;
 /// Most slices a pooled trace may be cut into.
@@ -119,6 +123,9 @@ pub struct Session {
     report: String,
     fan: Fan,
     fan_rays: usize,
+    /// Fan rays per source of the last fan (`fan_rays` or fewer; see
+    /// [`MAX_FAN_WORK`]).
+    fan_traced: usize,
     /// Outline points [y, z, y, z, …] (mm) of every element.
     outline: Vec<f32>,
     /// Outline spans as (element index, first point, point count) triples.
@@ -161,6 +168,7 @@ impl Session {
             report: String::new(),
             fan: Fan::default(),
             fan_rays: DEFAULT_FAN_RAYS,
+            fan_traced: 0,
             outline: Vec::new(),
             spans: Vec::new(),
             spot_uv: Vec::new(),
@@ -416,11 +424,22 @@ impl Session {
         self.finish_trace(rays, trace_ms)
     }
 
-    /// Re-traces only the fan (cheap: a few hundred rays).
+    /// Re-traces only the fan (cheap: a few hundred rays, fewer when each
+    /// ray could cost much; see [`MAX_FAN_WORK`]).
     pub fn retrace_fan(&mut self) {
         let t0 = now_ms();
-        self.fan = trace_fan(&self.scene, self.fan_rays, None);
+        let sources = self.scene.sources.len().max(1) as u64;
+        let per_ray = work_estimate(&self.scene, 1).max(1);
+        let fits = MAX_FAN_WORK / per_ray.saturating_mul(sources);
+        self.fan_traced = (self.fan_rays as u64).min(fits) as usize;
+        self.fan = if self.fan_traced > 0 { trace_fan(&self.scene, self.fan_traced, None) } else { Fan::default() };
         self.fan_ms = now_ms() - t0;
+    }
+
+    /// Fan rays per source the last fan traced: the asked-for count, or
+    /// fewer (0: no fan) when the layout makes each ray costly.
+    pub fn fan_rays_traced(&self) -> usize {
+        self.fan_traced
     }
 
     /// Fan rays per source (1 … 4096); takes effect at the next trace.
