@@ -145,6 +145,9 @@ describe('bounded work', () => {
       await page.click('#trace-notice-action');
       await page.waitForFunction(() => document.body.dataset.trace === 'running' && !document.getElementById('progress').hidden);
       assert.equal(await notice.isHidden(), true);
+      // Stop once the workers are tracing (ending them while they still load
+      // the module would only abort those requests).
+      await page.waitForFunction(() => document.getElementById('progress-text').textContent !== '0 %', null, { timeout: READY_MS });
       await page.click('#progress-cancel');
       await page.waitForFunction(() => document.body.dataset.trace === 'preview' && document.getElementById('progress').hidden);
       assert.equal(await page.evaluate(() => window.catoptric.background.busy), false);
@@ -159,6 +162,28 @@ describe('bounded work', () => {
       await settled(page);
       assert.equal(await layoutName(page), 'Earlier work');
       assert.equal(await notice.isHidden(), true);
+      assert.deepEqual(seen.errors, []);
+    } finally {
+      await ctx.close();
+    }
+  });
+
+  test('1,000 rays between 254 screens in a cavity: opens paused at once, without even the fan', async () => {
+    const layout = cavity({ name: 'Screens in a cavity', rays: 1000, screens: 254 });
+    layout.elements.slice(2).forEach((e, i) => { e.center = [0, 10 + 0.3 * i]; });
+    const ctx = await newContext(2);
+    try {
+      const { page, seen } = await openPage(ctx);
+      await settled(page);
+      await openFile(page, writeLayout(layout));
+      await page.waitForFunction(() => document.body.dataset.trace === 'paused', null, { timeout: 20_000 });
+      assert.match(await page.locator('#trace-notice').innerText(), /6\.5 × 10¹⁰ ray–element tests.*not even the ray fan/s);
+      assert.equal(await page.evaluate(() => window.catoptric.session.fan_rays_traced()), 0);
+      assert.ok(await page.evaluate(() => window.longestTask) < 3000, 'no long freeze of the page');
+      // The caustic layer refuses rather than freeze (its rays fit no bound here).
+      await page.click('[data-action="caustic"]');
+      await page.waitForFunction(() => /caustic could not be drawn: .*bounce too often/.test(document.getElementById('message-text').textContent));
+      assert.ok(await page.evaluate(() => window.longestTask) < 3000, 'still no long freeze');
       assert.deepEqual(seen.errors, []);
     } finally {
       await ctx.close();

@@ -652,7 +652,7 @@ class App {
     const work = s.work_estimate(undefined);
     const budget = api().Session.work_budget();
     const pre = this.result?.gen === this.traceGen && this.result.kind === 'preview' ? this.result : null;
-    const what = !pre ? 'Nothing has been traced yet.'
+    const what = !pre ? `Nothing has been traced yet${s.fan_rays_traced() ? '' : ', not even the ray fan'}.`
       : pre.limit ? `A preview of ${fmtInt(pre.launched)} rays stopped at a limit too: ${pre.limit}.`
         : `The figures are from a preview of ${fmtInt(pre.launched)} rays.`;
     this.setTraceState('paused');
