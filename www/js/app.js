@@ -1142,7 +1142,7 @@ class App {
     if (failed.length) {
       const f = failed[0];
       const then = opened ? ` Opened the version of “${opened.name}” saved ${clock(opened.t)} instead.` : '';
-      this.message(`The layout “${f.name}” kept from ${clock(f.t)} could not be restored: ${f.error}. It is kept as it was (History → Download).${then}`);
+      this.message(`The layout “${f.name}” saved ${f.t > 1 ? `at ${clock(f.t)}` : 'earlier'} could not be restored: ${f.error}. It is kept as it was (History → Download).${then}`);
       const box = $('message-text');
       const dl = document.createElement('button');
       dl.type = 'button';
