@@ -5,7 +5,7 @@
 //! point of the ray incident at angle θ lies (R/4)(3 cos θ − cos 3θ) from
 //! the centre along the axis and R sin³θ from it (Lawrence, A Catalog of
 //! Special Plane Curves, Dover 1972; Lockwood, A Book of Curves, 1961;
-//! REFERENCES row 10, worked example R = 1000, h = 100 → (507.44, 1.000)).
+//! computed independently for R = 1000, h = 100 → (507.44, 1.000)).
 
 mod analysis_support;
 use analysis_support::*;

@@ -32,11 +32,11 @@ fn f5_star(field_deg: f64, center: [f64; 2], axis_deg: f64) -> String {
     )
 }
 
-/// Focal property of the paraboloid (REFERENCES #12): the wavefront is a
+/// Focal property of the paraboloid (any analytic-geometry text): the wavefront is a
 /// perfect sphere about the focus wherever the screen stands — defocused
 /// either way or tilted — so the residual after removing piston, tilt and
 /// defocus is zero, Strehl 1, and the best point found is the focus.
-/// The closed-form best focus (quadratic RMS²(s), DESIGN.md §6) on a tilted
+/// The closed-form best focus (quadratic RMS²(s), derived in src/analysis/focus.rs) on a tilted
 /// screen is the shift (F − C)·a along the screen axis a, where the spot
 /// is a point.
 #[test]
@@ -67,8 +67,7 @@ fn perfect_focus_seen_on_defocused_and_tilted_screens() {
 
 /// Third-order coma of a paraboloid with the stop at the mirror: linear
 /// sagittal coma S = θ f/(16 N²) (Schroeder, Astronomical Optics, 2nd ed.,
-/// ch. 5, value from memory; the traced spot confirms it in
-/// sources_and_screens.rs), so the wavefront coefficient W131 = S/(2N) =
+/// ch. 5, value from memory), so the wavefront coefficient W131 = S/(2N) =
 /// θ f/(32 N³) (transverse aberration = −(f/a)∂W/∂ρ, standard third-order
 /// theory) and the RMS wavefront with tilt removed W131/√72 (Zernike
 /// normalisation; Mahajan, Optical Imaging and Aberrations, value from
@@ -104,11 +103,11 @@ fn off_axis_star_wavefront_is_third_order_coma_on_any_screen() {
     }
 }
 
-/// REFERENCES #8 (Schroeder, Astronomical Optics, 2nd ed., ch. 6, from
+/// Two-mirror closed forms (Schroeder, Astronomical Optics, 2nd ed., ch. 6, from
 /// memory; Wilson uses the opposite sign of m): over a range of
 /// magnifications and back-focus ratios the designer's numbers follow the
 /// closed forms, the Dall–Kirkham pair meets the spherical-aberration
-/// condition, classical forms (shared conic foci, REFERENCES #12) focus an
+/// condition, classical forms (shared conic foci) focus an
 /// axial beam to a point at B behind the primary, and the aplanats and the
 /// Dall–Kirkham (corrected to third order) stay within the Maréchal
 /// criterion on axis at these slow-ish focal ratios.
@@ -177,7 +176,7 @@ fn two_mirror_designs_over_a_range_of_parameters() {
 }
 
 /// A point lamp's launch point is a spherical wavefront; an ellipsoid turns
-/// it into one converging on the far focus (REFERENCES #12), so the
+/// it into one converging on the far focus (focal property of the ellipse), so the
 /// residual is zero and Strehl 1 on a screen set 3 mm off the focus and
 /// tilted 15°, and the closed-form best focus is the far focus.
 #[test]

@@ -1,8 +1,9 @@
 //! Flux maps and solar concentration.
 //!
 //! Sources: Rabl, Solar Energy 18, 93–111 (1976) and Active Solar
-//! Collectors and Their Applications (1985) (memory, ray-verified; see
-//! REFERENCES row 7): limits 1/sin²θs (3D) and 1/sin θs (2D); a paraboloidal
+//! Collectors and Their Applications (1985) (value from memory;
+//! Winston, Miñano & Benítez, Nonimaging Optics (2005) for the limits):
+//! limits 1/sin²θs (3D) and 1/sin θs (2D); a paraboloidal
 //! dish of rim angle φ with a flat circular receiver of radius
 //! ρ_rim sin θs / cos(φ + θs) reaches C = sin²φ cos²(φ+θs)/sin²θs − 1, a
 //! trough with a flat strip receiver C = sin φ cos(φ+θs)/sin θs − 1; the −1

@@ -1,6 +1,6 @@
 //! Best focus: the closed-form minimum of RMS spot radius versus screen
 //! shift, checked against a brute-force search over explicitly shifted
-//! hits (STYLE: a closed form against the general path), against a real
+//! hits (common practice: a closed form against the general path), against a real
 //! re-trace with the screen moved, and against third-order theory.
 
 mod analysis_support;
@@ -77,7 +77,8 @@ fn sphere_best_rms_focus_is_two_thirds_of_the_way_to_marginal_focus() {
     // aberration ε = Aρ³ + Bρ over a uniform pupil has mean square
     // A²/4 + 2AB/3 + B²/2, smallest at B = −2A/3, i.e. 2/3 of the way
     // from the paraxial to the marginal focus. Third-order marginal LSA of
-    // a mirror h²/(4R) (REFERENCES row 2; mirror-making texts, memory).
+    // a mirror h²/(4R) (third-order theory; value from memory, re-derived from the exact
+    // crossing R − R/(2 cos θ) of the circle).
     let (_, res) = run(&slow_sphere(0.0));
     let s = focus_fit(&res.screens[0], Some(0)).unwrap().best_shift().unwrap();
     let (h, r) = (75.0f64, 2400.0f64);
@@ -87,7 +88,7 @@ fn sphere_best_rms_focus_is_two_thirds_of_the_way_to_marginal_focus() {
 
 #[test]
 fn paraboloid_focus_needs_no_shift_and_collimated_light_has_none() {
-    // Parabola focal property (REFERENCES row 12): every axial ray meets
+    // Parabola focal property (any analytic-geometry text): every axial ray meets
     // the focus, so the best shift is 0 and the RMS there ~0.
     let p = layout(
         &[mirror("m", 1000.0, 2000.0, -1.0, 200.0, None), screen("s", 0.0, 0.0, 20.0, "square", false)],

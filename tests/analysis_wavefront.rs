@@ -6,7 +6,7 @@ use catoptric::analysis::{airy_radius, f_number, focus_fit, strehl_from_rms, tra
 
 #[test]
 fn airy_radius_for_550_nm_at_f8() {
-    // REFERENCES row 6 (Born & Wolf, Principles of Optics, 7th ed.; value
+    // Born & Wolf, Principles of Optics, 7th ed. (value
     // from memory): first zero 1.2197 λN → 5.367 µm at λ = 550 nm, N = 8.
     // We use the trade's 1.22, 0.03 % larger.
     let r_um = airy_radius(550e-6, 8.0) * 1e3;
@@ -16,7 +16,7 @@ fn airy_radius_for_550_nm_at_f8() {
 #[test]
 fn strehl_of_point_eight_needs_rms_of_about_lambda_over_13_3() {
     // Mahajan, JOSA 72, 1258 (1982), extended Maréchal exp(−(2πσ)²):
-    // S = 0.8 ⇔ σ ≈ λ/13.3 (REFERENCES row 6).
+    // S = 0.8 ⇔ σ ≈ λ/13.3.
     let s = strehl_from_rms(1.0 / 13.3);
     assert!(rel(s, 0.8) < 1e-3, "{s}");
     // Maréchal's criterion λ/14 then reads 0.82 in this form.
@@ -34,7 +34,7 @@ fn paraboloid_f5() -> String {
 fn working_f_number_of_an_f5_paraboloid() {
     // Image-space NA = sin θ (common practice). A paraboloid of focal
     // length f sends the ray at height h to its focus from a distance
-    // f + h²/(4f) (focus–directrix property, REFERENCES row 12), so the
+    // f + h²/(4f) (focus–directrix property of the parabola), so the
     // marginal ray of a 200 mm f/5 arrives at sin θ = 100 / 1002.5 and
     // N = 1/(2 sin θ) = 5.0125. The sampled rim falls a little short of
     // 100 mm, so allow 0.3 %.
@@ -45,7 +45,7 @@ fn working_f_number_of_an_f5_paraboloid() {
 
 #[test]
 fn paraboloid_on_axis_is_perfect() {
-    // Parabola focal property (REFERENCES row 12): a plane wave becomes a
+    // Parabola focal property (any analytic-geometry text): a plane wave becomes a
     // perfect spherical wave, so P-V ≈ 0 and Strehl ≈ 1.
     let (scene, res) = run(&paraboloid_f5());
     let r = trace_report(&scene, &res);
@@ -58,7 +58,7 @@ fn paraboloid_on_axis_is_perfect() {
 
 #[test]
 fn slow_sphere_wavefront_matches_third_order_spherical_aberration() {
-    // Third-order theory (REFERENCES row 5; value re-derived): a sphere's
+    // Third-order theory (value re-derived from the ρ⁴ term of the circle's series): a sphere's
     // wavefront departs from the paraboloid's by twice the surface
     // difference ρ⁴/(8R³), W040 = D⁴/(512 f³) = D/(512 N³) at the
     // paraxial focus; with defocus removed by least squares the residual
@@ -98,7 +98,7 @@ fn slow_sphere_wavefront_matches_third_order_spherical_aberration() {
 
 #[test]
 fn solar_disk_and_few_hits_give_null_keys() {
-    // By definition (DESIGN.md §5): an extended source has no single
+    // By definition (docs/FORMATS.md §3): an extended source has no single
     // wavefront; fewer than 3 hits carry no spread.
     let text = layout(
         &[mirror("m", 1000.0, 2000.0, -1.0, 200.0, None), screen("s", 0.0, 0.0, 40.0, "square", false)],

@@ -1,4 +1,4 @@
-//! The `catoptric` command's contract (DESIGN.md §5): JSON shape, exit
+//! The `catoptric` command's contract (docs/FORMATS.md §3): JSON shape, exit
 //! codes, nothing on stdout on error, exact link round trip.
 
 use std::process::Command;

@@ -1,5 +1,6 @@
 //! The `design`, `compare` and `zones` commands: JSON keys of the contract
-//! (DESIGN.md §5), the worked numbers of REFERENCES.md, and bad input
+//! (docs/FORMATS.md §3), numbers worked independently from the published closed forms
+//! named beside each check, and bad input
 //! refused with exit code 2 and nothing on stdout.
 
 use serde_json::Value;
@@ -32,7 +33,8 @@ fn rel(a: f64, b: f64) -> f64 {
 
 #[test]
 fn two_mirror_json_contract() {
-    // REFERENCES.md row 8 worked example (Schroeder, 2nd ed., ch. 6).
+    // Computed independently of this code from the closed forms of
+    // Schroeder, Astronomical Optics, 2nd ed. (2000), ch. 6 (from memory).
     let v = json(&[
         "design", "two-mirror", "--type", "ritchey-chretien", "--diameter", "300", "--primary-focal", "1200",
         "--focal", "3200", "--back-focus", "250", "--field-deg", "0.2", "--json",
@@ -70,7 +72,8 @@ fn two_mirror_writes_a_layout_the_trace_command_reads() {
 
 #[test]
 fn off_axis_json_contract() {
-    // REFERENCES.md row 9: f = 500, h = 200 → 22.6199°, 520 mm.
+    // Focus–directrix property of the parabola, computed independently:
+    // f = 500, h = 200 → 22.6199°, 520 mm.
     let v = json(&["design", "off-axis", "--parent-focal", "500", "--offset", "200", "--diameter", "100", "--json"]);
     has_keys(&v, &["off_axis_angle_deg", "reflected_focal_mm", "layout"]);
     assert!(rel(v["off_axis_angle_deg"].as_f64().unwrap(), 22.6199) < 5e-6);
@@ -91,7 +94,8 @@ fn off_axis_text_output_carries_the_sunlight_caution() {
 
 #[test]
 fn compare_json_contract() {
-    // REFERENCES.md row 5: D = 150, λ = 550 nm → N = 8.106.
+    // Third-order theory, sphere P-V D/(2048 N³) ≤ λ/4 (value from memory,
+    // re-derived): D = 150, λ = 550 nm → N = 8.106.
     let v = json(&["compare", "--radius", "2400", "--diameter", "150", "--conics", "0,-1,-0.5", "--json"]);
     has_keys(&v, &["conics", "sphere_fastest_f_ratio"]);
     let rows = v["conics"].as_array().unwrap();
@@ -107,7 +111,9 @@ fn compare_json_contract() {
 
 #[test]
 fn zones_json_contract() {
-    // REFERENCES.md rows 3 and 4: R = 2000 paraboloid, D = 200, 5 zones.
+    // Normal intercept ρ²/(2R) (Texereau, How to Make a Telescope, 2nd
+    // Eng. ed. 1984) and equal-area zones (Berry, Build Your Own Telescope,
+    // 2nd ed. 1994), both values from memory: R = 2000 paraboloid, D = 200, 5 zones.
     let v = json(&["zones", "--radius", "2000", "--conic", "-1", "--diameter", "200", "--zones", "5", "--json"]);
     assert_eq!(v["source"], "moving");
     let z = v["zones"].as_array().unwrap();

@@ -2,7 +2,8 @@
 //! readings, and the zones that need work.
 //!
 //! Reference: the moving-source reading is the normal intercept
-//! z + ρ/z′ − R (REFERENCES.md row 3); a surface built from known
+//! z + ρ/z′ − R (where the normal at (ρ, z) meets the axis: elementary
+//! calculus); a surface built from known
 //! departures must come back from its own readings.
 
 use catoptric::analysis::spot_stats;

@@ -1,4 +1,4 @@
-//! Zonal mask and knife-edge readings (REFERENCES.md rows 3 and 4).
+//! Zonal mask and knife-edge readings for a centre-of-curvature test.
 
 use catoptric::design::{
     best_fit_sphere, fixed_source_reading, moving_source_reading, zone_edges, zone_table, TestSource,
@@ -10,7 +10,7 @@ fn rel(a: f64, b: f64) -> f64 {
 
 #[test]
 fn equal_area_zone_edges() {
-    // Berry, Build Your Own Telescope, 2nd ed. (1994); REFERENCES.md row 4:
+    // Berry, Build Your Own Telescope, 2nd ed. (1994), value from memory:
     // a = 100, N = 5 → 44.72, 63.25, 77.46, 89.44, 100.
     let e = zone_edges(200.0, 5);
     assert_eq!(e[0], 0.0);
@@ -28,8 +28,8 @@ fn equal_area_zone_edges() {
 
 #[test]
 fn moving_source_readings_are_normal_intercepts() {
-    // Normal intercept −K z(ρ) (REFERENCES.md row 3; Texereau, How to Make
-    // a Telescope, 2nd Eng. ed. 1984): R = 2000 paraboloid,
+    // Normal intercept −K z(ρ) (Texereau, How to Make a Telescope, 2nd
+    // Eng. ed. 1984, value from memory): R = 2000 paraboloid,
     // ρ = 30/50/70/90 → 0.225/0.625/1.225/2.025 mm (ρ²/(2R), exact).
     for (rho, want) in [(30.0, 0.225), (50.0, 0.625), (70.0, 1.225), (90.0, 2.025)] {
         let got = moving_source_reading(2000.0, -1.0, rho);
@@ -41,9 +41,10 @@ fn moving_source_readings_are_normal_intercepts() {
 
 #[test]
 fn fixed_source_readings_from_the_exact_geometry() {
-    // REFERENCES.md row 3, exact trace with the source fixed at the vertex
-    // centre of curvature: 0.45005/1.25039/2.45150/4.05410 mm (≈ ρ²/R,
-    // Texereau / Thompson, approximate).
+    // Exact reflection (law of reflection; computed independently of this
+    // code) with the source fixed at the vertex centre of curvature:
+    // 0.45005/1.25039/2.45150/4.05410 mm (≈ ρ²/R, Texereau, How to Make a
+    // Telescope, 2nd Eng. ed. 1984; approximate).
     for (rho, want) in [(30.0, 0.45005), (50.0, 1.25039), (70.0, 2.45150), (90.0, 4.05410)] {
         let got = fixed_source_reading(2000.0, -1.0, rho, 0.0);
         assert!((got - want).abs() < 6e-6, "ρ {rho}: {got} vs {want}");

@@ -24,8 +24,8 @@ fn max_miss(layout: &catoptric::Layout, i: usize) -> (usize, f64) {
     (h.len(), worst)
 }
 
-/// REFERENCES #1: ISO 10110-12:2019 sag form, worked values for R = 1000,
-/// ρ = 100 (computed independently in REFERENCES.md).
+/// ISO 10110-12:2019 sag form, worked values for R = 1000, ρ = 100
+/// (computed independently of this code from that formula).
 #[test]
 fn iso_10110_12_sag_values() {
     for (k, want) in [(-1.0, 5.00000), (0.0, 5.01256), (0.5, 5.01889), (-2.0, 4.98756)] {
@@ -41,7 +41,7 @@ fn iso_10110_12_sag_values() {
     assert!(rel(p.sag(100.0), 5.0 + 1e-9 * 1e8) < 1e-14);
 }
 
-/// REFERENCES #12: the focus of a paraboloid z = ρ²/(4f) is at (0, f): every
+/// Focal property of the parabola: the focus of a paraboloid z = ρ²/(4f) is at (0, f): every
 /// axial ray passes within 1e-9 mm of it (any analytic-geometry text).
 #[test]
 fn paraboloid_sends_every_axial_ray_to_the_focus() {
@@ -55,7 +55,7 @@ fn paraboloid_sends_every_axial_ray_to_the_focus() {
     assert!(worst < 1e-9, "rim angle 90°: worst miss {worst} mm");
 }
 
-/// REFERENCES #12, "a fact of the trade": y = x² focuses at 1/4.
+/// Focal property of the parabola (common practice): y = x² focuses at 1/4.
 #[test]
 fn y_equals_x_squared_focuses_at_one_quarter() {
     // z = ρ² is a paraboloid with c = 2 (R = 0.5), K = −1.
@@ -74,7 +74,7 @@ fn y_equals_x_squared_focuses_at_one_quarter() {
     }
 }
 
-/// REFERENCES #12: light from one focus of an ellipsoid reaches the other
+/// Focal property of the ellipse: light from one focus of an ellipsoid reaches the other
 /// (any analytic-geometry text). Foci at 50 and 500 mm from the vertex:
 /// R = 2pq/(p+q), K = −e², e = (q−p)/(q+p).
 #[test]
@@ -85,10 +85,12 @@ fn ellipsoid_images_one_focus_onto_the_other() {
     assert!(worst < 1e-9, "worst miss {worst} mm");
 }
 
-/// REFERENCES #8 and #12: a paraboloid plus a convex hyperboloid with
+/// Focal properties of the conics: a paraboloid plus a convex hyperboloid with
 /// K = −((m+1)/(m−1))² (classical Cassegrain; Schroeder, Astronomical
-/// Optics, 2nd ed., ch. 6 — value from memory, confirmed by this trace)
-/// focuses an axial beam perfectly at the hyperboloid's far focus.
+/// Optics, 2nd ed., ch. 6 — value from memory) focuses an axial beam
+/// perfectly: the hyperboloid's far focus is the paraboloid's focus, so
+/// rays aimed at it leave for its near focus (focal properties of the
+/// conics, any analytic-geometry text).
 #[test]
 fn classical_cassegrain_focuses_perfectly_on_axis() {
     let layout = load("www/presets/cassegrain.json");
@@ -97,7 +99,8 @@ fn classical_cassegrain_focuses_perfectly_on_axis() {
     assert!(worst < 1e-9, "worst miss {worst} mm");
 }
 
-/// REFERENCES #12: rays aimed at the far focus of a hyperboloid reflect
+/// Focal property of the hyperbola (any analytic-geometry text): rays
+/// aimed at the far focus of a hyperboloid reflect
 /// from its convex face toward the near focus.
 #[test]
 fn hyperboloid_redirects_rays_aimed_at_one_focus_to_the_other() {
@@ -124,7 +127,7 @@ fn hyperboloid_redirects_rays_aimed_at_one_focus_to_the_other() {
     }
 }
 
-/// REFERENCES #2: a parallel ray at height h on a sphere of radius R crosses
+/// Elementary geometry of the circle: a parallel ray at height h on a sphere of radius R crosses
 /// the axis R − R/(2 cos θ) from the vertex, sin θ = h/R (elementary
 /// geometry); the third-order longitudinal aberration is ≈ h²/(4R).
 #[test]
@@ -151,7 +154,7 @@ fn sphere_marginal_ray_axis_crossing_is_exact() {
 
 /// A parabolic trough (extruded paraboloid) brings an axial beam to a line:
 /// every hit lies on v = 0 at the focal line, spread along x (u). Same
-/// parabola property (REFERENCES #12), now in one dimension.
+/// parabola property, now in one dimension.
 #[test]
 fn extruded_parabola_forms_a_line_focus() {
     let text = r#"{"format":"catoptric-layout","version":1,"name":"trough","wavelength_nm":550,"max_bounces":4,
@@ -170,7 +173,8 @@ fn extruded_parabola_forms_a_line_focus() {
     assert!(spread_u > 150.0, "the line should run along x: {spread_u}");
 }
 
-/// REFERENCES #9: an off-axis segment of a paraboloid (parent f = 500,
+/// Focus–directrix property of the parabola: an off-axis segment of a
+/// paraboloid (parent f = 500,
 /// offset 200) focuses an axial beam perfectly at the parent focus, at the
 /// reflected focal length f + h²/(4f) = 520 mm and off-axis angle
 /// 2 atan(h/2f) = 22.6199° (focus–directrix property of the parabola).
@@ -191,7 +195,7 @@ fn off_axis_segment_focuses_at_parent_focus() {
 
 /// The f/5 sphere of the same radius: its RMS spot at the paraxial focus
 /// equals a direct sum over the exact transverse aberrations of its rays
-/// (REFERENCES #2), a closed form against the tracer.
+/// (elementary geometry of the circle), a closed form against the tracer.
 #[test]
 fn sphere_spot_at_paraxial_focus_matches_exact_rays() {
     let layout = load("www/presets/sphere-f5.json");

@@ -1,5 +1,5 @@
 //! Random layouts built from random valid values (not mutations of
-//! one file), traced with few rays. Never panic on input (DESIGN.md §8):
+//! one file), traced with few rays. Never panic on input (docs/FORMATS.md §4):
 //! every launched ray is counted as escaped or absorbed, every hit is
 //! finite with a unit direction arriving on the sensitive face, no screen
 //! gets more power than was launched, and the report, fan and flux maps

@@ -11,7 +11,7 @@
 // unit for values that are rounding noise around zero (a paraboloid's
 // wavefront). Measured mirrors: a mirror whose readings equal the design's
 // comes back as designed (zero surface error) — value from the definition
-// of the moving-source reading (REFERENCES.md row 3).
+// of the moving-source reading (docs/FORMATS.md §3, `zones`).
 //
 // Set CATOPTRIC_SHOTS=<dir> to keep a screenshot of each view there.
 
