@@ -210,3 +210,58 @@ fn sphere_spot_at_paraxial_focus_matches_exact_rays() {
     let edge = (r / 2.0 - crossing) * (2.0 * th).tan();
     assert!(rel(st.max_radius, edge) < 2e-3, "{} vs {edge}", st.max_radius);
 }
+
+/// One concave mirror met three times by the same ray. Elementary geometry
+/// of the circle: a chord meeting the circle at angle θ to the radius
+/// leaves at the same angle (law of reflection) and subtends a central
+/// angle π − 2θ. A ray parallel to the axis at height h = R sin θ meets a
+/// sphere at polar angle θ (measured at the centre from the direction of
+/// the vertex), then at 3θ − π, 5θ − 2π, 7θ − 3π, …; for h ≈ R sin 60° the
+/// first three lie on a cap of semi-diameter 0.95 R (the second near the
+/// vertex) and the fourth does not, so each ray reflects three times and
+/// leaves on the far side of the axis. Expected hits on a screen across
+/// its path, and the path lengths, follow from those points alone.
+#[test]
+fn a_ray_meets_one_concave_sphere_three_times() {
+    let r = 100.0f64;
+    let (h0, zs) = (r * 60f64.to_radians().sin(), 120.0);
+    let text = format!(
+        r#"{{"format":"catoptric-layout","version":1,"name":"three bounces","wavelength_nm":550,"max_bounces":8,
+      "elements":[{{"kind":"mirror","id":"bowl","vertex":[0,0],"axis_deg":0,"form":"revolved",
+        "profile":{{"radius":{r},"conic":0}},"aperture":{{"diameter":190}}}},
+        {{"kind":"screen","id":"out","center":[{y},{zs}],"axis_deg":180,"size":10,"shape":"square"}}],
+      "sources":[{{"kind":"beam","id":"pencil","center":[{h0},140],"direction_deg":180,"diameter":2,"rays":61,"pattern":"hex"}}]}}"#,
+        y = -h0
+    );
+    let layout = parse_layout(&text).unwrap();
+    let scene = Scene::compile(&layout);
+    let em = catoptric::trace::Emitter::new(&scene.sources[0], 61);
+    // Point at polar angle φ in the plane of the axis and the ray:
+    // (s, z) = (R sin φ, R − R cos φ), s along the ray's azimuth.
+    let at = |phi: f64| (r * phi.sin(), r - r * phi.cos());
+    let pi = std::f64::consts::PI;
+    for res in [trace(&scene, TraceOptions::default()), catoptric::trace::trace_reference(&scene, TraceOptions::default())] {
+        let hits = &res.screens[0];
+        assert_eq!(hits.len(), em.len(), "every ray reaches the screen after three reflections");
+        assert_eq!(res.surface_hits, 4 * em.len() as u64, "three mirror hits and one screen hit per ray");
+        for i in 0..em.len() {
+            let ray = em.ray(i);
+            let (x0, y0) = (ray.origin.x, ray.origin.y);
+            let h = x0.hypot(y0);
+            let (ex, ey) = (x0 / h, y0 / h);
+            let th = (h / r).asin();
+            let (p1, p3, p4) = (at(th), at(5.0 * th - 2.0 * pi), at(7.0 * th - 3.0 * pi));
+            let len = (p4.0 - p3.0).hypot(p4.1 - p3.1);
+            let (ds, dz) = ((p4.0 - p3.0) / len, (p4.1 - p3.1) / len);
+            let t = (zs - p3.1) / dz;
+            let s = p3.0 + t * ds;
+            // Screen frame (axis 180°): u = x, v = −(y − y_c), w = −z.
+            let (u, v) = (s * ex, -(s * ey + h0));
+            assert!((hits.u[i] - u).abs() < 1e-9 && (hits.v[i] - v).abs() < 1e-9, "ray {i}: ({}, {}) vs ({u}, {v})", hits.u[i], hits.v[i]);
+            assert!((hits.du[i] - ds * ex).abs() < 1e-9 && (hits.dv[i] + ds * ey).abs() < 1e-9 && (hits.dw[i] + dz).abs() < 1e-9, "ray {i}: direction");
+            // Launch plane to P1, two chords of 2R cos θ, P3 to the screen.
+            let opl = (140.0 - p1.1) + 2.0 * (2.0 * r * th.cos()) + t;
+            assert!((hits.opl[i] - opl).abs() < 1e-9, "ray {i}: path {} vs {opl}", hits.opl[i]);
+        }
+    }
+}
