@@ -97,6 +97,59 @@ fn slow_sphere_wavefront_matches_third_order_spherical_aberration() {
 }
 
 #[test]
+fn every_wavelength_dependent_figure_follows_the_layout_wavelength() {
+    // The f/8 sphere above traced at 550, 632.8 (He-Ne) and 1064 nm
+    // (Nd:YAG). The rays do not depend on λ; the figures do:
+    // - Airy radius 1.22 λN (Born & Wolf, Principles of Optics, 7th ed.,
+    //   value from memory; the trade's 1.22), with N = 1/(2 sin 2θ) for the
+    //   marginal ray, sin θ = 75/2400 (law of reflection at a sphere);
+    // - wavefront in waves = optical path difference / λ, so it scales as
+    //   1/λ, and matches third-order spherical aberration at each λ
+    //   (RMS W040/(6√5), W040 = D/(512 N³), as above);
+    // - Strehl exp(−(2πσ)²) of that σ (Mahajan, JOSA 72, 1258 (1982));
+    // - the Maréchal verdict σ ≤ λ/14: the RMS is 0.0775 waves at 550 nm
+    //   (not diffraction limited) but 0.0674 at 632.8 nm and 0.0401 at
+    //   1064 nm (diffraction limited).
+    let (d, n) = (150.0f64, 8.0f64);
+    let base = layout(
+        &[mirror("m", 2000.0, 2400.0, 0.0, d, None), screen("s", 0.0, 800.0, 10.0, "square", false)],
+        &[beam("star", 0.0, 1000.0, d, 40000, "hex", 0.0)],
+    );
+    let th = (75.0f64 / 2400.0).asin();
+    let n_marginal = 1.0 / (2.0 * (2.0 * th).sin());
+    let mut first: Option<(f64, f64, f64, f64)> = None;
+    for (nm, limited) in [(550.0, false), (632.8, true), (1064.0, true)] {
+        let text = base.replace("\"wavelength_nm\": 550,", &format!("\"wavelength_nm\": {nm},"));
+        assert!(text.contains(&format!("\"wavelength_nm\": {nm},")));
+        let (scene, res) = run(&text);
+        let r = trace_report(&scene, &res);
+        let b = &r.screens[0].by_source[0];
+        let lambda_mm = nm * 1e-6;
+        let f_num = b.f_number.unwrap();
+        assert!(rel(f_num, n_marginal) < 5e-3, "{nm} nm: N {f_num} vs {n_marginal}");
+        let airy = b.airy_radius_um.unwrap();
+        assert!(rel(airy, 1.22 * lambda_mm * f_num * 1e3) < 1e-12, "{nm} nm: Airy {airy} µm");
+        assert!(rel(airy, 1.22 * lambda_mm * n_marginal * 1e3) < 5e-3, "{nm} nm: Airy {airy} µm");
+        let rms = b.wavefront_rms_waves.unwrap();
+        let pv = b.wavefront_pv_waves.unwrap();
+        let w040 = d / (512.0 * n.powi(3)) / lambda_mm;
+        assert!(rel(rms, w040 / (6.0 * 5f64.sqrt())) < 0.03, "{nm} nm: RMS {rms} waves");
+        assert!(rel(pv, w040 / 4.0) < 0.03, "{nm} nm: P-V {pv} waves");
+        assert!(rel(b.strehl_estimate.unwrap(), (-(std::f64::consts::TAU * rms).powi(2)).exp()) < 1e-12);
+        assert_eq!(b.diffraction_limited, Some(limited), "{nm} nm: RMS {rms} waves");
+        // Geometric figures stay put; the wavefront in mm is the same.
+        let (ee50, ee80) = (b.ee50_radius_um.unwrap(), b.ee80_radius_um.unwrap());
+        match first {
+            None => first = Some((rms * nm, pv * nm, ee50, ee80)),
+            Some((rms_nm, pv_nm, e50, e80)) => {
+                assert!(rel(rms * nm, rms_nm) < 1e-9 && rel(pv * nm, pv_nm) < 1e-9, "{nm} nm: waves must scale as 1/λ");
+                assert_eq!((ee50, ee80), (e50, e80));
+            }
+        }
+    }
+}
+
+#[test]
 fn solar_disk_and_few_hits_give_null_keys() {
     // By definition (docs/FORMATS.md §3): an extended source has no single
     // wavefront; fewer than 3 hits carry no spread.
