@@ -264,7 +264,9 @@ fn lamp_on_a_screen_records_only_the_returning_light() {
 }
 
 /// Determinism (docs/FORMATS.md §4): two traces of the same layout, and two
-/// fans, are bit-identical.
+/// fans, are bit-identical within one process (a cloned scene, so no state
+/// is shared). Across builds and runs, the stored reports of
+/// tests/golden_reports.rs catch a change.
 #[test]
 fn traces_repeat_bit_for_bit() {
     let mut sun = beam("sun", [0.0, 1500.0], 180.0, 300.0, 9000, "random");
