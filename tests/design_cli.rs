@@ -1,7 +1,7 @@
 //! The `design`, `compare` and `zones` commands: JSON keys of the contract
-//! (docs/FORMATS.md §3), numbers worked independently from the published closed forms
-//! named beside each check, and bad input
-//! refused with exit code 2 and nothing on stdout.
+//! (docs/FORMATS.md §3), numbers worked independently from the published
+//! closed forms named beside each check, and bad input refused with exit
+//! code 2 and nothing on stdout.
 
 use serde_json::Value;
 use std::process::Command;
@@ -113,7 +113,8 @@ fn compare_json_contract() {
 fn zones_json_contract() {
     // Normal intercept ρ²/(2R) (Texereau, How to Make a Telescope, 2nd
     // Eng. ed. 1984) and equal-area zones (Berry, Build Your Own Telescope,
-    // 2nd ed. 1994), both values from memory: R = 2000 paraboloid, D = 200, 5 zones.
+    // 2nd ed. 1994), both values from memory: R = 2000 paraboloid,
+    // D = 200, 5 zones.
     let v = json(&["zones", "--radius", "2000", "--conic", "-1", "--diameter", "200", "--zones", "5", "--json"]);
     assert_eq!(v["source"], "moving");
     let z = v["zones"].as_array().unwrap();
@@ -124,6 +125,37 @@ fn zones_json_contract() {
     assert!(rel(z[0]["outer_mm"].as_f64().unwrap(), 44.72) < 1e-4);
     let v = json(&["zones", "--radius", "2000", "--conic", "-1", "--diameter", "200", "--zones", "5", "--source", "fixed", "--json"]);
     assert_eq!(v["source"], "fixed");
+}
+
+#[test]
+fn wavelength_flags_reach_every_figure_in_waves() {
+    // Third-order theory as above: the fastest sphere keeping λ/4 P-V has
+    // N = (D/(512 λ))^(1/3), so it is slower at a shorter wavelength;
+    // wavefronts in waves are path differences over λ, so they scale as
+    // 1/λ; a zone's departure in waves is its departure in µm over λ in
+    // µm (definition of the unit).
+    let cmp = |nm: &str| json(&["compare", "--radius", "2400", "--diameter", "150", "--conics", "0,-0.5", "--wavelength", nm, "--json"]);
+    let (a, b) = (cmp("550"), cmp("632.8"));
+    assert_eq!(b["wavelength_nm"], 632.8);
+    let n = (150.0f64 / (512.0 * 632.8e-6)).cbrt();
+    assert!(rel(b["sphere_fastest_f_ratio"].as_f64().unwrap(), n) < 1e-4, "{} vs {n}", b["sphere_fastest_f_ratio"]);
+    for k in 0..2 {
+        for key in ["wavefront_pv_waves", "wavefront_rms_waves"] {
+            let (x, y) = (a["conics"][k][key].as_f64().unwrap(), b["conics"][k][key].as_f64().unwrap());
+            assert!(rel(y * 632.8, x * 550.0) < 1e-9, "conic {k} {key}: {y} at 632.8 nm vs {x} at 550 nm");
+        }
+    }
+    let zones = |nm: &str| json(&["zones", "--radius", "2000", "--conic", "-1", "--diameter", "200", "--zones", "4", "--wavelength", nm, "--json"]);
+    for nm in ["550", "1064"] {
+        let v = zones(nm);
+        let lambda_um = nm.parse::<f64>().unwrap() * 1e-3;
+        let zs = v["zones"].as_array().unwrap();
+        assert_eq!(zs.len(), 4);
+        for z in zs {
+            let (um, waves) = (z["departure_um"].as_f64().unwrap(), z["departure_waves"].as_f64().unwrap());
+            assert!(um != 0.0 && rel(waves * lambda_um, um) < 1e-12, "{nm} nm: {waves} waves vs {um} µm");
+        }
+    }
 }
 
 #[test]
