@@ -86,6 +86,24 @@ fn link_then_unlink_round_trips_exactly() {
     assert_eq!(back, orig);
 }
 
+#[test]
+fn link_and_unlink_json_carry_the_same_fragment_and_layout() {
+    // docs/FORMATS.md §3: `link --json` wraps the fragment as {"fragment"};
+    // `unlink` prints the layout JSON with or without --json.
+    let (code, plain, err) = run(&["link", "www/presets/off-axis-paraboloid.json"]);
+    assert_eq!(code, 0, "{err}");
+    let (code, out, err) = run(&["link", "www/presets/off-axis-paraboloid.json", "--json"]);
+    assert_eq!(code, 0, "{err}");
+    let v: serde_json::Value = serde_json::from_str(&out).unwrap();
+    assert_eq!(v.as_object().unwrap().len(), 1, "{v}");
+    assert_eq!(v["fragment"], plain.trim());
+    let (code, a, _) = run(&["unlink", plain.trim()]);
+    assert_eq!(code, 0);
+    let (code, b, err) = run(&["unlink", plain.trim(), "--json"]);
+    assert_eq!(code, 0, "{err}");
+    assert_eq!(catoptric::parse_layout(&b).unwrap(), catoptric::parse_layout(&a).unwrap());
+}
+
 // ---- terminal-safe, one-line messages (common practice for command-line
 // tools: never pass a file's control characters to the terminal; ECMA-48
 // control functions start with C0/C1 characters) ----

@@ -51,23 +51,41 @@ fn two_mirror_json_contract() {
     assert_eq!(ids, ["on-axis", "off-axis"]);
 }
 
-#[test]
-fn two_mirror_writes_a_layout_the_trace_command_reads() {
-    let dir = std::env::temp_dir().join(format!("catoptric-design-{}", std::process::id()));
+/// Runs a designer with `--layout FILE` (args end with "--layout"), then
+/// `trace FILE --rays 5000 --json`; returns the first screen's report.
+fn design_then_trace(name: &str, args: &[&str]) -> Value {
+    let dir = std::env::temp_dir().join(format!("catoptric-design-{name}-{}", std::process::id()));
     std::fs::create_dir_all(&dir).unwrap();
-    let path = dir.join("cass.json");
+    let path = dir.join(format!("{name}.json"));
     let p = path.to_str().unwrap();
-    let (code, _, err) = run(&[
-        "design", "two-mirror", "--type", "cassegrain", "--diameter", "200", "--primary-focal", "800", "--focal",
-        "3000", "--back-focus", "150", "--layout", p,
-    ]);
+    let (code, _, err) = run(&[args, &[p]].concat());
     assert_eq!(code, 0, "{err}");
     let v = json(&["trace", p, "--rays", "5000", "--json"]);
-    let screen = &v["screens"][0];
+    let _ = std::fs::remove_dir_all(&dir);
+    let screen = v["screens"][0].clone();
     assert_eq!(screen["id"], "focus");
+    screen
+}
+
+#[test]
+fn two_mirror_writes_a_layout_the_trace_command_reads() {
+    let screen = design_then_trace(
+        "cass",
+        &["design", "two-mirror", "--type", "cassegrain", "--diameter", "200", "--primary-focal", "800", "--focal", "3000", "--back-focus", "150", "--layout"],
+    );
     let rms = screen["by_source"][0]["rms_radius_um"].as_f64().unwrap();
     assert!(rms < 0.01, "classical Cassegrain on axis: {rms} µm");
-    let _ = std::fs::remove_dir_all(&dir);
+}
+
+#[test]
+fn off_axis_writes_a_layout_the_trace_command_reads() {
+    // Focal property of the parabola (any analytic-geometry text): the
+    // written segment brings its on-axis beam to a point at `focus`.
+    let screen = design_then_trace("oap", &["design", "off-axis", "--parent-focal", "500", "--offset", "200", "--diameter", "100", "--layout"]);
+    assert_eq!(screen["by_source"][0]["source"], "on-axis");
+    assert!(screen["hits"].as_u64().unwrap() > 4000, "{}", screen["hits"]);
+    let rms = screen["by_source"][0]["rms_radius_um"].as_f64().unwrap();
+    assert!(rms < 0.01, "off-axis paraboloid on axis: {rms} µm");
 }
 
 #[test]
