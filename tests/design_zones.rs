@@ -164,6 +164,17 @@ fn zone_table_readings_and_glass_to_remove() {
             };
             assert!((z.reading_mm - want).abs() < 1e-7, "{source:?} zone {x}: {} vs {want}", z.reading_mm);
             assert!(z.removal_um >= 0.0 && z.removal_um <= t.removal_depth_um + 1e-12);
+            // Same algebra, per zone, with u = ρ²/a² and β = a⁴/(8R³)
+            // (1.5625 µm here): paraboloid minus best-fit sphere is
+            // β(u − u²) + const, so with the sphere placed midway the
+            // departure is β(u − u² − 1/8) (proud of the sphere, toward the
+            // centre of curvature, in the middle zones), and the glass to
+            // remove from the touching sphere β(u − ½)². Higher orders add
+            // ~c²a² ≈ 0.25 % of β.
+            let (u, beta) = (rho * rho / 1e4, 1e8 / (8.0 * 2000f64.powi(3)) * 1e3);
+            let (dep, rem) = (beta * (u - u * u - 0.125), beta * (u - 0.5).powi(2));
+            assert!((z.departure_um - dep).abs() < 0.01, "zone {x}: departure {} vs {dep} µm", z.departure_um);
+            assert!((z.removal_um - rem).abs() < 0.01, "zone {x}: removal {} vs {rem} µm", z.removal_um);
         }
         assert!(rel(t.removal_depth_um * 1e-3, 200f64.powi(4) / (512.0 * 2000f64.powi(3))) < 2e-3);
         // Same algebra: sphere minus paraboloid is (c_b − c)ρ²/2 + c³ρ⁴/8 to
