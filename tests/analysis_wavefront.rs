@@ -94,6 +94,36 @@ fn slow_sphere_wavefront_matches_third_order_spherical_aberration() {
     let map = wavefront_map(h, Some(0), p, lambda).unwrap();
     let (lo, hi) = map.opd_waves.iter().fold((f64::MAX, f64::MIN), |(l, u), &x| (l.min(x), u.max(x)));
     assert!(rel(hi - lo, pv) < 1e-9);
+    // The map's pupil is the unit disk (normalised by the largest radius),
+    // and each point carries the residual of its own pupil radius. Sag is
+    // measured out of the reflective face, toward the arriving light
+    // (docs/FORMATS.md §1), and the sphere's exceeds the paraboloid's by
+    // ρ⁴/(8R³): its rim meets the light sooner, so those rays' paths are
+    // shorter by twice that, W = −W040 ρ⁴ (W the path, as in
+    // src/analysis/wavefront.rs), and −W040(ρ⁴ − ρ² + 1/6) once piston and
+    // defocus are removed (the least-squares fit of {1, ρ²} over the
+    // disk). The pupil coordinates
+    // are direction cosines, ∝ sin 2θ rather than the mirror height:
+    // ~0.6 % apart at the rim, within the 3 % allowed.
+    let rmax = map.pupil_x.iter().zip(&map.pupil_y).map(|(x, y)| x.hypot(*y)).fold(0.0, f64::max);
+    assert!((rmax - 1.0).abs() < 1e-12, "pupil radius {rmax}");
+    for k in 0..map.opd_waves.len() {
+        let r2 = map.pupil_x[k].powi(2) + map.pupil_y[k].powi(2);
+        let want = -w040 * (r2 * r2 - r2 + 1.0 / 6.0);
+        assert!((map.opd_waves[k] - want).abs() < 0.03 * w040, "hit {k}, ρ² = {r2}: {} vs {want} waves", map.opd_waves[k]);
+    }
+    // The map keeps each ray's place: an outer ray crosses the axis before
+    // the paraxial focus (undercorrected spherical aberration of a concave
+    // sphere), so its spot position lies along its pupil position, one
+    // fixed orientation for all rays (which way up the map is drawn is a
+    // convention of the page, not checked here).
+    let outer: Vec<usize> = (0..h.len()).filter(|&k| map.pupil_x[k].abs() > 0.3 && map.pupil_y[k].abs() > 0.3).collect();
+    assert!(outer.len() > 1000);
+    let (sx, sy) = ((map.pupil_x[outer[0]] * h.u[outer[0]]).signum(), (map.pupil_y[outer[0]] * h.v[outer[0]]).signum());
+    for &k in &outer {
+        assert_eq!((map.pupil_x[k] * h.u[k]).signum(), sx, "hit {k}: pupil x and u");
+        assert_eq!((map.pupil_y[k] * h.v[k]).signum(), sy, "hit {k}: pupil y and v");
+    }
 }
 
 #[test]
