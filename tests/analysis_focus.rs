@@ -79,6 +79,22 @@ fn closed_form_best_focus_equals_brute_force_search() {
 }
 
 #[test]
+fn through_focus_curve_of_one_or_two_points() {
+    // n evenly spaced shifts from `from` to `to` inclusive (the function's
+    // contract): one point is `from` itself, two are the ends; the RMS at
+    // each is measured here on explicitly shifted hits.
+    let (_, res) = run(&slow_sphere(0.0));
+    let h = &res.screens[0];
+    let rms_um = |s: f64| spot_stats(&shifted(h, s), Some(0)).rms_radius * 1e3;
+    let one = through_focus(h, Some(0), 0.3, 0.9, 1).unwrap();
+    assert_eq!(one.shift_mm, vec![0.3]);
+    assert!(rel(one.rms_radius_um[0], rms_um(0.3)) < 1e-9);
+    let two = through_focus(h, Some(0), -0.5, 0.5, 2).unwrap();
+    assert_eq!(two.shift_mm, vec![-0.5, 0.5]);
+    assert!(rel(two.rms_radius_um[1], rms_um(0.5)) < 1e-9);
+}
+
+#[test]
 fn through_focus_range_ends_where_the_rms_radius_doubles() {
     // The plotted and exported range (docs/FORMATS.md §3): centred on the
     // best focus, ± the depth at which the RMS radius is twice its best
@@ -112,6 +128,13 @@ fn through_focus_range_ends_where_the_rms_radius_doubles() {
     let tf = a.curves[0][0].through_focus.as_ref().unwrap();
     let (lo, hi) = (tf.shift_mm[0], tf.shift_mm[tf.shift_mm.len() - 1]);
     assert!((lo + MIN_FOCUS_RANGE_MM).abs() < 1e-9 && (hi - MIN_FOCUS_RANGE_MM).abs() < 1e-9, "{lo} … {hi}");
+    // Parallel light has no focus: the curve is flat and shown over
+    // ±1 mm about the screen (the function's documented fallback).
+    let flat = layout(&[screen("s", 0.0, 100.0, 50.0, "square", false).replace("\"axis_deg\": 0", "\"axis_deg\": 180")], &[beam("b", 0.0, 0.0, 20.0, 500, "hex", 0.0)]);
+    let (scene, res) = run(&flat);
+    let a = analyse_all(&scene, &res);
+    let tf = a.curves[0][0].through_focus.as_ref().unwrap();
+    assert_eq!((tf.shift_mm[0], tf.shift_mm[tf.shift_mm.len() - 1]), (-1.0, 1.0));
 }
 
 #[test]
