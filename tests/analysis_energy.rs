@@ -55,7 +55,7 @@ fn defocused_paraboloid_gives_a_uniform_blur_disk() {
 
 #[test]
 fn sphere_longitudinal_aberration_matches_the_exact_axis_crossing() {
-    // Exact trace of the sphere (REFERENCES row 2; elementary geometry): a
+    // Exact trace of the sphere (elementary geometry of the circle): a
     // ray parallel to the axis at height h = R sin θ crosses the axis
     // R − R/(2 cos θ) from the vertex. With the screen at the paraxial
     // focus R/2 and looking toward the mirror, the crossing lies

@@ -1,8 +1,9 @@
 //! Aspheric coefficients and departure splines against the conics
 //! they imitate, and the general sag solver against the closed form.
 //! Sources: the ISO 10110-12 sag form and the sphere/paraboloid difference
-//! ρ⁴/(8R³) (REFERENCES.md rows 1 and 5); comparing a closed form with the
-//! general path is common practice (STYLE.md).
+//! ρ⁴/(8R³) (the ρ⁴ term of the circle's binomial series, third-order
+//! theory, re-derived); comparing a closed form with the general path is
+//! common practice.
 
 mod layout_support;
 use catoptric::geometry::Vec3;
@@ -40,7 +41,7 @@ fn sphere_series(n: u32) -> f64 {
     -b * (-1.0f64).powi(n as i32)
 }
 
-/// REFERENCES #5 (third-order theory; sag difference ρ⁴/(8R³)) and the
+/// Third-order theory (sag difference ρ⁴/(8R³), re-derived) and the
 /// binomial series of the circle: a sphere plus A4 = −1/(8R³) matches the
 /// paraboloid up to the ρ⁶ term, so its spot at the paraxial focus shrinks
 /// from the sphere's f(ρ/R)³ (slope error ρ³/(2R³), doubled on reflection,
@@ -73,7 +74,8 @@ fn sphere_plus_aspheric_terms_approaches_the_paraboloid() {
     assert!(w3 < 1e-8, "extruded: worst {w3:e} mm");
 }
 
-/// Focus–directrix property (REFERENCES #12): a flat carrying a departure
+/// Focus–directrix property of the parabola (any analytic-geometry
+/// text): a flat carrying a departure
 /// spline through knots of z = ρ²/(4f) focuses at f. A cubic spline
 /// reproduces a quadratic exactly except for the end conditions, whose
 /// effect decays by about 2 − √3 per knot interval (common practice for

@@ -1,4 +1,4 @@
-//! The `catoptric` command's contract (DESIGN.md §5): JSON shape, exit
+//! The `catoptric` command's contract (docs/FORMATS.md §3): JSON shape, exit
 //! codes, nothing on stdout on error, exact link round trip.
 
 use std::process::Command;
@@ -84,6 +84,24 @@ fn link_then_unlink_round_trips_exactly() {
     let back = catoptric::parse_layout(&json).unwrap();
     let orig = catoptric::parse_layout(&std::fs::read_to_string(concat!(env!("CARGO_MANIFEST_DIR"), "/www/presets/off-axis-paraboloid.json")).unwrap()).unwrap();
     assert_eq!(back, orig);
+}
+
+#[test]
+fn link_and_unlink_json_carry_the_same_fragment_and_layout() {
+    // docs/FORMATS.md §3: `link --json` wraps the fragment as {"fragment"};
+    // `unlink` prints the layout JSON with or without --json.
+    let (code, plain, err) = run(&["link", "www/presets/off-axis-paraboloid.json"]);
+    assert_eq!(code, 0, "{err}");
+    let (code, out, err) = run(&["link", "www/presets/off-axis-paraboloid.json", "--json"]);
+    assert_eq!(code, 0, "{err}");
+    let v: serde_json::Value = serde_json::from_str(&out).unwrap();
+    assert_eq!(v.as_object().unwrap().len(), 1, "{v}");
+    assert_eq!(v["fragment"], plain.trim());
+    let (code, a, _) = run(&["unlink", plain.trim()]);
+    assert_eq!(code, 0);
+    let (code, b, err) = run(&["unlink", plain.trim(), "--json"]);
+    assert_eq!(code, 0, "{err}");
+    assert_eq!(catoptric::parse_layout(&b).unwrap(), catoptric::parse_layout(&a).unwrap());
 }
 
 // ---- terminal-safe, one-line messages (common practice for command-line

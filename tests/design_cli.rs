@@ -1,6 +1,7 @@
 //! The `design`, `compare` and `zones` commands: JSON keys of the contract
-//! (DESIGN.md §5), the worked numbers of REFERENCES.md, and bad input
-//! refused with exit code 2 and nothing on stdout.
+//! (docs/FORMATS.md §3), numbers worked independently from the published
+//! closed forms named beside each check, and bad input refused with exit
+//! code 2 and nothing on stdout.
 
 use serde_json::Value;
 use std::process::Command;
@@ -32,7 +33,8 @@ fn rel(a: f64, b: f64) -> f64 {
 
 #[test]
 fn two_mirror_json_contract() {
-    // REFERENCES.md row 8 worked example (Schroeder, 2nd ed., ch. 6).
+    // Computed independently of this code from the closed forms of
+    // Schroeder, Astronomical Optics, 2nd ed. (2000), ch. 6 (from memory).
     let v = json(&[
         "design", "two-mirror", "--type", "ritchey-chretien", "--diameter", "300", "--primary-focal", "1200",
         "--focal", "3200", "--back-focus", "250", "--field-deg", "0.2", "--json",
@@ -49,28 +51,47 @@ fn two_mirror_json_contract() {
     assert_eq!(ids, ["on-axis", "off-axis"]);
 }
 
-#[test]
-fn two_mirror_writes_a_layout_the_trace_command_reads() {
-    let dir = std::env::temp_dir().join(format!("catoptric-design-{}", std::process::id()));
+/// Runs a designer with `--layout FILE` (args end with "--layout"), then
+/// `trace FILE --rays 5000 --json`; returns the first screen's report.
+fn design_then_trace(name: &str, args: &[&str]) -> Value {
+    let dir = std::env::temp_dir().join(format!("catoptric-design-{name}-{}", std::process::id()));
     std::fs::create_dir_all(&dir).unwrap();
-    let path = dir.join("cass.json");
+    let path = dir.join(format!("{name}.json"));
     let p = path.to_str().unwrap();
-    let (code, _, err) = run(&[
-        "design", "two-mirror", "--type", "cassegrain", "--diameter", "200", "--primary-focal", "800", "--focal",
-        "3000", "--back-focus", "150", "--layout", p,
-    ]);
+    let (code, _, err) = run(&[args, &[p]].concat());
     assert_eq!(code, 0, "{err}");
     let v = json(&["trace", p, "--rays", "5000", "--json"]);
-    let screen = &v["screens"][0];
+    let _ = std::fs::remove_dir_all(&dir);
+    let screen = v["screens"][0].clone();
     assert_eq!(screen["id"], "focus");
+    screen
+}
+
+#[test]
+fn two_mirror_writes_a_layout_the_trace_command_reads() {
+    let screen = design_then_trace(
+        "cass",
+        &["design", "two-mirror", "--type", "cassegrain", "--diameter", "200", "--primary-focal", "800", "--focal", "3000", "--back-focus", "150", "--layout"],
+    );
     let rms = screen["by_source"][0]["rms_radius_um"].as_f64().unwrap();
     assert!(rms < 0.01, "classical Cassegrain on axis: {rms} µm");
-    let _ = std::fs::remove_dir_all(&dir);
+}
+
+#[test]
+fn off_axis_writes_a_layout_the_trace_command_reads() {
+    // Focal property of the parabola (any analytic-geometry text): the
+    // written segment brings its on-axis beam to a point at `focus`.
+    let screen = design_then_trace("oap", &["design", "off-axis", "--parent-focal", "500", "--offset", "200", "--diameter", "100", "--layout"]);
+    assert_eq!(screen["by_source"][0]["source"], "on-axis");
+    assert!(screen["hits"].as_u64().unwrap() > 4000, "{}", screen["hits"]);
+    let rms = screen["by_source"][0]["rms_radius_um"].as_f64().unwrap();
+    assert!(rms < 0.01, "off-axis paraboloid on axis: {rms} µm");
 }
 
 #[test]
 fn off_axis_json_contract() {
-    // REFERENCES.md row 9: f = 500, h = 200 → 22.6199°, 520 mm.
+    // Focus–directrix property of the parabola, computed independently:
+    // f = 500, h = 200 → 22.6199°, 520 mm.
     let v = json(&["design", "off-axis", "--parent-focal", "500", "--offset", "200", "--diameter", "100", "--json"]);
     has_keys(&v, &["off_axis_angle_deg", "reflected_focal_mm", "layout"]);
     assert!(rel(v["off_axis_angle_deg"].as_f64().unwrap(), 22.6199) < 5e-6);
@@ -91,7 +112,8 @@ fn off_axis_text_output_carries_the_sunlight_caution() {
 
 #[test]
 fn compare_json_contract() {
-    // REFERENCES.md row 5: D = 150, λ = 550 nm → N = 8.106.
+    // Third-order theory, sphere P-V D/(2048 N³) ≤ λ/4 (value from memory,
+    // re-derived): D = 150, λ = 550 nm → N = 8.106.
     let v = json(&["compare", "--radius", "2400", "--diameter", "150", "--conics", "0,-1,-0.5", "--json"]);
     has_keys(&v, &["conics", "sphere_fastest_f_ratio"]);
     let rows = v["conics"].as_array().unwrap();
@@ -107,7 +129,10 @@ fn compare_json_contract() {
 
 #[test]
 fn zones_json_contract() {
-    // REFERENCES.md rows 3 and 4: R = 2000 paraboloid, D = 200, 5 zones.
+    // Normal intercept ρ²/(2R) (Texereau, How to Make a Telescope, 2nd
+    // Eng. ed. 1984) and equal-area zones (Berry, Build Your Own Telescope,
+    // 2nd ed. 1994), both values from memory: R = 2000 paraboloid,
+    // D = 200, 5 zones.
     let v = json(&["zones", "--radius", "2000", "--conic", "-1", "--diameter", "200", "--zones", "5", "--json"]);
     assert_eq!(v["source"], "moving");
     let z = v["zones"].as_array().unwrap();
@@ -118,6 +143,37 @@ fn zones_json_contract() {
     assert!(rel(z[0]["outer_mm"].as_f64().unwrap(), 44.72) < 1e-4);
     let v = json(&["zones", "--radius", "2000", "--conic", "-1", "--diameter", "200", "--zones", "5", "--source", "fixed", "--json"]);
     assert_eq!(v["source"], "fixed");
+}
+
+#[test]
+fn wavelength_flags_reach_every_figure_in_waves() {
+    // Third-order theory as above: the fastest sphere keeping λ/4 P-V has
+    // N = (D/(512 λ))^(1/3), so it is slower at a shorter wavelength;
+    // wavefronts in waves are path differences over λ, so they scale as
+    // 1/λ; a zone's departure in waves is its departure in µm over λ in
+    // µm (definition of the unit).
+    let cmp = |nm: &str| json(&["compare", "--radius", "2400", "--diameter", "150", "--conics", "0,-0.5", "--wavelength", nm, "--json"]);
+    let (a, b) = (cmp("550"), cmp("632.8"));
+    assert_eq!(b["wavelength_nm"], 632.8);
+    let n = (150.0f64 / (512.0 * 632.8e-6)).cbrt();
+    assert!(rel(b["sphere_fastest_f_ratio"].as_f64().unwrap(), n) < 1e-4, "{} vs {n}", b["sphere_fastest_f_ratio"]);
+    for k in 0..2 {
+        for key in ["wavefront_pv_waves", "wavefront_rms_waves"] {
+            let (x, y) = (a["conics"][k][key].as_f64().unwrap(), b["conics"][k][key].as_f64().unwrap());
+            assert!(rel(y * 632.8, x * 550.0) < 1e-9, "conic {k} {key}: {y} at 632.8 nm vs {x} at 550 nm");
+        }
+    }
+    let zones = |nm: &str| json(&["zones", "--radius", "2000", "--conic", "-1", "--diameter", "200", "--zones", "4", "--wavelength", nm, "--json"]);
+    for nm in ["550", "1064"] {
+        let v = zones(nm);
+        let lambda_um = nm.parse::<f64>().unwrap() * 1e-3;
+        let zs = v["zones"].as_array().unwrap();
+        assert_eq!(zs.len(), 4);
+        for z in zs {
+            let (um, waves) = (z["departure_um"].as_f64().unwrap(), z["departure_waves"].as_f64().unwrap());
+            assert!(um != 0.0 && rel(waves * lambda_um, um) < 1e-12, "{nm} nm: {waves} waves vs {um} µm");
+        }
+    }
 }
 
 #[test]

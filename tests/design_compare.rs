@@ -14,7 +14,7 @@ const LAMBDA: f64 = 550e-6; // mm
 
 #[test]
 fn edge_sags_match_the_iso_sag_formula() {
-    // ISO 10110-12 sag; REFERENCES.md row 1: R = 1000, ρ = 100:
+    // ISO 10110-12:2019 sag, computed independently: R = 1000, ρ = 100:
     // K = −1 → 5.00000, 0 → 5.01256, 0.5 → 5.01889, −2 → 4.98756.
     let c = compare_conics(1000.0, 200.0, &[-1.0, 0.0, 0.5, -2.0], 550.0).unwrap();
     for (row, want) in c.conics.iter().zip([5.00000, 5.01256, 5.01889, 4.98756]) {
@@ -28,7 +28,7 @@ fn edge_sags_match_the_iso_sag_formula() {
 
 #[test]
 fn paraboloid_departs_from_the_sphere_by_rho4_over_8r3() {
-    // Third-order theory, REFERENCES.md row 5: surface difference ρ⁴/(8R³).
+    // Third-order theory (the ρ⁴ term of the circle's series): surface difference ρ⁴/(8R³).
     let (r, d) = (2400.0, 150.0);
     let c = compare_conics(r, d, &[-1.0], 550.0).unwrap();
     let want = (0.5 * d).powi(4) / (8.0 * r * r * r) * 1e3;
@@ -37,7 +37,7 @@ fn paraboloid_departs_from_the_sphere_by_rho4_over_8r3() {
 
 #[test]
 fn paraboloid_wavefront_is_perfect_at_its_focus() {
-    // Parabola focal property (REFERENCES.md row 12): zero wavefront error,
+    // Parabola focal property (any analytic-geometry text): zero wavefront error,
     // best focus at R/2.
     let w = collimated_wavefront(1000.0, -1.0, 250.0, LAMBDA);
     assert!(w.pv_waves < 1e-7 && w.rms_waves < 1e-7, "{w:?}");
@@ -47,7 +47,7 @@ fn paraboloid_wavefront_is_perfect_at_its_focus() {
 
 #[test]
 fn slow_sphere_matches_third_order_spherical_aberration() {
-    // Third-order theory, REFERENCES.md row 5: sphere P-V at best focus
+    // Third-order theory (value from memory, re-derived): sphere P-V at best focus
     // D/(2048 N³); the balanced primary spherical A(ρ⁴ − ρ²) has RMS/P-V =
     // 4/(6√5) (Zernike primary spherical; Born & Wolf, Principles of
     // Optics, 7th ed., §9.2 — memory).
@@ -57,8 +57,8 @@ fn slow_sphere_matches_third_order_spherical_aberration() {
         assert!(rel(w.pv_waves, want) < 0.02, "D {d} f/{n}: {} vs {want}", w.pv_waves);
         assert!(rel(w.rms_waves, want * 4.0 / (6.0 * 5f64.sqrt())) < 0.02, "D {d} f/{n}: rms {}", w.rms_waves);
         // Best focus lies between the paraxial focus R/2 and the marginal
-        // focus, which is nearer the mirror by LSA ≈ a²/(4R) (REFERENCES.md
-        // row 2).
+        // focus, which is nearer the mirror by LSA ≈ a²/(4R) (third-order
+        // theory, re-derived from the circle).
         let r = 2.0 * n * d;
         let lsa = (0.5 * d).powi(2) / (4.0 * r);
         assert!(w.best_focus_mm < 0.5 * r && w.best_focus_mm > 0.5 * r - lsa, "{}", w.best_focus_mm);
@@ -67,8 +67,8 @@ fn slow_sphere_matches_third_order_spherical_aberration() {
 
 #[test]
 fn wavefront_error_is_linear_in_the_conic_error() {
-    // Third order: the wavefront scales with K + 1 (REFERENCES.md row 5,
-    // sag ΔK ρ⁴/(8R³)); halving the conic error halves the P-V.
+    // Third order: the wavefront scales with K + 1 (the conic's
+    // ρ⁴ term, sag ΔK ρ⁴/(8R³)); halving the conic error halves the P-V.
     let s = collimated_wavefront(2400.0, 0.0, 150.0, LAMBDA);
     let e = collimated_wavefront(2400.0, -0.5, 150.0, LAMBDA);
     assert!(rel(e.pv_waves, 0.5 * s.pv_waves) < 0.01, "{} vs {}", e.pv_waves, s.pv_waves);
@@ -76,7 +76,8 @@ fn wavefront_error_is_linear_in_the_conic_error() {
 
 #[test]
 fn fastest_sphere_for_a_quarter_wave() {
-    // REFERENCES.md row 5: N³ ≥ D/(512 λ); D = 150, λ = 550 nm → N = 8.106.
+    // Third-order theory (re-derived from D/(2048 N³) ≤ λ/4):
+    // N³ ≥ D/(512 λ); D = 150, λ = 550 nm → N = 8.106.
     // The exact wavefront agrees within a percent for such a slow mirror.
     let n = sphere_fastest_f_ratio(150.0, LAMBDA);
     assert!(rel(n, 8.106) < 1e-4, "{n}");
@@ -89,7 +90,7 @@ fn fastest_sphere_for_a_quarter_wave() {
 #[test]
 fn quarter_wave_sphere_has_strehl_near_0_8() {
     // Rayleigh's λ/4 criterion corresponds to a Strehl ratio of about 0.8
-    // for primary spherical aberration (REFERENCES.md row 6; Mahajan, JOSA
+    // for primary spherical aberration (Mahajan, JOSA
     // 72, 1258 (1982), exp(−(2πσ)²) form used here).
     let n = sphere_fastest_f_ratio_exact(150.0, LAMBDA);
     let w = collimated_wavefront(2.0 * n * 150.0, 0.0, 150.0, LAMBDA);
@@ -100,8 +101,8 @@ fn quarter_wave_sphere_has_strehl_near_0_8() {
 
 #[test]
 fn conic_tolerance_costs_a_quarter_wave() {
-    // Third order (derived in compare.rs from REFERENCES.md row 5's
-    // ρ⁴/(8R³)): ΔK = 64 λ R³/D⁴ gives λ/4 P-V; the exact trace agrees
+    // Third order (derived in compare.rs from the conic's ρ⁴
+    // term ΔK ρ⁴/(8R³)): ΔK = 64 λ R³/D⁴ gives λ/4 P-V; the exact trace agrees
     // within a few percent for an f/8 mirror.
     let (r, d) = (2400.0, 150.0);
     let dk = conic_tolerance_quarter_wave(r, d, LAMBDA);

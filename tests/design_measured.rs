@@ -2,7 +2,8 @@
 //! readings, and the zones that need work.
 //!
 //! Reference: the moving-source reading is the normal intercept
-//! z + ρ/z′ − R (REFERENCES.md row 3); a surface built from known
+//! z + ρ/z′ − R (where the normal at (ρ, z) meets the axis: elementary
+//! calculus); a surface built from known
 //! departures must come back from its own readings.
 
 use catoptric::analysis::spot_stats;
@@ -20,7 +21,12 @@ const D: f64 = 200.0;
 /// Exact moving-source reading of the paraboloid plus `bump(ρ)` (mm),
 /// from the normal-intercept definition, slope by central difference.
 fn reading_of(rho: f64, bump: &dyn Fn(f64) -> f64) -> f64 {
-    let p = Profile::conic(Some(R), -1.0);
+    reading_of_conic(-1.0, rho, bump)
+}
+
+/// The same for the conic of constant `k`.
+fn reading_of_conic(k: f64, rho: f64, bump: &dyn Fn(f64) -> f64) -> f64 {
+    let p = Profile::conic(Some(R), k);
     let z = |r: f64| p.conic_sag_slope(r).0 + bump(r);
     let h = 1e-4;
     let slope = (z(rho + h) - z(rho - h)) / (2.0 * h);
@@ -91,6 +97,26 @@ fn perfect_readings_give_the_design_surface() {
     assert!((knots.last().unwrap()[0] - 100.0).abs() < 1e-9);
     for k in &knots {
         assert!(k[1].abs() < 1e-10, "{k:?}");
+    }
+}
+
+#[test]
+fn known_departure_comes_back_for_every_conic() {
+    // Hyperboloid, prolate and oblate ellipsoid targets: readings from the
+    // normal intercept of conic + a 100 nm ring (not from the crate's
+    // reading function), surface rebuilt from 20 zones relative to that
+    // conic. A mirror that is exactly the conic comes back flat.
+    let bump = |r: f64| 1e-4 * (-((r - 60.0) / 15.0).powi(2)).exp();
+    let none = |_: f64| 0.0;
+    let radii = zone_radii(20);
+    for k in [-4.0, -0.5, 0.6] {
+        for (what, b) in [("ring", &bump as &dyn Fn(f64) -> f64), ("exact conic", &none)] {
+            let readings: Vec<[f64; 2]> = radii.iter().map(|&r| [r, reading_of_conic(k, r, b)]).collect();
+            let knots = profile_from_readings(R, k, D, &readings).unwrap();
+            for kn in knots.iter().filter(|kn| kn[0] >= radii[0]) {
+                assert!((kn[1] - b(kn[0])).abs() < 8e-6, "K = {k}, {what}, ρ {}: {} vs {}", kn[0], kn[1], b(kn[0]));
+            }
+        }
     }
 }
 

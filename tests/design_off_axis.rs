@@ -1,5 +1,5 @@
 //! Off-axis paraboloid designer: focus–directrix closed forms
-//! (REFERENCES.md row 9), then the generated layout traced.
+//! of the parabola (any analytic-geometry text), then the generated layout traced.
 
 use catoptric::analysis::spot_stats;
 use catoptric::design::{design_off_axis, OffAxisDesign, OffAxisSpec};
@@ -16,7 +16,7 @@ fn design(f: f64, h: f64, d: f64) -> OffAxisDesign {
 
 #[test]
 fn angle_and_reflected_focal_length() {
-    // Focus–directrix property of the parabola (REFERENCES.md row 9):
+    // Focus–directrix property of the parabola (any analytic-geometry text):
     // θ = 2 atan(h/(2f)), reflected focal f + h²/(4f) = f/cos²(θ/2).
     // f = 500, h = 200 → 22.6199°, 520 mm; h = 2f → 90°, 2f.
     let d = design(500.0, 200.0, 100.0);
@@ -48,7 +48,7 @@ fn feed_points_at_the_segment_from_the_focus() {
 
 #[test]
 fn traced_segment_focuses_perfectly_at_the_reported_distance() {
-    // The parabola's focal property (REFERENCES.md row 12): every ray
+    // The parabola's focal property (any analytic-geometry text): every ray
     // parallel to the axis reflects through the focus, so the traced spot
     // is ≪ 1 µm, centred on the screen, and the segment centre lies the
     // reflected focal length from it.

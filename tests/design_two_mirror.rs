@@ -2,10 +2,10 @@
 //! layouts traced.
 //!
 //! Closed forms: Schroeder, Astronomical Optics, 2nd ed. (2000), ch. 6
-//! (cited from memory; REFERENCES.md row 8, whose worked numbers were
-//! computed independently). The traces confirm them: a classical
-//! Cassegrain or Gregorian (paraboloid + secondary conic sharing its
-//! foci) images an on-axis star perfectly, and the aplanatic forms have
+//! (cited from memory; the worked numbers below were computed from those
+//! closed forms independently of this code). The traces confirm them: a
+//! classical Cassegrain or Gregorian (paraboloid + secondary conic sharing
+//! its foci) images an on-axis star perfectly, and the aplanatic forms have
 //! less off-axis blur than the classical ones at the same field.
 
 use catoptric::analysis::spot_stats;
@@ -17,8 +17,8 @@ fn rel(a: f64, b: f64) -> f64 {
     (a - b).abs() / b.abs().max(1e-300)
 }
 
-/// REFERENCES.md row 8 worked example: f₁ = 1200, F = 3200 (m = 8/3),
-/// B = 250 (β = 0.20833).
+/// Worked example (computed independently of this code from Schroeder's
+/// closed forms): f₁ = 1200, F = 3200 (m = 8/3), B = 250 (β = 0.20833).
 fn spec(kind: TwoMirrorKind, field: f64) -> TwoMirrorSpec {
     TwoMirrorSpec { kind, diameter: 300.0, primary_focal: 1200.0, focal: 3200.0, back_focus: 250.0, field_deg: field }
 }
@@ -40,7 +40,7 @@ fn rms_at_focus(d: &TwoMirrorDesign, source: &str, rays: usize) -> (f64, u64) {
 #[test]
 fn worked_example_first_order() {
     // Schroeder 2nd ed. ch. 6: k = (1+β)/(m+1), d = f₁(1−k), R₂ = m k R₁/(m−1)
-    // (REFERENCES.md row 8: k = 0.329545, d = 804.545, |R₂| = 1265.455).
+    // (computed independently: k = 0.329545, d = 804.545, |R₂| = 1265.455).
     let d = design(TwoMirrorKind::Cassegrain, 0.0);
     assert!(rel(d.magnification, 8.0 / 3.0) < 1e-12);
     assert!(rel(d.back_focus_ratio, 0.208333) < 1e-5);
@@ -56,7 +56,7 @@ fn worked_example_first_order() {
 #[test]
 fn worked_example_aplanatic_and_dall_kirkham_conics() {
     // Schroeder 2nd ed. ch. 6 aplanatic and Dall–Kirkham forms;
-    // REFERENCES.md row 8: RC K₁ = −1.138242, K₂ = −6.558237; DK K₁ = −0.610596.
+    // Computed independently: RC K₁ = −1.138242, K₂ = −6.558237; DK K₁ = −0.610596.
     let m = 8.0 / 3.0;
     let beta = 250.0 / 1200.0;
     let (k1, k2) = two_mirror_conics(TwoMirrorKind::RitcheyChretien, m, beta);
@@ -131,7 +131,7 @@ fn layout_is_valid_and_round_trips() {
 fn classical_forms_focus_an_on_axis_beam_perfectly() {
     // Paraboloid + hyperboloid (Cassegrain) or ellipsoid (Gregorian) with
     // shared foci: the on-axis image is free of aberration (conic focal
-    // properties, REFERENCES.md row 12). Traced RMS spot ≪ 1 µm at `focus`.
+    // properties, any analytic-geometry text). Traced RMS spot ≪ 1 µm at `focus`.
     for kind in [TwoMirrorKind::Cassegrain, TwoMirrorKind::Gregorian] {
         let d = design(kind, 0.0);
         let (rms, hits) = rms_at_focus(&d, "on-axis", 20_000);

@@ -24,8 +24,8 @@ fn max_miss(layout: &catoptric::Layout, i: usize) -> (usize, f64) {
     (h.len(), worst)
 }
 
-/// REFERENCES #1: ISO 10110-12:2019 sag form, worked values for R = 1000,
-/// ρ = 100 (computed independently in REFERENCES.md).
+/// ISO 10110-12:2019 sag form, worked values for R = 1000, ρ = 100
+/// (computed independently of this code from that formula).
 #[test]
 fn iso_10110_12_sag_values() {
     for (k, want) in [(-1.0, 5.00000), (0.0, 5.01256), (0.5, 5.01889), (-2.0, 4.98756)] {
@@ -41,7 +41,7 @@ fn iso_10110_12_sag_values() {
     assert!(rel(p.sag(100.0), 5.0 + 1e-9 * 1e8) < 1e-14);
 }
 
-/// REFERENCES #12: the focus of a paraboloid z = ρ²/(4f) is at (0, f): every
+/// Focal property of the parabola: the focus of a paraboloid z = ρ²/(4f) is at (0, f): every
 /// axial ray passes within 1e-9 mm of it (any analytic-geometry text).
 #[test]
 fn paraboloid_sends_every_axial_ray_to_the_focus() {
@@ -55,7 +55,7 @@ fn paraboloid_sends_every_axial_ray_to_the_focus() {
     assert!(worst < 1e-9, "rim angle 90°: worst miss {worst} mm");
 }
 
-/// REFERENCES #12, "a fact of the trade": y = x² focuses at 1/4.
+/// Focal property of the parabola (common practice): y = x² focuses at 1/4.
 #[test]
 fn y_equals_x_squared_focuses_at_one_quarter() {
     // z = ρ² is a paraboloid with c = 2 (R = 0.5), K = −1.
@@ -74,7 +74,7 @@ fn y_equals_x_squared_focuses_at_one_quarter() {
     }
 }
 
-/// REFERENCES #12: light from one focus of an ellipsoid reaches the other
+/// Focal property of the ellipse: light from one focus of an ellipsoid reaches the other
 /// (any analytic-geometry text). Foci at 50 and 500 mm from the vertex:
 /// R = 2pq/(p+q), K = −e², e = (q−p)/(q+p).
 #[test]
@@ -85,10 +85,12 @@ fn ellipsoid_images_one_focus_onto_the_other() {
     assert!(worst < 1e-9, "worst miss {worst} mm");
 }
 
-/// REFERENCES #8 and #12: a paraboloid plus a convex hyperboloid with
+/// Focal properties of the conics: a paraboloid plus a convex hyperboloid with
 /// K = −((m+1)/(m−1))² (classical Cassegrain; Schroeder, Astronomical
-/// Optics, 2nd ed., ch. 6 — value from memory, confirmed by this trace)
-/// focuses an axial beam perfectly at the hyperboloid's far focus.
+/// Optics, 2nd ed., ch. 6 — value from memory) focuses an axial beam
+/// perfectly: the hyperboloid's far focus is the paraboloid's focus, so
+/// rays aimed at it leave for its near focus (focal properties of the
+/// conics, any analytic-geometry text).
 #[test]
 fn classical_cassegrain_focuses_perfectly_on_axis() {
     let layout = load("www/presets/cassegrain.json");
@@ -97,7 +99,8 @@ fn classical_cassegrain_focuses_perfectly_on_axis() {
     assert!(worst < 1e-9, "worst miss {worst} mm");
 }
 
-/// REFERENCES #12: rays aimed at the far focus of a hyperboloid reflect
+/// Focal property of the hyperbola (any analytic-geometry text): rays
+/// aimed at the far focus of a hyperboloid reflect
 /// from its convex face toward the near focus.
 #[test]
 fn hyperboloid_redirects_rays_aimed_at_one_focus_to_the_other() {
@@ -124,7 +127,7 @@ fn hyperboloid_redirects_rays_aimed_at_one_focus_to_the_other() {
     }
 }
 
-/// REFERENCES #2: a parallel ray at height h on a sphere of radius R crosses
+/// Elementary geometry of the circle: a parallel ray at height h on a sphere of radius R crosses
 /// the axis R − R/(2 cos θ) from the vertex, sin θ = h/R (elementary
 /// geometry); the third-order longitudinal aberration is ≈ h²/(4R).
 #[test]
@@ -151,7 +154,7 @@ fn sphere_marginal_ray_axis_crossing_is_exact() {
 
 /// A parabolic trough (extruded paraboloid) brings an axial beam to a line:
 /// every hit lies on v = 0 at the focal line, spread along x (u). Same
-/// parabola property (REFERENCES #12), now in one dimension.
+/// parabola property, now in one dimension.
 #[test]
 fn extruded_parabola_forms_a_line_focus() {
     let text = r#"{"format":"catoptric-layout","version":1,"name":"trough","wavelength_nm":550,"max_bounces":4,
@@ -170,28 +173,29 @@ fn extruded_parabola_forms_a_line_focus() {
     assert!(spread_u > 150.0, "the line should run along x: {spread_u}");
 }
 
-/// REFERENCES #9: an off-axis segment of a paraboloid (parent f = 500,
-/// offset 200) focuses an axial beam perfectly at the parent focus, at the
-/// reflected focal length f + h²/(4f) = 520 mm and off-axis angle
-/// 2 atan(h/2f) = 22.6199° (focus–directrix property of the parabola).
+/// Focus–directrix property of the parabola (any analytic-geometry text):
+/// an off-axis segment of a paraboloid (parent f = 500, vertex at z = 500
+/// facing the focus at the origin, offset 200) focuses an axial beam
+/// perfectly at the parent focus, and every ray's path from a plane across
+/// the beam to the focus is that plane's distance to the directrix
+/// (z = 1000): from the launch plane z = 250, 750 mm. For the segment
+/// centre (z = 500 − h²/(4f) = 480) that leaves 520 mm from mirror to
+/// focus, the reflected focal length f + h²/(4f).
 #[test]
 fn off_axis_segment_focuses_at_parent_focus() {
     let layout = load("www/presets/off-axis-paraboloid.json");
     let (n, worst) = max_miss(&layout, 0);
     assert!(n > 19_000);
     assert!(worst < 1e-9, "worst miss {worst} mm");
-    // Segment centre: y = −200 (local y points to −y here), z = 500 − sag.
-    let f: f64 = 500.0;
-    let h: f64 = 200.0;
-    let centre = Vec3::new(0.0, -h, f - h * h / (4.0 * f));
-    assert!(rel(centre.norm(), f + h * h / (4.0 * f)) < 1e-14);
-    let angle = (h / (f - h * h / (4.0 * f))).atan().to_degrees();
-    assert!((angle - 22.6199).abs() < 1e-4);
+    let res = trace(&Scene::compile(&layout), TraceOptions::default());
+    let h = &res.screens[0];
+    let worst_path = h.opl.iter().fold(0.0f64, |m, p| m.max((p - 750.0).abs()));
+    assert!(worst_path < 1e-9, "path lengths differ from 750 mm by up to {worst_path} mm");
 }
 
 /// The f/5 sphere of the same radius: its RMS spot at the paraxial focus
 /// equals a direct sum over the exact transverse aberrations of its rays
-/// (REFERENCES #2), a closed form against the tracer.
+/// (elementary geometry of the circle), a closed form against the tracer.
 #[test]
 fn sphere_spot_at_paraxial_focus_matches_exact_rays() {
     let layout = load("www/presets/sphere-f5.json");
@@ -205,4 +209,59 @@ fn sphere_spot_at_paraxial_focus_matches_exact_rays() {
     let crossing = r - r / (2.0 * th.cos());
     let edge = (r / 2.0 - crossing) * (2.0 * th).tan();
     assert!(rel(st.max_radius, edge) < 2e-3, "{} vs {edge}", st.max_radius);
+}
+
+/// One concave mirror met three times by the same ray. Elementary geometry
+/// of the circle: a chord meeting the circle at angle θ to the radius
+/// leaves at the same angle (law of reflection) and subtends a central
+/// angle π − 2θ. A ray parallel to the axis at height h = R sin θ meets a
+/// sphere at polar angle θ (measured at the centre from the direction of
+/// the vertex), then at 3θ − π, 5θ − 2π, 7θ − 3π, …; for h ≈ R sin 60° the
+/// first three lie on a cap of semi-diameter 0.95 R (the second near the
+/// vertex) and the fourth does not, so each ray reflects three times and
+/// leaves on the far side of the axis. Expected hits on a screen across
+/// its path, and the path lengths, follow from those points alone.
+#[test]
+fn a_ray_meets_one_concave_sphere_three_times() {
+    let r = 100.0f64;
+    let (h0, zs) = (r * 60f64.to_radians().sin(), 120.0);
+    let text = format!(
+        r#"{{"format":"catoptric-layout","version":1,"name":"three bounces","wavelength_nm":550,"max_bounces":8,
+      "elements":[{{"kind":"mirror","id":"bowl","vertex":[0,0],"axis_deg":0,"form":"revolved",
+        "profile":{{"radius":{r},"conic":0}},"aperture":{{"diameter":190}}}},
+        {{"kind":"screen","id":"out","center":[{y},{zs}],"axis_deg":180,"size":10,"shape":"square"}}],
+      "sources":[{{"kind":"beam","id":"pencil","center":[{h0},140],"direction_deg":180,"diameter":2,"rays":61,"pattern":"hex"}}]}}"#,
+        y = -h0
+    );
+    let layout = parse_layout(&text).unwrap();
+    let scene = Scene::compile(&layout);
+    let em = catoptric::trace::Emitter::new(&scene.sources[0], 61);
+    // Point at polar angle φ in the plane of the axis and the ray:
+    // (s, z) = (R sin φ, R − R cos φ), s along the ray's azimuth.
+    let at = |phi: f64| (r * phi.sin(), r - r * phi.cos());
+    let pi = std::f64::consts::PI;
+    for res in [trace(&scene, TraceOptions::default()), catoptric::trace::trace_reference(&scene, TraceOptions::default())] {
+        let hits = &res.screens[0];
+        assert_eq!(hits.len(), em.len(), "every ray reaches the screen after three reflections");
+        assert_eq!(res.surface_hits, 4 * em.len() as u64, "three mirror hits and one screen hit per ray");
+        for i in 0..em.len() {
+            let ray = em.ray(i);
+            let (x0, y0) = (ray.origin.x, ray.origin.y);
+            let h = x0.hypot(y0);
+            let (ex, ey) = (x0 / h, y0 / h);
+            let th = (h / r).asin();
+            let (p1, p3, p4) = (at(th), at(5.0 * th - 2.0 * pi), at(7.0 * th - 3.0 * pi));
+            let len = (p4.0 - p3.0).hypot(p4.1 - p3.1);
+            let (ds, dz) = ((p4.0 - p3.0) / len, (p4.1 - p3.1) / len);
+            let t = (zs - p3.1) / dz;
+            let s = p3.0 + t * ds;
+            // Screen frame (axis 180°): u = x, v = −(y − y_c), w = −z.
+            let (u, v) = (s * ex, -(s * ey + h0));
+            assert!((hits.u[i] - u).abs() < 1e-9 && (hits.v[i] - v).abs() < 1e-9, "ray {i}: ({}, {}) vs ({u}, {v})", hits.u[i], hits.v[i]);
+            assert!((hits.du[i] - ds * ex).abs() < 1e-9 && (hits.dv[i] + ds * ey).abs() < 1e-9 && (hits.dw[i] + dz).abs() < 1e-9, "ray {i}: direction");
+            // Launch plane to P1, two chords of 2R cos θ, P3 to the screen.
+            let opl = (140.0 - p1.1) + 2.0 * (2.0 * r * th.cos()) + t;
+            assert!((hits.opl[i] - opl).abs() < 1e-9, "ray {i}: path {} vs {opl}", hits.opl[i]);
+        }
+    }
 }

@@ -5,7 +5,7 @@
 //! 1e-9 mm of the focus it is meant for.
 //!
 //! Foci of the vertex-form conic z = cρ²/(1+√(1−(1+K)c²ρ²)) (any
-//! analytic-geometry text; REFERENCES.md rows 1 and 12): with e = √(−K),
+//! analytic-geometry text; the sag form is ISO 10110-12:2019): with e = √(−K),
 //! K < 0, K ≠ −1, the foci are on the axis at z = R/(1+e) and z = R/(1−e)
 //! (a prolate ellipsoid has both on the reflective side for R > 0; a
 //! hyperboloid has R/(1+e) on that side and R/(1−e) behind the vertex);
@@ -310,7 +310,7 @@ fn extruded_conics_have_line_foci() {
     }
 }
 
-/// REFERENCES #2 (elementary geometry): the exact axis crossing of a
+/// Elementary geometry of the circle: the exact axis crossing of a
 /// parallel ray on a sphere, R − R/(2 cos θ), sin θ = h/R, also holds when
 /// the mirror is turned and moved far from the origin.
 #[test]

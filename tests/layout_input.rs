@@ -1,5 +1,5 @@
 //! Layout files and share links: every class of bad input is refused with
-//! the offending field named (DESIGN.md §4), round trips are exact, and no
+//! the offending field named (docs/FORMATS.md §2), round trips are exact, and no
 //! input makes the library panic (common practice: fuzz the boundary).
 
 mod common;

@@ -1,9 +1,11 @@
 //! Random layouts built from random valid values (not mutations of
-//! one file), traced with few rays. Never panic on input (DESIGN.md §8):
+//! one file), traced with few rays. Never panic on input (docs/FORMATS.md §4):
 //! every launched ray is counted as escaped or absorbed, every hit is
-//! finite with a unit direction arriving on the sensitive face, no screen
-//! gets more power than was launched, and the report, fan and flux maps
-//! come out finite.
+//! finite with a unit direction arriving on the sensitive face, no hit
+//! carries more power than its ray was launched with, opaque screens
+//! together receive no more than was launched (a transparent screen may
+//! count a ray once per leg that crosses it), and the report, fan and flux
+//! maps come out finite.
 
 mod layout_support;
 use catoptric::analysis::{analyse_all, flux_map};
@@ -31,9 +33,30 @@ fn exercise(text: &str) -> bool {
             assert!(h.dw[k] < 0.0, "recorded from the back\n{text}");
             assert!(h.opl[k] >= 0.0 && h.weight[k] >= 0.0);
         }
+        // No gain on reflection (reflectivity ≤ 1): a hit carries at most
+        // the power its ray was launched with.
+        for k in 0..h.len() {
+            let s = h.source[k] as usize;
+            let launched_w = res.power_by_source[s] / res.launched_by_source[s] as f64;
+            assert!(h.weight[k] <= launched_w * (1.0 + 1e-12), "hit {k} carries {} W > {launched_w} W launched\n{text}", h.weight[k]);
+        }
+        // A transparent screen records a ray once per leg that crosses it
+        // toward its face, and a ray makes at most max_bounces + 1 legs.
         let p: f64 = h.weight.iter().sum();
-        assert!(p <= launched_power * (1.0 + 1e-9) * (1 + scene.max_bounces) as f64 + 1e-300, "power {p} > launched\n{text}");
+        assert!(h.len() as u64 <= res.rays_launched * (1 + scene.max_bounces as u64), "{} hits\n{text}", h.len());
+        assert!(p <= launched_power * (1.0 + 1e-9) * (1 + scene.max_bounces) as f64, "power {p} W\n{text}");
     }
+    // An opaque screen ends every ray it records, so all opaque screens
+    // together receive no more than was launched (energy conservation).
+    let opaque: f64 = scene
+        .elements
+        .iter()
+        .filter_map(|e| match e.part {
+            catoptric::scene::Part::Screen { opaque: true, index, .. } => Some(res.screens[index].weight.iter().sum::<f64>()),
+            _ => None,
+        })
+        .sum();
+    assert!(opaque <= launched_power * (1.0 + 1e-9), "opaque screens receive {opaque} W of {launched_power} W\n{text}");
     let all = analyse_all(&scene, &res);
     let json = serde_json::to_value(&all.report).unwrap();
     fn finite(v: &Value, path: &str, text: &str) {

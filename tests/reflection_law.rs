@@ -74,7 +74,7 @@ fn reflection_law_holds_on_random_surfaces_and_rays() {
     assert!(hits > 2000, "only {hits} hits");
 }
 
-/// STYLE.md: a closed form against the general path. A conic carrying an
+/// Common practice: a closed form against the general path. A conic carrying an
 /// all-zero departure spline goes through the iterative solver; it must
 /// agree with the closed-form quadratic to well below a nanometre.
 #[test]

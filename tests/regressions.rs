@@ -12,7 +12,7 @@ use serde_json::json;
 /// flat carrying the departure ρ²/(4f) of a paraboloid threw the central
 /// rays about 1.4 mm wide of the focus (f = 1000 mm, knots every 5 mm).
 /// The revolved departure is now built even (knots mirrored about the
-/// axis), smooth at the vertex. Focus–directrix property (REFERENCES #12):
+/// axis), smooth at the vertex. Focus–directrix property of the parabola:
 /// the drawn parabola must focus like the paraboloid, to within the spline's
 /// interpolation error (µm here).
 #[test]

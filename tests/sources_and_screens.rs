@@ -90,7 +90,7 @@ fn beam_power_is_irradiance_times_area_and_reflectivity_scales_it() {
     assert!(h.opl.iter().all(|&o| (o - 900.0).abs() < 1e-9));
 }
 
-/// The sun as a uniform disk of half-angle θs (DESIGN.md §4): a uniform
+/// The sun as a uniform disk of half-angle θs (docs/FORMATS.md §2): a uniform
 /// disk has a fraction (θ/θs)² of its directions within θ, mean θ² of
 /// θs²/2 and no direction beyond θs (geometry of the disk; common
 /// practice).
@@ -193,7 +193,7 @@ fn out_of_plane_beam_on_a_paraboloid_shows_first_order_image_and_third_order_com
     }
 }
 
-/// Screen behaviour (DESIGN.md §3/§4): a square of side s catches the part
+/// Screen behaviour (docs/FORMATS.md §1, §2): a square of side s catches the part
 /// of a uniform beam inside the square, a circle of diameter s the part
 /// inside the circle (area ratios, common practice); hits arriving on the
 /// back face are not recorded; a transparent screen lets rays on, an opaque
@@ -263,8 +263,10 @@ fn lamp_on_a_screen_records_only_the_returning_light() {
     }
 }
 
-/// Determinism (DESIGN.md §8): two traces of the same layout, and two
-/// fans, are bit-identical.
+/// Determinism (docs/FORMATS.md §4): two traces of the same layout, and two
+/// fans, are bit-identical within one process (a cloned scene, so no state
+/// is shared). Across builds and runs, the stored reports of
+/// tests/golden_reports.rs catch a change.
 #[test]
 fn traces_repeat_bit_for_bit() {
     let mut sun = beam("sun", [0.0, 1500.0], 180.0, 300.0, 9000, "random");

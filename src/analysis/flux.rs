@@ -36,7 +36,7 @@ pub struct FluxMap {
     pub w_m2: Vec<f64>,
 }
 
-/// Flux figures of one screen (DESIGN.md §5 `flux`).
+/// Flux figures of one screen (docs/FORMATS.md §3, `flux`).
 #[derive(Debug, Clone, Copy, Default, PartialEq, Serialize)]
 pub struct FluxStats {
     /// Largest pixel irradiance, W/m².

@@ -1,5 +1,5 @@
 //! The trace report: the JSON document `catoptric trace --json` prints and
-//! the page's statistics table shows (DESIGN.md §5), and [`analyse_all`],
+//! the page's statistics table shows (docs/FORMATS.md §3), and [`analyse_all`],
 //! which adds the curves and maps the page draws.
 //!
 //! Analysis keys are `null` where they mean nothing: fewer than 3 hits

@@ -1,6 +1,6 @@
 //! Layout file, version 1: the document a designer saves, shares and opens.
 //!
-//! The types mirror the JSON contract of DESIGN.md §4 exactly. Unknown
+//! The types mirror the JSON contract of docs/FORMATS.md §2 exactly. Unknown
 //! fields are refused; optional fields have the documented defaults. Parsing
 //! ([`parse_layout`]) reports the JSON path of the first offending field,
 //! and [`validate`] checks the values (finite, positive, inside a conic's

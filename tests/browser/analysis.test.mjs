@@ -55,8 +55,13 @@ async function showView(page, id) {
   if (await page.getAttribute('#drawer', 'data-open') !== 'true') await page.click('#btn-drawer');
   await page.click(`#view-tabs [data-view="${id}"]`);
   await page.waitForFunction((v) => !document.getElementById(`view-${v}`).hidden, id);
-  // Let the drawer finish opening and the plots redraw at their size.
-  await page.waitForTimeout(350);
+  // Wait until the drawer has finished sliding open (its height
+  // transition, a CSS animation, is over), then redraw the plots at their
+  // final size.
+  await page.waitForFunction(() => {
+    const d = document.getElementById('drawer');
+    return d.dataset.open === 'true' && d.getAnimations().length === 0 && d.getBoundingClientRect().height > 0;
+  });
   await page.evaluate(() => window.catoptric.drawer.update());
 }
 

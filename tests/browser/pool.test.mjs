@@ -1,4 +1,4 @@
-// The page's worker pool (www/js/pool.js, DESIGN §9.1): a long trace cut
+// The page's worker pool (www/js/pool.js, DEVELOPERS.md, the page's trace pool): a long trace cut
 // into numbered slices, one per worker, merged in ray order, is exactly the
 // whole trace, and a newer trace stops the running one.
 //

@@ -377,7 +377,7 @@ describe('the workbench page', () => {
       await settled(page);
       assert.equal(await page.evaluate(() => window.progressSeen), true, 'the progress indicator showed');
       assert.equal(await page.evaluate(() => window.catoptric.result.background), true, 'the full trace came from the worker pool');
-      // One worker per hardware thread, at most 8 (DESIGN §9.1).
+      // One worker per hardware thread, at most 8 (DEVELOPERS.md, the page's trace pool).
       const [workers, want] = await page.evaluate(() => [
         document.getElementById('ro-time').dataset.workers,
         Math.max(1, Math.min(8, navigator.hardwareConcurrency || 1)),

@@ -1,5 +1,5 @@
 // Number formatting, units and the meaning of every figure the page shows.
-// A figure's key is the JSON key of the statistics report (DESIGN.md §5);
+// A figure's key is the JSON key of the statistics report (docs/FORMATS.md §3);
 // its unit comes from the key's suffix.
 
 const THIN = '\u2009';

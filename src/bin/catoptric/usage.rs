@@ -1,5 +1,5 @@
 //! Command-line mistakes as one line, `<flag>: <what is wrong>`, like every
-//! other bad input (DESIGN.md §9): clap's own report spans several lines.
+//! other bad input (docs/FORMATS.md §3): clap's own report spans several lines.
 
 use clap::error::{ContextKind, ContextValue, ErrorKind};
 use std::num::{IntErrorKind, ParseFloatError, ParseIntError};
