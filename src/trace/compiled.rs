@@ -27,6 +27,12 @@ impl PlaneFrame {
     pub fn point_to_local(&self, x: f64, y: f64, z: f64) -> (f64, f64, f64) {
         self.dir_to_local(x, y - self.oy, z - self.oz)
     }
+    /// A ray's point at parameter `t0` and its direction, both local.
+    #[inline(always)]
+    pub fn ray_to_local(&self, o: (f64, f64, f64), d: (f64, f64, f64), t0: f64) -> ((f64, f64, f64), (f64, f64, f64)) {
+        let p = self.point_to_local(o.0 + d.0 * t0, o.1 + d.1 * t0, o.2 + d.2 * t0);
+        (p, self.dir_to_local(d.0, d.1, d.2))
+    }
     /// Local direction → world.
     #[inline(always)]
     pub fn dir_to_world(&self, x: f64, y: f64, z: f64) -> (f64, f64, f64) {

@@ -392,8 +392,7 @@ fn conic_body(r: &Rec, cr: &ConicRec, k: u32, eps: f64, b: &mut Batch, n: usize)
     let mut hits = 0;
     for i in 0..n {
         let t0 = t0s[i];
-        let (lx, ly, lz) = f.point_to_local(ox[i] + dx[i] * t0, oy[i] + dy[i] * t0, oz[i] + dz[i] * t0);
-        let (ldx, ldy, ldz) = f.dir_to_local(dx[i], dy[i], dz[i]);
+        let ((lx, ly, lz), (ldx, ldy, ldz)) = f.ray_to_local((ox[i], oy[i], oz[i]), (dx[i], dy[i], dz[i]), t0);
         // c(x² + y²) − 2z + (1+K)c z² = 0 along the ray (x dropped for a trough).
         let (qx, qdx) = (lx * xs, ldx * xs);
         let qa = c * (qdx * qdx + ldy * ldy) + kap * ldz * ldz;
@@ -432,8 +431,7 @@ fn screen_body(r: &Rec, half: f64, circle: bool, k: u32, eps: f64, b: &mut Batch
     let mut hits = 0;
     for i in 0..n {
         let t0 = t0s[i];
-        let (lx, ly, lz) = f.point_to_local(ox[i] + dx[i] * t0, oy[i] + dy[i] * t0, oz[i] + dz[i] * t0);
-        let (ldx, ldy, ldz) = f.dir_to_local(dx[i], dy[i], dz[i]);
+        let ((lx, ly, lz), (ldx, ldy, ldz)) = f.ray_to_local((ox[i], oy[i], oz[i]), (dx[i], dy[i], dz[i]), t0);
         let tl = -lz / ldz;
         let t = t0 + tl;
         let (px, py) = (lx + ldx * tl, ly + ldy * tl);

@@ -131,7 +131,8 @@ pub fn trace_part(
     res.rays_launched = total;
     let comp = Compiled::new(scene);
     let kernel = opts.kernel.unwrap_or_else(Kernel::detect);
-    let threads = thread_count(&opts);
+    // A wasm module has no threads: its chunks run one after another.
+    let threads = if cfg!(target_arch = "wasm32") { 1 } else { thread_count(&opts) };
     // Chunks in ray order: (source, ray range).
     let chunks: Vec<(usize, std::ops::Range<usize>)> = ranges
         .iter()
@@ -146,7 +147,7 @@ pub fn trace_part(
     let max_hits = opts.max_hits.unwrap_or(MAX_RECORDED_HITS);
     let cap = |rays: usize| chunk_hit_cap(rays as u64, all_rays, max_hits);
     let mut done = 0u64;
-    if threads <= 1 || chunks.len() <= 1 {
+    if cfg!(target_arch = "wasm32") || threads <= 1 || chunks.len() <= 1 {
         let mut batch = Batch::new();
         for (si, r) in chunks {
             let t = trace_range(scene, &comp, kernel, &ems[si], si as u32, r.clone(), cap(r.len()), &mut batch, &mut res.screens);
@@ -160,6 +161,7 @@ pub fn trace_part(
         settle_limit(res);
         return;
     }
+    #[cfg(not(target_arch = "wasm32"))]
     parallel(scene, &comp, kernel, &ems, &chunks, threads, (&cap, max_hits), res, &mut |n| {
         done += n;
         progress(done, total);
@@ -286,31 +288,6 @@ fn give_buffers(mut out: Vec<ScreenHits>) {
     if let Ok(mut p) = BUFFERS.lock() {
         if p.len() < KEPT_BUFFERS {
             p.push(out);
-        }
-    }
-}
-
-/// Without threads (a wasm module): the chunks one after another.
-#[cfg(target_arch = "wasm32")]
-#[allow(clippy::too_many_arguments)]
-fn parallel(
-    scene: &Scene,
-    comp: &Compiled,
-    kernel: Kernel,
-    ems: &[Emitter],
-    chunks: &[(usize, std::ops::Range<usize>)],
-    _threads: usize,
-    (cap, max_hits): (&(dyn Fn(usize) -> u64 + Sync), u64),
-    res: &mut TraceResult,
-    progress: &mut dyn FnMut(u64),
-) {
-    let mut batch = Batch::new();
-    for (si, r) in chunks {
-        let t = trace_range(scene, comp, kernel, &ems[*si], *si as u32, r.clone(), cap(r.len()), &mut batch, &mut res.screens);
-        add_tally(res, &t, max_hits);
-        progress(r.len() as u64);
-        if t.over_cap {
-            break;
         }
     }
 }
