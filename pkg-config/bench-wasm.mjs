@@ -1,5 +1,5 @@
 // Times the standard benchmark scenes inside the wasm build (www/pkg) under
-// Node, best of N runs each, single thread. Prints JSON on stdout:
+// Node, best of N runs each after warm-up runs, single thread. Prints JSON on stdout:
 // {"engine":"node <version>","scenes":[{"index","key","rays","seconds","frame_ms"}]}.
 // frame_ms: one dragging frame of the page (20k rays, analyses, fan, caustic).
 // `catoptric bench` runs this and prints wasm beside native.
@@ -33,8 +33,16 @@ for (let i = 0; i < argv.length; i += 2) {
 const glue = await import(pathToFileURL(join(opts.pkg, 'catoptric.js')).href);
 glue.initSync({ module: readFileSync(join(opts.pkg, 'catoptric_bg.wasm')) });
 
+// V8 first runs wasm from its quick baseline compiler and swaps in the
+// optimised code once a function is hot; untimed warm-up runs make the
+// timed ones measure the optimised code, as a page does after a few frames.
+const WARMUP = 3;
 const scenes = [];
 for (let index = 0; index < glue.bench_scene_count(); index++) {
+  for (let r = 0; r < WARMUP; r++) {
+    glue.bench_scene(index, Math.min(opts.rays, 200_000));
+    glue.bench_frame_ms(index);
+  }
   let best = Infinity;
   for (let r = 0; r < opts.runs; r++) {
     const s = glue.bench_scene(index, opts.rays);
