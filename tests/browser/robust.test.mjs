@@ -27,13 +27,13 @@ after(() => tearDown(env));
  * Two facing concave spheres (R 100 mm, 100 mm apart: confocal), a lamp at
  * the common focus, `screens` transparent screens between them.
  */
-function cavity({ name, rays, screens = 1, diameter = 120, cone = 5, bounces = 1000 }) {
+function cavity({ name, rays, screens = 1, diameter = 120, cone = 5, bounces = 1000, screenAt = 30 }) {
   const elements = [
     { kind: 'mirror', id: 'left', vertex: [0, 0], axis_deg: 0, form: 'revolved', profile: { radius: 100, conic: 0 }, aperture: { diameter } },
     { kind: 'mirror', id: 'right', vertex: [0, 100], axis_deg: 180, form: 'revolved', profile: { radius: 100, conic: 0 }, aperture: { diameter } },
   ];
   for (let i = 0; i < screens; i++) {
-    elements.push({ kind: 'screen', id: `screen-${i + 1}`, center: [0, 30 + 4 * i], axis_deg: 0, size: diameter, shape: 'circle' });
+    elements.push({ kind: 'screen', id: `screen-${i + 1}`, center: [0, screenAt + 4 * i], axis_deg: 0, size: diameter, shape: 'circle' });
   }
   return {
     format: 'catoptric-layout', version: 1, name, notes: '', wavelength_nm: 550, max_bounces: bounces, elements,
@@ -110,7 +110,10 @@ async function historyNames(page) {
 
 describe('bounded work', () => {
   test('a cavity link over the work budget opens paused without a freeze; Trace anyway runs in the pool and Stop ends it; the earlier work survives a reload', async () => {
-    const layout = cavity({ name: 'Ten-screen cavity', rays: 100_000, screens: 10 });
+    // The screens stand outside the cavity: the worst case is over the
+    // budget, and the full trace is long (rays bounce up to 1000 times)
+    // without reaching the hit cap, so Stop finds it still running.
+    const layout = cavity({ name: 'Ten-screen cavity', rays: 100_000, screens: 10, screenAt: 300 });
     const path = writeLayout(layout);
     // The native front end refuses it for the same reason.
     const cli = run(['trace', path]);
