@@ -19,7 +19,7 @@ import { after, before, describe, test } from 'node:test';
 import assert from 'node:assert/strict';
 import { mkdirSync, readFileSync, writeFileSync } from 'node:fs';
 import { join } from 'node:path';
-import { READY_MS, close, native, setUp, settled, tearDown, watchPage } from './harness.mjs';
+import { READY_MS, assertMatchesNative, close, native, readStats, setUp, settled, tearDown, watchPage } from './harness.mjs';
 
 const SHOTS = process.env.CATOPTRIC_SHOTS || '';
 let env;
@@ -104,38 +104,6 @@ async function shot(page, name) {
   if (SHOTS) await page.screenshot({ path: join(SHOTS, `${name}.png`) });
 }
 
-/** Every statistics cell of the spot view: "screen|source|key" -> value. */
-async function readStats(page) {
-  return page.evaluate(() => {
-    const out = {};
-    for (const c of document.querySelectorAll('[data-stat]')) {
-      out[`${c.dataset.screen}|${c.dataset.source}|${c.dataset.stat}`] = JSON.parse(c.dataset.value);
-    }
-    return out;
-  });
-}
-
-/** Asserts the spot view's statistics equal a native trace report. */
-function assertStatsMatch(stats, report) {
-  let compared = 0;
-  const check = (key, want) => {
-    assert.ok(key in stats, `the page shows ${key}`);
-    same(stats[key], want, key);
-    compared++;
-  };
-  for (const k of ['rays_launched', 'rays_escaped', 'rays_absorbed']) check(`||${k}`, report[k]);
-  for (const sc of report.screens) {
-    check(`${sc.id}||hits`, sc.hits);
-    for (const row of sc.by_source) {
-      for (const [k, v] of Object.entries(row)) {
-        if (k === 'source' || (typeof v !== 'number' && !Array.isArray(v))) continue;
-        check(`${sc.id}|${row.source}|${k}`, v);
-      }
-    }
-  }
-  assert.ok(compared >= 10, `compared ${compared} figures`);
-}
-
 /** Opens a generated layout with `button`, checks it against the native layout file and its trace. */
 async function openAndCompare(page, button, layoutFile) {
   const want = JSON.parse(readFileSync(layoutFile, 'utf8'));
@@ -144,7 +112,7 @@ async function openAndCompare(page, button, layoutFile) {
   await settled(page);
   const got = await page.evaluate(() => JSON.parse(window.catoptric.session.layout_json()));
   same(got, want, 'opened layout');
-  assertStatsMatch(await readStats(page), JSON.parse(native(['trace', layoutFile, '--json'])));
+  assertMatchesNative(await readStats(page), JSON.parse(native(['trace', layoutFile, '--json'])));
   // Undo brings the previous layout back.
   await page.click('#btn-undo');
   await settled(page);
@@ -322,7 +290,7 @@ describe('designer and testing views', () => {
       assert.ok(mirror.profile.departure.length >= 2, 'the mirror carries the measured departure');
       const file = join(scratch, 'measured.json');
       writeFileSync(file, JSON.stringify(layout));
-      assertStatsMatch(await readStats(page), JSON.parse(native(['trace', file, '--json'])));
+      assertMatchesNative(await readStats(page), JSON.parse(native(['trace', file, '--json'])));
       assert.equal(await page.evaluate(() => window.catoptric.drawer.current), 'spot');
       await shot(page, 'measured-traced');
       await page.click('#btn-undo');
