@@ -38,6 +38,8 @@ fn same(a: &TraceResult, b: &TraceResult, what: &str) {
             }
         }
         assert_eq!(x.source, y.source, "{what}: sources on screen {k}");
+        assert_eq!(x.first, y.first, "{what}: first arrivals on screen {k}");
+        assert_eq!(x.first.len(), x.len(), "{what}: one first-arrival flag per hit");
     }
 }
 

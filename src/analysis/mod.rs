@@ -41,6 +41,6 @@ pub use focus::{
     MIN_SLOPE_SPREAD,
 };
 pub use longitudinal::{longitudinal_aberration, trace_meridional, LongitudinalAberration};
-pub use report::{analyse_all, trace_report, Analyses, ScreenReport, SourceCurves, SourceReport, TraceReport, CURVE_POINTS};
+pub use report::{analyse_all, first_arrivals, trace_report, Analyses, ScreenReport, SourceCurves, SourceReport, TraceReport, CURVE_POINTS};
 pub use spot::{spot_stats, SpotStats};
 pub use wavefront::{strehl_from_rms, wavefront, wavefront_map, WavefrontMap, WavefrontStats, MARECHAL_RMS_WAVES};

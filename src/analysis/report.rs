@@ -45,11 +45,28 @@ pub struct SourceReport {
     pub ee80_radius_um: Option<f64>,
 }
 
+/// Rays that reached a screen (each counted once, at its first arrival)
+/// and the power they brought, W.
+pub fn first_arrivals(h: &ScreenHits) -> (u64, f64) {
+    let (mut n, mut w) = (0u64, 0.0);
+    for (i, &wi) in h.weight.iter().enumerate() {
+        if h.first.get(i).copied().unwrap_or(true) {
+            n += 1;
+            w += wi;
+        }
+    }
+    (n, w)
+}
+
 /// Figures for one screen.
 #[derive(Debug, Clone, Serialize, PartialEq)]
 pub struct ScreenReport {
     pub id: String,
+    /// Rays that reached the screen, each counted once.
     pub hits: u64,
+    /// Every recorded crossing: more than `hits` when rays come back (a
+    /// screen inside a cavity).
+    pub crossings: u64,
     pub power_w: f64,
     pub by_source: Vec<SourceReport>,
     /// Flux of all sources together on a [`DEFAULT_FLUX_GRID`]-square grid.
@@ -149,7 +166,9 @@ fn analyse(scene: &Scene, res: &TraceResult, with_curves: bool) -> Analyses {
         );
         let flux = flux_stats_of(scene, res, k, &map);
         let id = scene.screen_ids[k].clone();
-        (ScreenReport { id, hits: hits.len() as u64, power_w: hits.weight.iter().sum(), by_source, flux }, map, c)
+        let (arrivals, power_w) = first_arrivals(hits);
+        let crossings = hits.len() as u64;
+        (ScreenReport { id, hits: arrivals, crossings, power_w, by_source, flux }, map, c)
     };
     for k in 0..res.screens.len().min(scene.screen_ids.len()) {
         let (r, map, c) = per_screen(k);

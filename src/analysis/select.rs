@@ -3,8 +3,9 @@
 //! A trace records hits source by source (each source's rays in order), so
 //! one source's hits are one contiguous run of a screen's columns: picking
 //! them is two binary searches, and every analysis loops over plain
-//! slices. Hits gathered some other way (out of source order) are copied
-//! into source order first.
+//! slices. Hits gathered some other way (out of source order), and the
+//! later crossings of rays that come back to a screen, are left out by
+//! copying the picked hits first.
 
 use crate::trace::ScreenHits;
 use std::borrow::Cow;
@@ -31,21 +32,28 @@ pub(crate) struct Subset<'a> {
 
 impl<'a> Subset<'a> {
     pub fn new(h: &'a ScreenHits, source: Option<u32>) -> Self {
-        let (h, range) = match source {
-            None => (Cow::Borrowed(h), 0..h.len()),
-            Some(s) if h.source.windows(2).all(|p| p[0] <= p[1]) => {
+        // A ray that comes back to the screen (a cavity) counts once: its
+        // first arrival. Hits recorded without the flag count as first.
+        let first = |i: usize| h.first.get(i).copied().unwrap_or(true);
+        let sorted = h.source.windows(2).all(|p| p[0] <= p[1]);
+        let (lo, hi) = match source {
+            None => (0, h.len()),
+            Some(s) if sorted => {
                 let lo = h.source.partition_point(|&x| x < s);
-                let hi = lo + h.source[lo..].partition_point(|&x| x == s);
-                (Cow::Borrowed(h), lo..hi)
+                (lo, lo + h.source[lo..].partition_point(|&x| x == s))
             }
-            Some(s) => {
-                let mut own = ScreenHits::default();
-                for i in (0..h.len()).filter(|&i| h.source[i] == s) {
-                    own.extend_range(h, i..i + 1);
-                }
-                let n = own.len();
-                (Cow::Owned(own), 0..n)
+            Some(_) => (0, 0),
+        };
+        let contiguous = (source.is_none() || sorted) && h.first.get(lo..hi.min(h.first.len())).is_none_or(|f| f.iter().all(|&x| x));
+        let (h, range) = if contiguous {
+            (Cow::Borrowed(h), lo..hi)
+        } else {
+            let mut own = ScreenHits::default();
+            for i in (0..h.len()).filter(|&i| source.is_none_or(|s| h.source[i] == s) && first(i)) {
+                own.extend_range(h, i..i + 1);
             }
+            let n = own.len();
+            (Cow::Owned(own), 0..n)
         };
         let power: f64 = h.weight[range.clone()].iter().sum();
         let equal = power <= 0.0 || power.is_nan();

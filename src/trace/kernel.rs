@@ -21,7 +21,7 @@
 
 use super::compiled::{Compiled, ConicRec, Kind, Rec};
 use super::source::Emitter;
-use super::tracer::ScreenHits;
+use super::tracer::{ScreenHits, ScreenSet};
 use crate::geometry::Vec3;
 use crate::scene::{Part, Scene};
 
@@ -63,6 +63,8 @@ pub(crate) struct Batch {
     bounces: Vec<u32>,
     /// Element the ray cannot meet on this leg, or NONE.
     skip: Vec<u32>,
+    /// Screens the ray has been recorded on.
+    seen: Vec<ScreenSet>,
     // Nearest hit so far this round.
     t: Vec<f64>,
     best: Vec<u32>,
@@ -101,6 +103,7 @@ impl Batch {
             ray: vec![0; LANES],
             bounces: vec![0; LANES],
             skip: vec![NONE; LANES],
+            seen: vec![ScreenSet::default(); LANES],
             t: col(),
             best: vec![NONE; LANES],
             hx: col(),
@@ -245,6 +248,7 @@ pub(crate) fn trace_range(
         }
         batch.bounces[..n].fill(0);
         batch.skip[..n].fill(NONE);
+        batch.seen[..n].fill(ScreenSet::default());
         for (r, o) in batch.recorded.iter_mut().zip(out.iter()) {
             r.start = o.len();
             r.rays.clear();
@@ -296,6 +300,10 @@ fn order_hits(b: &mut Batch, out: &mut [ScreenHits]) {
             for (j, &d) in dest.iter().enumerate() {
                 col[s + d as usize] = b.scratch[j];
             }
+        }
+        let first: Vec<bool> = o.first[s..].to_vec();
+        for (j, &d) in dest.iter().enumerate() {
+            o.first[s + d as usize] = first[j];
         }
     }
 }
@@ -530,6 +538,7 @@ fn shade(
         for col in [&mut b.ray, &mut b.bounces, &mut b.skip] {
             gather(col, sel);
         }
+        gather(&mut b.seen, sel);
     }
     live
 }
@@ -592,6 +601,11 @@ fn record(rec: &Rec, k: u32, opaque: bool, kernel: Kernel, b: &mut Batch, n: usi
     }
     o.source.extend(std::iter::repeat_n(src, m));
     r.rays.extend(lanes.iter().map(|&i| b.ray[i as usize]));
+    for &i in lanes {
+        let seen = &mut b.seen[i as usize];
+        o.first.push(!seen.contains(screen));
+        seen.insert(screen);
+    }
 }
 
 /// The crossing itself, for every lane whose nearest hit is screen `k`:

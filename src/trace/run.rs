@@ -262,6 +262,7 @@ fn concat_parallel(dst: &mut ScreenHits, parts: &[&ScreenHits]) {
     column(&mut dst.opl, parts.iter().map(|p| &p.opl[..]).collect());
     column(&mut dst.weight, parts.iter().map(|p| &p.weight[..]).collect());
     column(&mut dst.source, parts.iter().map(|p| &p.source[..]).collect());
+    column(&mut dst.first, parts.iter().map(|p| &p.first[..]).collect());
 }
 
 /// Chunk output buffers kept between traces: a re-trace writes into memory

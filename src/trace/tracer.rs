@@ -23,6 +23,9 @@ pub struct ScreenHits {
     pub weight: Vec<f64>,
     /// Index into the layout's sources.
     pub source: Vec<u32>,
+    /// True for a ray's first arrival on this screen; false when the same
+    /// ray comes back (a cavity, a screen between two mirrors).
+    pub first: Vec<bool>,
 }
 
 impl ScreenHits {
@@ -42,6 +45,7 @@ impl ScreenHits {
         self.opl.clear();
         self.weight.clear();
         self.source.clear();
+        self.first.clear();
     }
     /// Room for `n` more hits in every column.
     pub fn reserve(&mut self, n: usize) {
@@ -53,6 +57,7 @@ impl ScreenHits {
         self.opl.reserve(n);
         self.weight.reserve(n);
         self.source.reserve(n);
+        self.first.reserve(n);
     }
     /// Appends every hit of `o`.
     pub fn append(&mut self, o: &ScreenHits) {
@@ -67,10 +72,16 @@ impl ScreenHits {
         self.dw.extend_from_slice(&o.dw[r.clone()]);
         self.opl.extend_from_slice(&o.opl[r.clone()]);
         self.weight.extend_from_slice(&o.weight[r.clone()]);
-        self.source.extend_from_slice(&o.source[r]);
+        self.source.extend_from_slice(&o.source[r.clone()]);
+        // Hits built without the first-arrival flag count as first.
+        match o.first.get(r.clone()) {
+            Some(f) => self.first.extend_from_slice(f),
+            None => self.first.extend(r.map(|i| o.first.get(i).copied().unwrap_or(true))),
+        }
     }
     #[inline(always)]
-    fn push(&mut self, u: f64, v: f64, d: &Vec3, opl: f64, w: f64, src: u32) {
+    #[allow(clippy::too_many_arguments)]
+    fn push(&mut self, u: f64, v: f64, d: &Vec3, opl: f64, w: f64, src: u32, first: bool) {
         self.u.push(u);
         self.v.push(v);
         self.du.push(d.x);
@@ -79,6 +90,26 @@ impl ScreenHits {
         self.opl.push(opl);
         self.weight.push(w);
         self.source.push(src);
+        self.first.push(first);
+    }
+}
+
+/// The screens a ray has been recorded on (screen indices below 256, the
+/// most a layout may have; a larger index always counts as a first
+/// arrival).
+#[derive(Debug, Clone, Copy, Default, PartialEq, Eq)]
+pub(crate) struct ScreenSet(pub [u64; 4]);
+
+impl ScreenSet {
+    #[inline(always)]
+    pub fn contains(&self, i: usize) -> bool {
+        i < 256 && self.0[i >> 6] & (1 << (i & 63)) != 0
+    }
+    #[inline(always)]
+    pub fn insert(&mut self, i: usize) {
+        if i < 256 {
+            self.0[i >> 6] |= 1 << (i & 63);
+        }
     }
 }
 
@@ -215,6 +246,7 @@ pub(crate) fn propagate<O: Observer>(
     obs: &mut O,
 ) -> (Fate, Ray) {
     let mut bounces = 0u32;
+    let mut seen = ScreenSet::default();
     let mut skip = usize::MAX;
     // Each event is a reflection or a screen crossing; a ray cannot cross
     // more screens than exist between two reflections.
@@ -250,7 +282,9 @@ pub(crate) fn propagate<O: Observer>(
             Part::Screen { opaque, index, .. } => {
                 let ld = e.frame.to_local_dir(&ray.dir);
                 if ld.z < 0.0 {
-                    screens[*index].push(n.point.x, n.point.y, &ld, ray.opl, ray.weight, src);
+                    let first = !seen.contains(*index);
+                    seen.insert(*index);
+                    screens[*index].push(n.point.x, n.point.y, &ld, ray.opl, ray.weight, src, first);
                 }
                 if *opaque {
                     return (Fate::Absorbed, ray);

@@ -62,7 +62,7 @@ const OUTLINE_POINTS: usize = 97;
 /// Most slices a pooled trace may be cut into.
 pub const MAX_SLICES: u32 = 64;
 /// Columns of a slice's hits on one screen, in [`Session::slice_hits`] order.
-const HIT_COLUMNS: usize = 8;
+const HIT_COLUMNS: usize = 9;
 /// Largest count a JS number holds exactly (2⁵³).
 const MAX_EXACT_COUNT: f64 = 9_007_199_254_740_992.0;
 
@@ -294,6 +294,8 @@ impl Session {
             out.push(&Float64Array::from(&col[..]));
         }
         out.push(&Uint32Array::from(&h.source[..]));
+        let first: Vec<u8> = h.first.iter().map(|&f| f as u8).collect();
+        out.push(&Uint8Array::from(&first[..]));
         Ok(out)
     }
 
@@ -379,6 +381,11 @@ impl Session {
             .dyn_into::<Uint32Array>()
             .map(|a| a.to_vec())
             .map_err(|_| JsError::new("slice hits: column 7 (source) must be a Uint32Array"))?;
+        let first = columns
+            .get(8)
+            .dyn_into::<Uint8Array>()
+            .map(|a| a.to_vec().into_iter().map(|x| x != 0).collect::<Vec<bool>>())
+            .map_err(|_| JsError::new("slice hits: column 8 (first arrival) must be a Uint8Array"))?;
         let h = ScreenHits {
             u: f64_column(0)?,
             v: f64_column(1)?,
@@ -388,9 +395,10 @@ impl Session {
             opl: f64_column(5)?,
             weight: f64_column(6)?,
             source,
+            first,
         };
         let n = h.len();
-        if [&h.v, &h.du, &h.dv, &h.dw, &h.opl, &h.weight].iter().any(|c| c.len() != n) || h.source.len() != n {
+        if [&h.v, &h.du, &h.dv, &h.dw, &h.opl, &h.weight].iter().any(|c| c.len() != n) || h.source.len() != n || h.first.len() != n {
             return Err(JsError::new("slice hits: the columns differ in length"));
         }
         if h.source.iter().any(|&s| s as usize >= sources) || h.source.windows(2).any(|w| w[0] > w[1]) {

@@ -147,7 +147,7 @@ describe('the trace worker pool', () => {
         try {
           s.load_json(app.session.layout_json());
           const f = (n) => new Float64Array(n);
-          const cols = (n, m = n) => [f(n), f(n), f(n), f(n), f(n), f(n), f(n), new Uint32Array(m)];
+          const cols = (n, m = n) => [f(n), f(n), f(n), f(n), f(n), f(n), f(n), new Uint32Array(m), new Uint8Array(n)];
           return {
             slice: tryIt(() => s.trace_slice(undefined, 2, 2, undefined)),
             hitsFirst: tryIt(() => s.add_slice_hits(cols(1))),
@@ -157,8 +157,9 @@ describe('the trace worker pool', () => {
             good: tryIt(() => s.add_slice(f(4), f(1), f(1))),
             lengths: tryIt(() => s.add_slice_hits(cols(3, 2))),
             columns: tryIt(() => s.add_slice_hits(cols(3).slice(0, 7))),
-            type: tryIt(() => s.add_slice_hits([...cols(3).slice(0, 7), new Float64Array(3)])),
-            order: tryIt(() => s.add_slice_hits([...cols(2).slice(0, 7), Uint32Array.of(0, 5)])),
+            firsts: tryIt(() => s.add_slice_hits([...cols(3).slice(0, 8), new Float64Array(3)])),
+            type: tryIt(() => s.add_slice_hits([...cols(3).slice(0, 7), new Float64Array(3), new Uint8Array(3)])),
+            order: tryIt(() => s.add_slice_hits([...cols(2).slice(0, 7), Uint32Array.of(0, 5), new Uint8Array(2)])),
             count: tryIt(() => s.merge_slices(undefined, 2, 0)),
             missing: tryIt(() => { s.add_slice(f(4), f(1), f(1)); s.merge_slices(undefined, 1, 0); }),
           };
@@ -173,7 +174,8 @@ describe('the trace worker pool', () => {
       assert.match(messages.sources, /expected 1 sources, got 2 launched counts and 1 powers/);
       assert.equal(messages.good, 'accepted');
       assert.match(messages.lengths, /columns differ in length/);
-      assert.match(messages.columns, /expected 8 columns, got 7/);
+      assert.match(messages.columns, /expected 9 columns, got 7/);
+      assert.match(messages.firsts, /column 8 \(first arrival\) must be a Uint8Array/);
       assert.match(messages.type, /column 7 \(source\) must be a Uint32Array/);
       assert.match(messages.order, /sources must be ascending indices below 1/);
       assert.match(messages.count, /expected 2 slices, got 1/);

@@ -95,6 +95,9 @@ fn table(layout: &Layout, r: &TraceReport) -> String {
     );
     for sc in &r.screens {
         let _ = writeln!(s, "\nscreen {}: {} hits, {:.4} W", printable(&sc.id), sc.hits, Num(sc.power_w));
+        if sc.crossings > sc.hits {
+            let _ = writeln!(s, "  rays come back: {} crossings in all (each ray counted once above)", sc.crossings);
+        }
         if sc.by_source.is_empty() {
             let _ = writeln!(s, "  (no light)");
             continue;
