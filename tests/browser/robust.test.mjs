@@ -199,7 +199,7 @@ describe('bounded work', () => {
     // whole (the same hits as the native trace).
     const small = cavity({ name: 'Small cavity', rays: 800 });
     const native = JSON.parse(run(['trace', writeLayout(small), '--json']).stdout);
-    assert.ok(native.screens[0].hits > 250_000, `${native.screens[0].hits} hits`);
+    assert.ok(native.screens[0].crossings > 250_000, `${native.screens[0].crossings} crossings recorded`);
     // 30,000 rays with a cap of 200,000 hits: the native message.
     const pooled = cavity({ name: 'Pooled cavity', rays: 30_000 });
     const pooledPath = writeLayout(pooled);
@@ -214,8 +214,8 @@ describe('bounded work', () => {
       await settled(page);
       await openFile(page, writeLayout(small));
       await settled(page);
-      const res = await page.evaluate(() => ({ background: window.catoptric.result.background ?? false, hits: window.catoptric.result.report.screens[0].hits }));
-      assert.deepEqual(res, { background: true, hits: native.screens[0].hits });
+      const res = await page.evaluate(() => ({ background: window.catoptric.result.background ?? false, hits: window.catoptric.result.report.screens[0].hits, crossings: window.catoptric.result.report.screens[0].crossings }));
+      assert.deepEqual(res, { background: true, hits: native.screens[0].hits, crossings: native.screens[0].crossings });
       const notice = page.locator('#trace-notice');
       assert.equal(await notice.isHidden(), true);
 
