@@ -3,7 +3,7 @@
 //! input makes the library panic (common practice: fuzz the boundary).
 
 mod common;
-use common::Rng;
+use common::{fuzz_scale, Rng};
 use catoptric::layout::{decode_link, encode_link, parse_layout};
 use catoptric::{trace, Scene, TraceOptions};
 use serde_json::{json, Value};
@@ -199,8 +199,9 @@ fn exercise(text: &str) {
 #[test]
 fn no_input_panics() {
     let mut rng = Rng(2026);
+    let scale = fuzz_scale();
     // Random bytes.
-    for _ in 0..300 {
+    for _ in 0..300 * scale {
         let n = (rng.u() % 200) as usize;
         let bytes: Vec<u8> = (0..n).map(|_| rng.u() as u8).collect();
         exercise(&String::from_utf8_lossy(&bytes));
@@ -208,7 +209,7 @@ fn no_input_panics() {
     }
     // Random link strings from the base64url alphabet.
     let alpha: Vec<char> = "ABCDEFGHIJKLMNOPQRSTUVWXYZabcdefghijklmnopqrstuvwxyz0123456789-_".chars().collect();
-    for _ in 0..300 {
+    for _ in 0..300 * scale {
         let n = (rng.u() % 300) as usize;
         let s: String = (0..n).map(|_| rng.pick(&alpha)).collect();
         let _ = decode_link(&format!("#L={s}"));
@@ -221,7 +222,7 @@ fn no_input_panics() {
             seeds.push(serde_json::from_str(&std::fs::read_to_string(p).unwrap()).unwrap());
         }
     }
-    for i in 0..3000 {
+    for i in 0..3000 * scale {
         let mut v = seeds[i % seeds.len()].clone();
         for _ in 0..1 + rng.u() % 3 {
             mutate(&mut v, &mut rng);

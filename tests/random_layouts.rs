@@ -84,7 +84,7 @@ fn exercise(text: &str) -> bool {
 fn random_valid_layouts_trace_without_panic() {
     let mut rng = Rng(20240611);
     let mut valid = 0;
-    for _ in 0..400 {
+    for _ in 0..400 * fuzz_scale() {
         let text = random_layout(&mut rng);
         valid += exercise(&text) as usize;
     }

@@ -51,3 +51,10 @@ impl Rng {
         xs[(self.u() % xs.len() as u64) as usize].clone()
     }
 }
+
+/// How many times the usual number of cases the property tests run: 1 in
+/// the test command; `CATOPTRIC_FUZZ_SCALE=100` (say) for the longer run
+/// before a release (DEVELOPERS.md). Same seeds, so a run repeats exactly.
+pub fn fuzz_scale() -> usize {
+    std::env::var("CATOPTRIC_FUZZ_SCALE").ok().and_then(|v| v.parse().ok()).filter(|&n: &usize| n >= 1).unwrap_or(1)
+}
