@@ -7,13 +7,14 @@
 //! which emit layouts. The core has no web or I/O dependency; `src/web`
 //! (wasm only) and `src/bin` are thin front ends.
 
-/// Calls `body(args…)` compiled for the best instruction set this machine
-/// has (AVX-512, AVX2, else the portable build), chosen at run time. The
-/// body should be `#[inline(always)]`; every copy runs the same operations
-/// in the same order (no fused multiply–add), so they give the same bits.
-/// Used for the hot loops of the tracer's caller side and the analyses.
+/// Calls `body(args…)` compiled for the instruction set `kernel` names
+/// (AVX-512, AVX2, else the portable build; see `trace::Kernel`), chosen at
+/// run time. The body should be `#[inline(always)]`; every copy runs the
+/// same operations in the same order (no fused multiply–add), so they give
+/// the same bits. Used for the tracer's kernels and the analyses' hot loops.
 macro_rules! best_simd {
-    ($body:ident ( $($a:ident : $t:ty),* ) -> $r:ty) => {{
+    ($kernel:expr, $body:ident ( $($a:ident : $t:ty),* ) -> $r:ty) => {{
+        let kernel: $crate::trace::Kernel = $kernel;
         #[cfg(target_arch = "x86_64")]
         {
             #[target_feature(enable = "avx2,avx512f,avx512vl")]
@@ -24,14 +25,15 @@ macro_rules! best_simd {
             fn avx2($($a: $t),*) -> $r {
                 $body($($a),*)
             }
-            match $crate::trace::Kernel::detect() {
-                // SAFETY: `Kernel::detect` names these only when the CPU
-                // has the features.
+            match kernel {
+                // SAFETY: `Kernel::available` (and so `detect`) names these
+                // only when the CPU has the features.
                 $crate::trace::Kernel::Avx512 => return unsafe { avx512($($a),*) },
                 $crate::trace::Kernel::Avx2 => return unsafe { avx2($($a),*) },
                 $crate::trace::Kernel::Portable => {}
             }
         }
+        let _ = kernel;
         $body($($a),*)
     }};
 }

@@ -16,8 +16,9 @@ const PRESET: &str = concat!(env!("CARGO_MANIFEST_DIR"), "/www/presets/paraboloi
 /// child) rather than letting a reader that never stops run on.
 const LIMIT: Duration = Duration::from_secs(60);
 
-/// Runs the binary, feeding `stdin` from a thread; kills it past [`LIMIT`].
-fn run(args: &[&str], stdin: Option<Box<dyn FnOnce(std::process::ChildStdin) + Send>>) -> (Output, Duration) {
+/// Runs the binary, feeding `stdin` from a thread; kills it past [`LIMIT`]
+/// (a guard against a hang, not a measurement).
+fn run(args: &[&str], stdin: Option<Box<dyn FnOnce(std::process::ChildStdin) + Send>>) -> Output {
     let t0 = Instant::now();
     let mut child = Command::new(EXE)
         .args(args)
@@ -41,7 +42,7 @@ fn run(args: &[&str], stdin: Option<Box<dyn FnOnce(std::process::ChildStdin) + S
         }
         std::thread::sleep(Duration::from_millis(20));
     }
-    (child.wait_with_output().unwrap(), t0.elapsed())
+    child.wait_with_output().unwrap()
 }
 
 fn temp(name: &str, bytes: &[u8]) -> PathBuf {
@@ -62,7 +63,7 @@ fn refused_for_size(out: &Output) {
 #[test]
 #[cfg(unix)]
 fn an_endless_device_is_refused_at_the_cap() {
-    let (out, _) = run(&["trace", "/dev/zero"], None);
+    let out = run(&["trace", "/dev/zero"], None);
     refused_for_size(&out);
     assert!(String::from_utf8_lossy(&out.stderr).contains("/dev/zero"));
 }
@@ -79,14 +80,14 @@ fn a_pipe_is_held_to_the_cap_and_read_when_small() {
             }
         }
     };
-    let (out, _) = run(&["trace", "/dev/stdin"], Some(Box::new(feed)));
+    let out = run(&["trace", "/dev/stdin"], Some(Box::new(feed)));
     refused_for_size(&out);
     // A layout through a pipe is read as from a file.
     let text = std::fs::read(PRESET).unwrap();
     let feed = move |mut pipe: std::process::ChildStdin| {
         let _ = pipe.write_all(&text);
     };
-    let (out, _) = run(&["link", "/dev/stdin"], Some(Box::new(feed)));
+    let out = run(&["link", "/dev/stdin"], Some(Box::new(feed)));
     assert_eq!(out.status.code(), Some(0), "{}", String::from_utf8_lossy(&out.stderr));
     assert!(String::from_utf8_lossy(&out.stdout).starts_with("#L="));
 }
@@ -95,7 +96,7 @@ fn a_pipe_is_held_to_the_cap_and_read_when_small() {
 fn byte_order_marks_and_utf16_are_read_like_plain_utf8() {
     let text = std::fs::read_to_string(PRESET).unwrap();
     let link = |p: &PathBuf| {
-        let (out, _) = run(&["link", p.to_str().unwrap()], None);
+        let out = run(&["link", p.to_str().unwrap()], None);
         let err = String::from_utf8_lossy(&out.stderr).into_owned();
         (out.status.code(), String::from_utf8_lossy(&out.stdout).into_owned(), err)
     };

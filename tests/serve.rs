@@ -376,7 +376,6 @@ fn a_trickled_head_meets_one_deadline() {
     let mut stream = TcpStream::connect_timeout(&s.addr, WAIT).expect("connect");
     stream.write_all(b"GET / HTTP/1.1\r\nX-Slow: ").unwrap();
     stream.set_nonblocking(true).unwrap();
-    let t0 = std::time::Instant::now();
     let mut raw = Vec::new();
     let mut closed = false;
     // At most 60 × 100 ms: a byte every 100 ms would keep a per-read
@@ -395,9 +394,9 @@ fn a_trickled_head_meets_one_deadline() {
             break;
         }
     }
-    let took = t0.elapsed();
-    assert!(closed, "the server still waits after {took:?}");
-    assert!(took < Duration::from_secs(5), "closed after {took:?}");
+    // Trickling on past the deadline must not keep the head open: the
+    // server closes within the 60 bytes sent.
+    assert!(closed, "the server still waited after 60 trickled bytes");
     assert_eq!(parse_reply(&raw).status, 408);
 }
 

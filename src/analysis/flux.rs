@@ -76,7 +76,7 @@ pub fn flux_map(scene: &Scene, res: &TraceResult, screen: usize, nx: usize, ny: 
 /// Incident irradiance used for `peak_suns`: the largest among the beams.
 /// Power per pixel of the hits on a grid of nx × ny pixels over ±`half`.
 fn bin_hits(h: &crate::trace::ScreenHits, half: f64, nx: usize, ny: usize) -> Vec<f64> {
-    best_simd!(bin_hits_body(h: &crate::trace::ScreenHits, half: f64, nx: usize, ny: usize) -> Vec<f64>)
+    best_simd!(crate::trace::Kernel::detect(), bin_hits_body(h: &crate::trace::ScreenHits, half: f64, nx: usize, ny: usize) -> Vec<f64>)
 }
 
 #[inline(always)]

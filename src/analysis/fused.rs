@@ -45,7 +45,7 @@ pub(crate) struct Figures {
 /// All figures of `sel`; the wavefront only when `wavefront` (a point-like
 /// source), in waves of `wavelength_mm`.
 pub(crate) fn figures(sel: &Subset, wavelength_mm: f64, wavefront: bool) -> Figures {
-    best_simd!(figures_body(sel: &Subset, wavelength_mm: f64, wavefront: bool) -> Figures)
+    best_simd!(crate::trace::Kernel::detect(), figures_body(sel: &Subset, wavelength_mm: f64, wavefront: bool) -> Figures)
 }
 
 /// Runs `body` for every hit with lane l = (hit mod LANES) and global index

@@ -168,36 +168,14 @@ impl Kernel {
     }
 }
 
-/// Compiles each kernel body once per instruction set and makes a
-/// dispatcher `name(kernel, args…)` that runs the chosen copy. The bodies
-/// are `#[inline(always)]` plain loops; only the code generation differs
-/// (same operations, no fused multiply–add), so every copy gives the same
-/// bits.
+/// Makes a dispatcher `name(kernel, args…)` for each kernel body, which
+/// runs the copy compiled for `kernel` (see `best_simd!`).
 macro_rules! kernels {
     ($( $(#[$doc:meta])* fn $name:ident => $body:ident ( $($a:ident : $t:ty),* ) -> $r:ty; )*) => { $(
         $(#[$doc])*
         #[allow(clippy::too_many_arguments)]
         fn $name(kernel: Kernel, $($a: $t),*) -> $r {
-            #[cfg(target_arch = "x86_64")]
-            {
-                #[target_feature(enable = "avx2")]
-                fn avx2($($a: $t),*) -> $r {
-                    $body($($a),*)
-                }
-                #[target_feature(enable = "avx2,avx512f,avx512vl")]
-                fn avx512($($a: $t),*) -> $r {
-                    $body($($a),*)
-                }
-                match kernel {
-                    // SAFETY: `Kernel::available` offers these only when
-                    // the CPU has the features.
-                    Kernel::Avx2 => return unsafe { avx2($($a),*) },
-                    Kernel::Avx512 => return unsafe { avx512($($a),*) },
-                    Kernel::Portable => {}
-                }
-            }
-            let _ = kernel;
-            $body($($a),*)
+            best_simd!(kernel, $body($($a: $t),*) -> $r)
         }
     )* };
 }
