@@ -147,8 +147,8 @@ pub fn iso(t: &DateTime<FixedOffset>) -> String {
 
 /// The layout with every sun beam turned to travel along −`s` (unit vector
 /// toward the sun, layout frame) and re-placed so its disk covers every
-/// mirror's bounding sphere as seen along the rays and starts before the
-/// first of them. `None` when the sun is edge-on to the layout plane
+/// mirror's bounding sphere as seen along the rays and starts before every
+/// element. `None` when the sun is edge-on to the layout plane
 /// (out of plane by more than [`MAX_OUT_OF_PLANE_DEG`]).
 pub fn aim_suns(layout: &Layout, s: &Vec3) -> Option<(Layout, Vec<PlacedBeam>)> {
     let u = -s;
@@ -164,6 +164,7 @@ pub fn aim_suns(layout: &Layout, s: &Vec3) -> Option<(Layout, Vec<PlacedBeam>)> 
         .filter(|e| matches!(e.part, Part::Mirror { .. }))
         .map(|e| (e.bound_center, e.bound_radius))
         .collect();
+    let all: Vec<(Vec3, f64)> = scene.elements.iter().map(|e| (e.bound_center, e.bound_radius)).collect();
     let mut out = layout.clone();
     let mut placed = Vec::new();
     for src in out.sources.iter_mut() {
@@ -174,7 +175,7 @@ pub fn aim_suns(layout: &Layout, s: &Vec3) -> Option<(Layout, Vec<PlacedBeam>)> 
         let (center, diameter) = if spheres.is_empty() {
             ([b.center[0], b.center[1]], b.diameter)
         } else {
-            cover(&spheres, &u, scene.scale)
+            cover(&spheres, &all, &u, scene.scale)
         };
         b.center = center;
         b.diameter = diameter;
@@ -192,8 +193,9 @@ pub fn aim_suns(layout: &Layout, s: &Vec3) -> Option<(Layout, Vec<PlacedBeam>)> 
 }
 
 /// A launch disk (centre in the layout plane x = 0, diameter) perpendicular
-/// to `u` that covers the spheres as seen along `u` and lies before them.
-fn cover(spheres: &[(Vec3, f64)], u: &Vec3, scale: f64) -> ([f64; 2], f64) {
+/// to `u` that covers the mirrors' spheres as seen along `u` and lies
+/// before every element (so a receiver still casts its shadow).
+fn cover(spheres: &[(Vec3, f64)], all: &[(Vec3, f64)], u: &Vec3, scale: f64) -> ([f64; 2], f64) {
     let p0 = spheres.iter().fold(Vec3::zeros(), |a, (c, _)| a + c) / spheres.len() as f64;
     let mut radius: f64 = 0.0;
     let mut t_first = f64::INFINITY;
@@ -201,7 +203,9 @@ fn cover(spheres: &[(Vec3, f64)], u: &Vec3, scale: f64) -> ([f64; 2], f64) {
         let d = c - p0;
         let t = d.dot(u);
         radius = radius.max((d - u * t).norm() + r);
-        t_first = t_first.min(t - r);
+    }
+    for (c, r) in all {
+        t_first = t_first.min((c - p0).dot(u) - r);
     }
     let t = t_first - LAUNCH_GAP_REL * scale;
     // Slide the centre within the disk's plane back onto x = 0; the disk

@@ -4,6 +4,7 @@ use crate::commands::read_layout;
 use crate::Failure;
 use catoptric::error::{printable, Num};
 use catoptric::sun::{check_place, day_sweep, parse_time, sun_position, Atmosphere, DayReport, DayRequest};
+use catoptric::layout::MAX_RAYS_PER_SOURCE;
 use catoptric::trace::TraceOptions;
 use catoptric::InputError;
 use std::fmt::Write as _;
@@ -46,6 +47,9 @@ pub struct DayArgs {
     /// Threads to trace on (default: every core).
     #[arg(long)]
     threads: Option<usize>,
+    /// Rays per source at each step, instead of each source's own count.
+    #[arg(long, allow_negative_numbers = true)]
+    rays: Option<u64>,
     #[arg(long)]
     json: bool,
 }
@@ -77,8 +81,13 @@ pub fn sun(a: SunArgs) -> Result<String, Failure> {
 pub fn day(a: DayArgs) -> Result<String, Failure> {
     let threads = crate::bench::check_threads(a.threads)?;
     let layout = read_layout(&a.layout)?;
+    if let Some(n) = a.rays {
+        if n == 0 || n > MAX_RAYS_PER_SOURCE {
+            return Err(Failure::input(format!("--rays: must be between 1 and {MAX_RAYS_PER_SOURCE} (got {n})")));
+        }
+    }
     let req = DayRequest { date: a.date, from: a.from, to: a.to, step_min: a.step_min };
-    let opts = TraceOptions { threads, ..Default::default() };
+    let opts = TraceOptions { threads, rays: a.rays.map(|n| n as usize), ..Default::default() };
     let report = day_sweep(&layout, &req, opts).map_err(|e| {
         if e.field.starts_with("--") { Failure::input(e) } else { Failure::input(format!("{}: {e}", a.layout)) }
     })?;
