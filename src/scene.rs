@@ -5,6 +5,9 @@ use crate::layout::{Element, Form, Layout, ScreenShape, Source};
 use crate::trace::{seed_of, SlopeError};
 
 /// What an element does to a ray.
+// A scene holds a few elements, compiled once; the tracer reads the
+// mirror's fields in place, so they stay unboxed.
+#[allow(clippy::large_enum_variant)]
 #[derive(Debug, Clone)]
 pub enum Part {
     /// `no_return`: a pure conic that is flat or convex (c ≤ 0) lies wholly

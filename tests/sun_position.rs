@@ -80,11 +80,14 @@ fn noaa(lat: f64, lon: f64, y: i32, mo: i32, day: i32, utc_hours: f64) -> (f64, 
     (az, h + refr)
 }
 
+/// (latitude, longitude, (year, month, day), UTC hours).
+type Case = (f64, f64, (i32, i32, i32), f64);
+
 #[test]
 fn hemispheres_and_seasons_agree_with_the_noaa_formulas() {
     // (latitude, longitude, date, UTC hours): north and south, summer and
     // winter, morning and afternoon, east and west of Greenwich.
-    let cases: [(f64, f64, (i32, i32, i32), f64); 8] = [
+    let cases: [Case; 8] = [
         (52.0, 5.0, (2026, 6, 21), 10.0),
         (52.0, 5.0, (2026, 12, 21), 12.5),
         (-33.9, 151.2, (2026, 6, 21), 2.0),

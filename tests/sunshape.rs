@@ -82,8 +82,8 @@ fn the_limb_darkened_disk_follows_the_eddington_law() {
     // fraction ρ of the radius is (2 − μ² − μ³)/2 with μ = √(1 − ρ²)
     // (integrated by hand). A uniform disk would give ρ².
     let th = angles(&sun("limb", 0.0, 4.65));
-    for rho in [0.3, 0.5, 0.8, 0.95] {
-        let mu: f64 = (1.0 - rho * rho as f64).sqrt();
+    for rho in [0.3f64, 0.5, 0.8, 0.95] {
+        let mu: f64 = (1.0 - rho * rho).sqrt();
         let want = (2.0 - mu * mu - mu * mu * mu) / 2.0;
         let got = fraction_within(&th, rho * 4.65);
         assert!((got - want).abs() < 0.003, "ρ = {rho}: {got} vs {want} (uniform {})", rho * rho);
