@@ -401,7 +401,7 @@ export class Props {
     this.field(g, { label: 'irradiance', unit: 'W/m²', type: 'number', path: [...base, 'irradiance_w_m2'], def: 1000, title: 'Power per area across the beam (about 1000 W/m² for clear-sky sunlight)' });
     if (!sun) return;
     this.field(g, { label: 'sun shape', type: 'select', path: [...base, 'sunshape'], def: 'disk',
-      options: [['disk', 'uniform disk'], ['limb', 'limb-darkened disk'], ['csr', 'disk and aureole (CSR)']],
+      options: [['disk', 'uniform'], ['limb', 'limb-darkened'], ['csr', 'circumsolar']],
       title: 'Radiance across the sun: uniform; darker toward the limb; or with the circumsolar aureole out to 43.6 mrad (Buie et al. 2003)',
       apply: (L, v) => {
         const it = L.sources[base[1]];
