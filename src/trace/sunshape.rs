@@ -54,8 +54,13 @@ pub fn buie_radiance(theta_mrad: f64, chi: f64) -> f64 {
 }
 
 /// Power of the Buie disk, ∫₀^4.65 φ(θ) θ dθ (small-angle sky; Simpson's
-/// rule, far finer than the profile varies).
+/// rule, far finer than the profile varies), computed once.
 fn buie_disk_power() -> f64 {
+    static POWER: std::sync::OnceLock<f64> = std::sync::OnceLock::new();
+    *POWER.get_or_init(buie_disk_integral)
+}
+
+fn buie_disk_integral() -> f64 {
     let n = 2000;
     let h = BUIE_DISK_MRAD / n as f64;
     let f = |t: f64| buie_radiance(t, 0.0) * t;
