@@ -138,6 +138,7 @@ pub(crate) fn new_layout(name: String, notes: String, elements: Vec<Element>, so
         max_bounces: 16,
         elements,
         sources,
+        site: None,
     }
 }
 
@@ -173,6 +174,8 @@ pub(crate) fn star_beam(id: &str, center: [f64; 2], direction_deg: f64, diameter
         pattern: Pattern::Hex,
         sun_half_angle_mrad: 0.0,
         irradiance_w_m2: 1000.0,
+        sunshape: Default::default(),
+        csr: 0.0,
     })
 }
 

@@ -13,10 +13,11 @@ import { DesignersView } from './views/designers.js';
 import { FocusView } from './views/focus.js';
 import { EnergyView } from './views/energy.js';
 import { FluxView } from './views/flux.js';
+import { DayView } from './views/day.js';
 import { prepareCanvas } from './views/plot.js';
 
 /** Tab order; views and planned tabs are sorted into it. */
-const TAB_ORDER = ['spot', 'focus', 'energy', 'flux', 'conics', 'testing', 'designers'];
+const TAB_ORDER = ['spot', 'focus', 'energy', 'flux', 'day', 'conics', 'testing', 'designers'];
 
 /** Flattens nested report objects into dotted keys: flux.peak_w_m2. */
 function flatten(obj, prefix = '', out = {}) {
@@ -315,7 +316,7 @@ export class Drawer {
     this.body = body;
     this.app = app;
     this.views = [
-      new SpotView(), new FocusView(), new EnergyView(), new FluxView(),
+      new SpotView(), new FocusView(), new EnergyView(), new FluxView(), new DayView(),
       new ConicsView(), new TestingView(), new DesignersView(),
     ];
     this.panels = new Map();

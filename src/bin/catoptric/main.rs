@@ -5,6 +5,7 @@ mod bench;
 mod commands;
 mod design_cmd;
 mod serve;
+mod sun_cmd;
 mod usage;
 
 use clap::{CommandFactory as _, Parser, Subcommand};
@@ -64,6 +65,11 @@ enum Cmd {
     Zones(design_cmd::ZonesArgs),
     /// Serve the browser workbench from 127.0.0.1.
     Serve(serve::ServeArgs),
+    /// The sun's azimuth and elevation at a place and time (NREL SPA).
+    Sun(sun_cmd::SunArgs),
+    /// Sweep a layout with a site through a day: the sun turned to each
+    /// step, peak flux per screen, the worst moment.
+    Day(sun_cmd::DayArgs),
     /// Measure tracing speed on the standard scenes.
     Bench {
         /// Rays for the paraboloid scene.
@@ -107,6 +113,8 @@ fn main() -> ExitCode {
         Cmd::Zones(a) => design_cmd::zones(a),
         Cmd::Serve(a) => serve::run(a),
         Cmd::Bench { rays, threads, json } => bench::run(rays, threads, json),
+        Cmd::Sun(a) => sun_cmd::sun(a),
+        Cmd::Day(a) => sun_cmd::day(a),
     };
     match out {
         Ok(text) => {
