@@ -124,3 +124,31 @@ pub fn knife_picture(spec: &KnifeSpec<'_>, size: usize) -> Result<MirrorPicture,
     let stand = setup(spec)?;
     MirrorPicture::render(size, stand.semi_diameter(), |x, y| lit(&stand, spec.knife_x_mm, x, y))
 }
+
+/// Moving-source readings of a mirror (the target, or the target with a
+/// measured departure) at radii `rs`: where each zone's normal meets the
+/// axis, mm from the vertex centre of curvature, + outside.
+pub fn surface_readings(
+    radius: f64,
+    conic: f64,
+    diameter: f64,
+    measured: Option<&[[f64; 2]]>,
+    rs: &[f64],
+) -> Result<Vec<f64>, InputError> {
+    let stand = TestStand::new(StandSpec {
+        radius,
+        conic,
+        diameter,
+        offset_field: "offset_mm",
+        offset_mm: 0.0,
+        source: TestSource::Moving,
+        measured,
+    })?;
+    rs.iter()
+        .enumerate()
+        .map(|(i, &r)| {
+            let r = finite(&format!("radii[{i}]"), r)?;
+            Ok(stand.normal_reading(r))
+        })
+        .collect()
+}

@@ -153,6 +153,16 @@ impl TestStand {
         (lx.is_finite() && ly.is_finite()).then_some((lx, ly))
     }
 
+    /// Where the surface normal at radius ρ meets the axis, mm from the
+    /// vertex centre of curvature (+ outside): the moving-source knife-edge
+    /// reading of the zone, z + ρ/z′ − R (docs/FORMATS.md §3, `zones`).
+    /// The paraxial limit at ρ = 0.
+    pub fn normal_reading(&self, rho: f64) -> f64 {
+        let rho = rho.abs().max(self.semi_diameter * 1e-9);
+        let (z, dz) = self.profile.sag_slope(rho);
+        z + rho / dz - self.radius
+    }
+
     /// X of the landing point along the horizontal diameter (y = 0); NaN
     /// when the ray misses the plane.
     pub fn landing_x(&self, x: f64) -> f64 {
