@@ -75,10 +75,11 @@ fn setup(spec: &KnifeSpec<'_>) -> Result<TestStand, InputError> {
     })
 }
 
-/// Whether pupil point (x, y) is seen lit past a knife covering X < kx.
+/// Whether pupil point (x, y) is seen lit past a knife covering X < kx (a
+/// ray grazing the edge, within the stand's tolerance, passes).
 #[inline]
 fn lit(stand: &TestStand, kx: f64, x: f64, y: f64) -> bool {
-    stand.landing(x, y).is_some_and(|(lx, _)| lx >= kx)
+    stand.landing(x, y).is_some_and(|(lx, _)| lx >= kx - stand.landing_tol())
 }
 
 /// Null zone and lit fraction.
@@ -102,7 +103,7 @@ pub fn knife_view(spec: &KnifeSpec<'_>) -> Result<KnifeView, InputError> {
         let (y, w) = (a * theta.sin(), a * theta.cos());
         let f = |x: f64| stand.landing(x, y).map_or(f64::NAN, |(lx, _)| lx - kx);
         let mut cuts = vec![-w];
-        cuts.extend(sign_changes(f, -w, w, LIT_ROW_STEPS, 0.0));
+        cuts.extend(sign_changes(f, -w, w, LIT_ROW_STEPS, stand.landing_tol()));
         cuts.push(w);
         let length: f64 = cuts.windows(2).filter(|c| lit(&stand, kx, 0.5 * (c[0] + c[1]), y)).map(|c| c[1] - c[0]).sum();
         area += length * a * theta.cos() * dtheta;

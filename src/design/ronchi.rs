@@ -70,17 +70,22 @@ fn setup(spec: &RonchiSpec<'_>) -> Result<(TestStand, f64), InputError> {
     Ok((stand, 1.0 / l))
 }
 
-/// Whether a landing point X on the grating falls on an opaque half.
+/// Whether a landing point X on the grating falls on an opaque half; a
+/// point within `snap` half-periods of a ruling edge counts as on it.
 #[inline]
-fn opaque(x: f64, period: f64) -> bool {
-    (2.0 * x / period).floor().rem_euclid(2.0) == 0.0
+fn opaque(x: f64, period: f64, snap: f64) -> bool {
+    let g = 2.0 * x / period;
+    let k = g.round();
+    let g = if (g - k).abs() <= snap { k } else { g };
+    g.floor().rem_euclid(2.0) == 0.0
 }
 
 /// Band edges along the horizontal diameter.
 pub fn ronchigram(spec: &RonchiSpec<'_>) -> Result<Ronchigram, InputError> {
     let (stand, p) = setup(spec)?;
     let a = stand.semi_diameter();
-    let edges = level_crossings(|x| 2.0 * stand.landing_x(x) / p, 0.0, a, MAX_BAND_EDGES).ok_or_else(|| {
+    let snap = 2.0 * stand.landing_tol() / p;
+    let edges = level_crossings(|x| 2.0 * stand.landing_x(x) / p, 0.0, a, snap, MAX_BAND_EDGES).ok_or_else(|| {
         bad(
             "lines_per_mm",
             format!(
@@ -100,7 +105,8 @@ pub fn ronchigram(spec: &RonchiSpec<'_>) -> Result<Ronchigram, InputError> {
 /// The Ronchigram as the eye sees it, `size` pixels a side.
 pub fn ronchi_picture(spec: &RonchiSpec<'_>, size: usize) -> Result<MirrorPicture, InputError> {
     let (stand, p) = setup(spec)?;
+    let snap = 2.0 * stand.landing_tol() / p;
     MirrorPicture::render(size, stand.semi_diameter(), |x, y| {
-        stand.landing(x, y).is_some_and(|(lx, _)| !opaque(lx, p))
+        stand.landing(x, y).is_some_and(|(lx, _)| !opaque(lx, p, snap))
     })
 }

@@ -43,6 +43,9 @@ pub const CROSSING_TOL_REL: f64 = 1e-13;
 pub const CROSSING_MAX_ITER: usize = 200;
 /// Smallest gap between the plane and the mirror's rim, as a fraction of R.
 pub const PLANE_CLEARANCE_REL: f64 = 1e-6;
+/// Landing points closer than this fraction of R to a ruling or knife
+/// edge count as on it (rounding noise of the trace is some 1e-15 of R).
+pub const LANDING_TOL_REL: f64 = 1e-11;
 
 /// A concave mirror on the test stand, with its source and plane.
 #[derive(Debug, Clone)]
@@ -163,6 +166,12 @@ impl TestStand {
         z + rho / dz - self.radius
     }
 
+    /// Distance from an edge within which a landing point counts as on it,
+    /// mm ([`LANDING_TOL_REL`] of R).
+    pub fn landing_tol(&self) -> f64 {
+        LANDING_TOL_REL * self.radius
+    }
+
     /// X of the landing point along the horizontal diameter (y = 0); NaN
     /// when the ray misses the plane.
     pub fn landing_x(&self, x: f64) -> f64 {
@@ -208,17 +217,26 @@ pub fn bisect(f: impl Fn(f64) -> f64, mut lo: f64, mut hi: f64, tol: f64) -> f64
     0.5 * (lo + hi)
 }
 
-/// Points of (`lo`, `hi`] where `g` crosses an integer level, ascending,
-/// with a level touched exactly at a scan point counted once. The scan is
-/// refined until one step changes `g` by at most a quarter level; `None`
-/// when that would take more than [`MAX_SCAN_STEPS`] or the crossings
-/// number more than `max_crossings`.
-pub fn level_crossings(g: impl Fn(f64) -> f64, lo: f64, hi: f64, max_crossings: usize) -> Option<Vec<f64>> {
+/// Points of (`lo`, `hi`] where `g` crosses an integer level, ascending.
+/// Values within `snap` of a level count as on it, so rounding noise about
+/// a level is no crossing; a run of points on a level is one crossing
+/// (at its first point) when `g` leaves on the other side, none when it
+/// comes back or when the run starts the scan; a run that ends the scan
+/// counts (an edge at `hi`). The scan is refined until
+/// one step changes `g` by at most a quarter level; `None` when that would
+/// take more than [`MAX_SCAN_STEPS`] or the crossings number more than
+/// `max_crossings`.
+pub fn level_crossings(g: impl Fn(f64) -> f64, lo: f64, hi: f64, snap: f64, max_crossings: usize) -> Option<Vec<f64>> {
+    let snapped = |x: f64| {
+        let v = g(x);
+        let k = v.round();
+        if (v - k).abs() <= snap { k } else { v }
+    };
     let sample = |n: usize| -> Vec<(f64, f64)> {
         (0..=n)
             .map(|i| {
                 let x = lo + (hi - lo) * i as f64 / n as f64;
-                (x, g(x))
+                (x, snapped(x))
             })
             .collect()
     };
@@ -233,28 +251,48 @@ pub fn level_crossings(g: impl Fn(f64) -> f64, lo: f64, hi: f64, max_crossings: 
     }
     let tol = CROSSING_TOL_REL * (hi - lo).abs().max(lo.abs()).max(hi.abs());
     let mut out = Vec::new();
-    for w in pts.windows(2) {
-        let ((x0, g0), (x1, g1)) = (w[0], w[1]);
-        if !g0.is_finite() || !g1.is_finite() {
+    // A run on a level: (level, side it came from (None at the start), first x).
+    let mut on_level: Option<(f64, Option<bool>, f64)> = None;
+    let mut prev: Option<(f64, f64)> = None;
+    for &(x1, g1) in &pts {
+        if !g1.is_finite() {
+            prev = None;
+            on_level = None;
             continue;
         }
-        let (a, b) = (g0.min(g1).ceil() as i64, g0.max(g1).floor() as i64);
-        let mut found: Vec<f64> = Vec::new();
-        for k in a..=b {
-            let k = k as f64;
-            if g1 == k {
-                found.push(x1);
-            } else if g0 != k {
-                found.push(bisect(|x| g(x) - k, x0, x1, tol));
+        let Some((x0, g0)) = prev else {
+            if g1 == g1.round() {
+                on_level = Some((g1, None, x1));
+            }
+            prev = Some((x1, g1));
+            continue;
+        };
+        if let Some((k, side, first)) = on_level {
+            if g1 != k {
+                if side.is_some_and(|below| below != (g1 < k)) {
+                    out.push(first);
+                }
+                on_level = None;
             }
         }
+        // Levels strictly between the two values.
+        let (a, b) = (g0.min(g1).floor() as i64 + 1, g0.max(g1).ceil() as i64 - 1);
+        let mut found: Vec<f64> = (a..=b).map(|k| k as f64).map(|k| bisect(|x| g(x) - k, x0, x1, tol)).collect();
         if g1 < g0 {
             found.reverse();
         }
         out.extend(found);
+        if g1 == g1.round() && on_level.is_none() && g0 != g1 {
+            on_level = Some((g1, Some(g0 < g1), x1));
+        }
         if out.len() > max_crossings {
             return None;
         }
+        prev = Some((x1, g1));
+    }
+    // A level reached at the end of the scan (a band edge on the rim).
+    if let Some((_, Some(_), first)) = on_level {
+        out.push(first);
     }
     Some(out)
 }
@@ -349,5 +387,28 @@ impl MirrorPicture {
             out.push((255.0 * f64::from(inside)).round() as u8);
         }
         out
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn level_crossings_count_changes_of_side_only() {
+        // 3x crosses 1, 2, 3 at x = 1/3, 2/3, 1 (the last at the end).
+        let c = level_crossings(|x| 3.0 * x, 0.0, 1.0, 1e-12, 100).unwrap();
+        assert_eq!(c.len(), 3);
+        for (got, want) in c.iter().zip([1.0 / 3.0, 2.0 / 3.0, 1.0]) {
+            assert!((got - want).abs() < 1e-12, "{got} vs {want}");
+        }
+        // A parabola that touches the level 1 at x = 0.5 and goes back.
+        let touch = level_crossings(|x| 1.0 + (x - 0.5) * (x - 0.5), 0.0, 1.0, 1e-12, 100).unwrap();
+        assert!(touch.is_empty(), "{touch:?}");
+        // Noise about a level is no crossing.
+        let noise = level_crossings(|x| 1e-14 * (1e4 * x).sin(), 0.0, 1.0, 1e-12, 100).unwrap();
+        assert!(noise.is_empty(), "{noise:?}");
+        // Too many crossings: refused.
+        assert!(level_crossings(|x| 1e3 * x, 0.0, 1.0, 1e-12, 100).is_none());
     }
 }
