@@ -231,7 +231,14 @@ export class TestPictures {
     p.canvas.hidden = false;
     p.canvas.width = size;
     p.canvas.height = size;
-    p.canvas.getContext('2d').putImageData(new ImageData(new Uint8ClampedArray(px.buffer, px.byteOffset, px.length), size, size), 0, 0);
+    const ctx = p.canvas.getContext('2d');
+    ctx.putImageData(new ImageData(new Uint8ClampedArray(px.buffer, px.byteOffset, px.length), size, size), 0, 0);
+    // The rim, so dark glass stands out from a dark page.
+    ctx.strokeStyle = this.app.theme.ink2;
+    ctx.lineWidth = Math.max(1, size / 240);
+    ctx.beginPath();
+    ctx.arc(size / 2, size / 2, size / 2 - ctx.lineWidth / 2, 0, 2 * Math.PI);
+    ctx.stroke();
     p.png.disabled = false;
     p.fig.dataset.state = 'ok';
     if (this.kind.value === 'knife') {
