@@ -10,14 +10,22 @@
 //!   for a centre-of-curvature test, glass to remove per zone.
 //! * [`measured`]: a mirror built from measured readings or a departure
 //!   table, and which zones need work.
+//! * [`ronchi`] and [`knife`]: the Ronchi and knife-edge tests simulated
+//!   on the [`test_stand`] (exact 3D trace; band edges, null zone, lit
+//!   fraction, pictures), for the target or a measured mirror.
+//! * [`mask`]: the zonal mask template as SVG at 1:1 scale.
 //!
 //! Errors are [`InputError`]s whose `field` is the snake_case name of the
 //! offending parameter (`back_focus`, `conics[2]`, `csv line 7`); front ends
 //! translate them to their own spelling (`--back-focus`).
 
 pub mod compare;
+pub mod knife;
+pub mod mask;
 pub mod measured;
 pub mod off_axis;
+pub mod ronchi;
+pub mod test_stand;
 pub mod two_mirror;
 pub mod zones;
 
@@ -29,7 +37,11 @@ pub use measured::{
     departures_needing_work, measured_layout, measured_mirror, parse_departure_csv, profile_from_readings, zones_needing_work, DepartureWork, ZoneVerdict,
     ZoneWork,
 };
+pub use knife::{knife_picture, knife_view, surface_readings, KnifeSpec, KnifeView};
+pub use mask::zonal_mask_svg;
 pub use off_axis::{design_off_axis, Feed, OffAxisDesign, OffAxisSpec};
+pub use ronchi::{ronchi_picture, ronchigram, RonchiSpec, Ronchigram};
+pub use test_stand::MirrorPicture;
 pub use two_mirror::{design_two_mirror, two_mirror_conics, TwoMirrorDesign, TwoMirrorKind, TwoMirrorSpec};
 pub use zones::{
     fixed_source_reading, moving_source_reading, zone_edges, zone_table, TestSource, Zone, ZoneTable,

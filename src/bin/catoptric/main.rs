@@ -4,6 +4,7 @@
 mod bench;
 mod commands;
 mod design_cmd;
+mod mirror_test_cmd;
 mod serve;
 mod sun_cmd;
 mod usage;
@@ -63,6 +64,10 @@ enum Cmd {
     Compare(design_cmd::CompareArgs),
     /// Knife-edge readings for a centre-of-curvature test.
     Zones(design_cmd::ZonesArgs),
+    /// Ronchi test simulated: band edges and the picture the eye sees.
+    Ronchi(mirror_test_cmd::RonchiArgs),
+    /// Knife-edge test simulated: null zone, lit fraction and the picture.
+    Knife(mirror_test_cmd::KnifeArgs),
     /// Serve the browser workbench from 127.0.0.1.
     Serve(serve::ServeArgs),
     /// The sun's azimuth and elevation at a place and time (NREL SPA).
@@ -111,6 +116,8 @@ fn main() -> ExitCode {
         Cmd::Design { what } => design_cmd::design(what),
         Cmd::Compare(a) => design_cmd::compare(a),
         Cmd::Zones(a) => design_cmd::zones(a),
+        Cmd::Ronchi(a) => mirror_test_cmd::ronchi(a),
+        Cmd::Knife(a) => mirror_test_cmd::knife(a),
         Cmd::Serve(a) => serve::run(a),
         Cmd::Bench { rays, threads, json } => bench::run(rays, threads, json),
         Cmd::Sun(a) => sun_cmd::sun(a),
