@@ -4,6 +4,7 @@
 mod bench;
 mod commands;
 mod design_cmd;
+mod psf_cmd;
 mod serve;
 mod usage;
 
@@ -62,6 +63,8 @@ enum Cmd {
     Compare(design_cmd::CompareArgs),
     /// Knife-edge readings for a centre-of-curvature test.
     Zones(design_cmd::ZonesArgs),
+    /// Diffraction image of one source on one screen: PSF, Strehl, MTF, Zernike terms.
+    Psf(psf_cmd::PsfArgs),
     /// Serve the browser workbench from 127.0.0.1.
     Serve(serve::ServeArgs),
     /// Measure tracing speed on the standard scenes.
@@ -105,6 +108,7 @@ fn main() -> ExitCode {
         Cmd::Design { what } => design_cmd::design(what),
         Cmd::Compare(a) => design_cmd::compare(a),
         Cmd::Zones(a) => design_cmd::zones(a),
+        Cmd::Psf(a) => psf_cmd::run(a),
         Cmd::Serve(a) => serve::run(a),
         Cmd::Bench { rays, threads, json } => bench::run(rays, threads, json),
     };
