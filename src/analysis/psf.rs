@@ -452,7 +452,7 @@ fn mtf_1d(lsf: &[f64]) -> Vec<f64> {
 
 /// Linear interpolation of samples at fractional index `x` (0 past the end).
 fn sample_linear(s: &[f64], x: f64) -> f64 {
-    if !(x >= 0.0) {
+    if x.is_nan() || x < 0.0 {
         return s.first().copied().unwrap_or(0.0);
     }
     let i = x.floor() as usize;

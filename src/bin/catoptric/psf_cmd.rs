@@ -23,7 +23,7 @@ pub struct PsfArgs {
     #[arg(long, default_value = "best")]
     at: String,
     /// Pupil grid side, a power of two (the PSF grid is 4 times wider).
-    #[arg(long, default_value_t = DEFAULT_PSF_GRID as u64)]
+    #[arg(long, allow_negative_numbers = true, default_value_t = DEFAULT_PSF_GRID as u64)]
     grid: u64,
     /// Machine-readable output.
     #[arg(long)]
