@@ -1,6 +1,6 @@
 // The analysis drawer: one view at a time, chosen by tabs. The spot view
 // (diagram plus the statistics table) is built here; the other tabs are
-// reserved for the focus, energy, flux, conics, testing and designer views,
+// reserved for the focus, energy, image, flux, conics, testing and designer views,
 // which register the same way: { id, label, title, mount(el, app),
 // update(app) }.
 
@@ -13,10 +13,11 @@ import { DesignersView } from './views/designers.js';
 import { FocusView } from './views/focus.js';
 import { EnergyView } from './views/energy.js';
 import { FluxView } from './views/flux.js';
+import { ImageView } from './views/image.js';
 import { prepareCanvas } from './views/plot.js';
 
 /** Tab order; views and planned tabs are sorted into it. */
-const TAB_ORDER = ['spot', 'focus', 'energy', 'flux', 'conics', 'testing', 'designers'];
+const TAB_ORDER = ['spot', 'focus', 'energy', 'image', 'flux', 'conics', 'testing', 'designers'];
 
 /** Flattens nested report objects into dotted keys: flux.peak_w_m2. */
 function flatten(obj, prefix = '', out = {}) {
@@ -315,7 +316,7 @@ export class Drawer {
     this.body = body;
     this.app = app;
     this.views = [
-      new SpotView(), new FocusView(), new EnergyView(), new FluxView(),
+      new SpotView(), new FocusView(), new EnergyView(), new ImageView(), new FluxView(),
       new ConicsView(), new TestingView(), new DesignersView(),
     ];
     this.panels = new Map();
