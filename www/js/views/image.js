@@ -11,7 +11,7 @@
 // of printing a number.
 
 import { api } from '../wasm.js';
-import { fmtInt, fmtNum, withUnit } from '../format.js';
+import { denoise, fmtInt, fmtNum, withUnit } from '../format.js';
 import { sourceColour } from '../palette.js';
 import { niceStep } from '../editor.js';
 import { PsfClient } from '../psf-client.js';
@@ -50,6 +50,7 @@ function answerRefusal(rep) {
   return rep.pupil_fill < PARTIAL_FILL ? `partial pupil: light fills ${fmtNum(100 * rep.pupil_fill, 2)} % of it (clipped or shadowed)` : null;
 }
 
+/** The focus an image refers to: the best diffraction focus (least RMS wavefront) or the screen. */
 function focusLabel(rep) {
   return rep.at === 'screen' ? 'at the screen' : 'at best focus';
 }
@@ -78,7 +79,7 @@ export function psfReadout(app, row, who) {
     if (ans.error) { set('–', `No Strehl ratio: ${ans.error}`); return; }
     const partial = answerRefusal(ans.report);
     if (partial) { set('–', `No Strehl ratio: ${partial}`); return; }
-    set(fmtNum(ans.report.strehl, 3), 'Peak of the diffraction image (PSF) at the best focus over the peak of a perfect one of the same pupil', ans.report.strehl);
+    set(fmtNum(ans.report.strehl, 3), 'Peak of the diffraction image (PSF) at the best diffraction focus (least RMS wavefront) over the peak of a perfect image of the same pupil; the Image view shows it', ans.report.strehl);
   });
   return span;
 }
@@ -179,7 +180,7 @@ export class ImageView {
     this.panel.dataset.state = reason ? 'none' : partial ? 'partial' : 'ready';
     this.status.textContent = reason ? `No diffraction image: ${reason}.`
       : partial ? `Figures withheld: ${partial}; the picture shows the light that does arrive.`
-        : `${focusLabel(rep)}${rep.at === 'best' ? ` (${fmtNum(rep.focus_shift_mm, 4)} mm from the screen)` : ''}, from ${fmtInt(rep.hits)} hits.`;
+        : `${focusLabel(rep)}${rep.at === 'best' ? ` (${fmtNum(denoise(rep.focus_shift_mm, 'mm'), 4)} mm from the screen along its axis)` : ''}, from ${fmtInt(rep.hits)} hits.`;
     this.drawPsf();
     this.drawMtf();
     this.figures(rep, !!partial);
@@ -275,7 +276,7 @@ export class ImageView {
     this.off.width = n;
     this.off.height = n;
     this.off.getContext('2d').putImageData(new ImageData(px, n, n), 0, 0);
-    const top = 22, bottom = 26;
+    const top = 22, bottom = 44;
     const S = Math.max(10, Math.min(W - 16, H - top - bottom));
     const x0 = (W - S) / 2, y0 = top + (H - top - bottom - S) / 2;
     ctx.imageSmoothingEnabled = false;
@@ -308,9 +309,7 @@ export class ImageView {
     ctx.fillStyle = th.ink2;
     const partial = answerRefusal(rep);
     ctx.fillText(`PSF ${focusLabel(rep)}${partial ? '' : ` — Strehl ${fmtNum(rep.strehl, 3)}`}`, 8, 15);
-    ctx.textAlign = 'right';
-    ctx.fillText(`${this.log ? `log, ${LOG_DECADES} decades` : 'linear'}; dashed: Airy ring ${withUnit(airyUm, 'µm', 3)}`, W - 8, H - 10);
-    ctx.textAlign = 'left';
+    ctx.fillText(`${this.log ? `log scale, ${LOG_DECADES} decades` : 'linear scale'}; dashed: Airy ring 1.22 λN = ${withUnit(airyUm, 'µm', 3)}`, x0, H - 28);
     ctx.fillStyle = '#ffffff';
     ctx.fillText('u →', x0 + S - 28, y0 + S - 6);
     ctx.fillText('v ↑', x0 + 4, y0 + 14);
