@@ -97,6 +97,14 @@ describe('the Image view', () => {
       assert.ok(close(ro.value, best64.strehl), `readout ${ro.value}, native ${best64.strehl}`);
       const marechal = JSON.parse(native(['trace', path, '--json'])).screens[0].by_source[0].strehl_estimate;
       assert.ok(Math.abs(ro.value - marechal) > 0.05, `the readout is not the Maréchal estimate ${marechal}`);
+      // The statistics table carries the same PSF Strehl, labelled with its focus.
+      await page.waitForFunction(() => {
+        const c = document.querySelector('#stats [data-psf="strehl"]');
+        return c && c.textContent !== '…';
+      }, null, { timeout: 60_000 });
+      const cell = await page.getAttribute('#stats [data-psf="strehl"][data-source="star"]', 'data-value');
+      assert.ok(close(JSON.parse(cell), best64.strehl), `table ${cell}, native ${best64.strehl}`);
+      assert.match(await page.textContent('#stats table.stats tbody tr:first-child th'), /Strehl \(PSF, best focus\)/);
 
       await showImage(page);
       assert.equal(await page.getAttribute('#view-image', 'data-state'), 'ready');

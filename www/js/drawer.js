@@ -13,7 +13,7 @@ import { DesignersView } from './views/designers.js';
 import { FocusView } from './views/focus.js';
 import { EnergyView } from './views/energy.js';
 import { FluxView } from './views/flux.js';
-import { ImageView } from './views/image.js';
+import { ImageView, addPsfStrehlRows } from './views/image.js';
 import { prepareCanvas } from './views/plot.js';
 
 /** Tab order; views and planned tabs are sorted into it. */
@@ -146,6 +146,7 @@ export function renderStats(container, app) {
     t.append(thead, tbody);
     container.append(t);
   });
+  addPsfStrehlRows(container, app);
 }
 
 /** Spot diagram of the chosen screen. */

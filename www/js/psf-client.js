@@ -2,17 +2,17 @@
 // worker, made at the first request and kept. Requests are keyed by what
 // they ask (layout text, screen, source, focus, grid); the last few answers
 // are kept, a request for a kept answer is answered at once, and while the
-// worker is busy only the newest request waits (older waiting ones are
-// dropped: the views ask again on every update).
+// worker is busy only requests about the newest layout text wait (those
+// about an older layout are dropped: the views ask again on every update).
 
 /** Answers kept for repeated requests. */
-const KEEP = 6;
+const KEEP = 12;
 
 export class PsfClient {
   constructor() {
     this.worker = null;
     this.busy = null; // { id, key, cbs }
-    this.waiting = null; // { key, params, cbs }
+    this.waiting = new Map(); // key → { params, cbs }, one layout text
     this.done = new Map(); // key → answer
     this.seq = 0;
   }
@@ -31,16 +31,18 @@ export class PsfClient {
     const kept = this.done.get(key);
     if (kept) { cb(kept); return; }
     if (this.busy?.key === key) { this.busy.cbs.push(cb); return; }
-    if (this.waiting?.key === key) { this.waiting.cbs.push(cb); return; }
-    this.waiting = { key, params, cbs: [cb] };
+    const w = this.waiting.get(key);
+    if (w) { w.cbs.push(cb); return; }
+    for (const [k, job] of this.waiting) if (job.params.layout !== params.layout) this.waiting.delete(k);
+    this.waiting.set(key, { params, cbs: [cb] });
     this.pump();
   }
 
   pump() {
-    if (this.busy || !this.waiting) return;
-    const job = this.waiting;
-    this.waiting = null;
-    this.busy = { id: ++this.seq, key: job.key, cbs: job.cbs };
+    if (this.busy || !this.waiting.size) return;
+    const [key, job] = this.waiting.entries().next().value;
+    this.waiting.delete(key);
+    this.busy = { id: ++this.seq, key, cbs: job.cbs };
     this.ensureWorker().postMessage({ id: this.busy.id, ...job.params });
   }
 

@@ -1,7 +1,8 @@
 // Diffraction-image worker (see psf-client.js): traces a layout and computes
 // the PSF, MTF and Zernike terms of one source on one screen with the same
 // wasm module as the page, so the page's thread stays free while the user
-// drags. Stateless between messages.
+// drags. It keeps the last layout's trace, so several images of one layout
+// cost one trace.
 //
 // In:  { id, layout (JSON text), screen, source (indices), at ('best' |
 //        'screen'), grid (pupil grid side) }
@@ -9,15 +10,17 @@
 //        (Float32Array side × side, row 0 at −v, transferred), side }
 //      or { id, error }.
 
-import init, { psf_image } from '../pkg/catoptric.js';
+import init, { PsfTracer } from '../pkg/catoptric.js';
 
 const ready = init();
+let tracer = null;
 
 self.onmessage = async (ev) => {
   const m = ev.data;
   try {
     await ready;
-    const r = psf_image(m.layout, m.screen, m.source, m.at, m.grid);
+    tracer ??= new PsfTracer();
+    const r = tracer.image(m.layout, m.screen, m.source, m.at, m.grid);
     const report = JSON.parse(r.report_json());
     const pixels = r.pixels();
     const side = r.side();

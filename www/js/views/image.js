@@ -56,6 +56,26 @@ function focusLabel(rep) {
 }
 
 /**
+ * Fills in the PSF Strehl ratio at the best focus of `row` (a report row)
+ * on screen `screen` through `set(text, title, value)`, at once when it
+ * means nothing or is kept, else when the image worker answers.
+ */
+function strehlInto(app, screen, row, set) {
+  const why = psfRefusal(app, row);
+  const source = app.layout.sources.findIndex((s) => s.id === row.source);
+  if (why || source < 0) { set('–', `No Strehl ratio: ${why ?? 'unknown source'}`, null); return; }
+  set('…', 'Strehl ratio from the diffraction image, being computed', null);
+  const params = { layout: app.currentJson(), screen, source, at: 'best', grid: READOUT_GRID };
+  psfClient(app).request(params, (ans) => {
+    if (ans.error) { set('–', `No Strehl ratio: ${ans.error}`, null); return; }
+    const partial = answerRefusal(ans.report);
+    if (partial) { set('–', `No Strehl ratio: ${partial}`, null); return; }
+    set(fmtNum(ans.report.strehl, 3), 'Peak of the diffraction image (PSF) at the best diffraction focus (least RMS wavefront) over the peak of a '
+      + 'perfect image of the same pupil; the Image view shows it', ans.report.strehl);
+  });
+}
+
+/**
  * The readout's Strehl for `row` (first source of the chosen screen): a
  * span filled in when the image worker answers, labelled with its focus.
  */
@@ -65,23 +85,45 @@ export function psfReadout(app, row, who) {
   span.dataset.focus = 'best';
   const b = document.createElement('b');
   span.append('Strehl (best focus) ', b);
-  const why = psfRefusal(app, row);
-  const source = app.layout.sources.findIndex((s) => s.id === row.source);
-  const set = (text, title, value = null) => {
+  strehlInto(app, app.spotScreen, row, (text, title, value) => {
     b.textContent = text;
     span.title = `${title}${who}`;
     span.dataset.value = JSON.stringify(value);
-  };
-  if (why || source < 0) { set('–', `No Strehl ratio: ${why ?? 'unknown source'}`); return span; }
-  set('…', 'Strehl ratio from the diffraction image, being computed');
-  const params = { layout: app.currentJson(), screen: app.spotScreen, source, at: 'best', grid: READOUT_GRID };
-  psfClient(app).request(params, (ans) => {
-    if (ans.error) { set('–', `No Strehl ratio: ${ans.error}`); return; }
-    const partial = answerRefusal(ans.report);
-    if (partial) { set('–', `No Strehl ratio: ${partial}`); return; }
-    set(fmtNum(ans.report.strehl, 3), 'Peak of the diffraction image (PSF) at the best diffraction focus (least RMS wavefront) over the peak of a perfect image of the same pupil; the Image view shows it', ans.report.strehl);
   });
   return span;
+}
+
+/**
+ * Adds to each screen's statistics table (drawer.js) a row of the PSF
+ * Strehl ratio at the best focus, one cell per source column
+ * (`data-psf="strehl"`, `data-value`), filled in as the worker answers.
+ */
+export function addPsfStrehlRows(container, app) {
+  const screens = app.result?.report?.screens ?? [];
+  screens.forEach((sc, si) => {
+    const table = [...container.querySelectorAll('table.stats')].find((t) => t.dataset.screen === sc.id);
+    const body = table?.querySelector('tbody');
+    const rows = sc.by_source ?? [];
+    if (!body || !rows.length) return;
+    const tr = document.createElement('tr');
+    const th = document.createElement('th');
+    th.title = 'Peak of the diffraction image over that of a perfect image of the same pupil, at the best diffraction focus (Image view)';
+    th.textContent = 'Strehl (PSF, best focus)';
+    tr.append(th);
+    for (const row of rows) {
+      const td = document.createElement('td');
+      td.dataset.psf = 'strehl';
+      td.dataset.source = row.source;
+      td.dataset.screen = sc.id;
+      strehlInto(app, si, row, (text, title, value) => {
+        td.textContent = text;
+        td.title = title;
+        td.dataset.value = JSON.stringify(value);
+      });
+      tr.append(td);
+    }
+    body.prepend(tr);
+  });
 }
 
 export class ImageView {
