@@ -188,7 +188,10 @@ export class ImageView {
     this.notes = document.createElement('ul');
     this.notes.className = 'muted small';
     this.zernike = document.createElement('div');
-    side.append(this.status, this.figs, this.notes, this.zernike);
+    this.legend = document.createElement('p');
+    this.legend.className = 'small';
+    this.legend.id = 'mtf-legend';
+    side.append(this.status, this.legend, this.figs, this.notes, this.zernike);
     el.append(box, this.mtf.el, side);
     this.off = document.createElement('canvas');
   }
@@ -204,7 +207,7 @@ export class ImageView {
     if (why) { this.asked = null; this.show(null, why); return; }
     const params = { layout: app.currentJson(), screen: c.screen, source: c.source, at: this.at, grid: this.grid };
     const key = JSON.stringify([params.screen, params.source, params.at, params.grid, params.layout]);
-    if (this.asked === key && this.answer) return;
+    if (this.asked === key && this.answer) { this.drawPsf(); this.drawMtf(); return; }
     this.asked = key;
     const kept = psfClient(app).cached(params);
     if (kept) { this.show(kept); return; }
@@ -370,6 +373,16 @@ export class ImageView {
       { xs: f, ys: Float64Array.from(m.tangential), colour: sourceColour(0, th.dark), name: 'tangential (along v)', along: 'x', width: 2 },
       { xs: f, ys: Float64Array.from(m.sagittal), colour: sourceColour(1, th.dark), name: 'sagittal (along u)', along: 'x', width: 2 },
     ] : [];
+    this.legend.replaceChildren();
+    if (series.length) {
+      this.legend.append('MTF: ');
+      for (const sr of [...series].reverse()) {
+        const k = document.createElement('span');
+        k.style.color = sr.colour;
+        k.textContent = `━ ${sr.name}  `;
+        this.legend.append(k);
+      }
+    }
     this.mtf.set({
       title: m ? `MTF ${focusLabel(rep)} — tangential, sagittal and the diffraction limit` : 'MTF',
       x: { label: 'spatial frequency', unit: 'cycles/mm', min: 0 },
