@@ -352,3 +352,59 @@ fn bad_requests_are_input_errors_naming_the_field() {
     let (scene, res) = run(&dark);
     assert_eq!(psf(&scene, &res, &base).unwrap_err().field, "screen");
 }
+
+// ---- other pupils and sources ----
+
+#[test]
+fn a_lamp_at_one_focus_of_an_ellipsoid_images_perfectly_at_the_other() {
+    // Focal property of the ellipse (any analytic-geometry text): every
+    // ray from one focus reflects through the other, with equal paths, so
+    // the diverging point source gives a perfect image (Strehl ≥ 0.99).
+    // R = 400, K = −0.5: a = R/(1 − e²) = 800, c = a·e = 565.69; with the
+    // vertex at z = 1000 facing −z, the foci are at z = 1000 − (a − c)
+    // and 1000 − (a + c).
+    let (r, k) = (400.0f64, -0.5f64);
+    let e = (-k).sqrt();
+    let a = r / (1.0 - e * e);
+    let c = a * e;
+    let (near, far) = (1000.0 - (a - c), 1000.0 - (a + c));
+    let text = format!(
+        r#"{{ "format": "catoptric-layout", "version": 1, "name": "test", "wavelength_nm": 550, "max_bounces": 4,
+            "elements": [{}, {}],
+            "sources": [{{ "kind": "point", "id": "lamp", "center": [0, {near}], "direction_deg": 0,
+                "cone_half_angle_deg": 20, "rays": 30000, "pattern": "hex", "power_w": 10 }}] }}"#,
+        mirror_with_hole(r, k, 300.0, 0.0),
+        screen("s", 0.0, far, 10.0, "square", false)
+    );
+    let r = image(&text, PsfFocus::Best, 128);
+    assert!(r.strehl >= 0.99, "{}", r.strehl);
+    assert!(r.wavefront_rms_waves < 1e-3, "{}", r.wavefront_rms_waves);
+    assert_eq!(r.source, "lamp");
+}
+
+#[test]
+fn a_square_clipped_pupil_is_partial_and_has_the_triangle_mtf() {
+    // A 30 mm square screen 400 mm in front of an f/8 paraboloid's focus
+    // catches a square cut of the converging cone (the cone is 50 mm wide
+    // there, so the square lies inside it). Its pupil is a square in
+    // direction cosines, side s = 2·15/√(15² + 400²); the unit pupil's rim
+    // is its corner, so it fills 2/π of that disk (elementary geometry)
+    // and the report calls it partial. The MTF of a square aperture along
+    // a side is the triangle 1 − fλ/s (Goodman, Introduction to Fourier
+    // Optics, 3rd ed., the OTF of a square pupil; formula from memory).
+    let text = layout(&[mirror_with_hole(1600.0, -1.0, 100.0, 0.0), screen("s", 0.0, 600.0, 30.0, "square", false)], &[star(100.0, 60000, 0.0)]);
+    let r = image(&text, PsfFocus::Best, 128);
+    let fill = 2.0 / PI;
+    assert!((r.pupil_fill - fill).abs() < 0.03, "fill {} vs {fill}", r.pupil_fill);
+    assert!(r.notes.iter().any(|n| n.contains("partial pupil")), "{:?}", r.notes);
+    let s = 2.0 * 15.0 / (15.0f64.powi(2) + 400.0f64.powi(2)).sqrt();
+    let lambda = 550e-6;
+    for (k, &f) in r.mtf.frequency_cyc_mm.iter().enumerate() {
+        let want = (1.0 - f * lambda / s).max(0.0);
+        for (name, got) in [("tangential", r.mtf.tangential[k]), ("sagittal", r.mtf.sagittal[k])] {
+            assert!((got - want).abs() < 0.02, "{name} at {f:.1} cycles/mm: {got} vs {want}");
+        }
+    }
+    // The pupil is perfect: its Strehl is still 1 (same-pupil reference).
+    assert!(r.strehl >= 0.99, "{}", r.strehl);
+}
