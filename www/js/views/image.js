@@ -22,8 +22,8 @@ import { chosen, figureList, viewSide, visible } from './data.js';
 export const FEW_HITS = 300;
 /** A pupil lit over less than this fraction of its disk is partial. */
 export const PARTIAL_FILL = 0.9;
-/** Pupil grid of the readout's Strehl (the PSF grid is 4 times wider). */
-export const READOUT_GRID = 64;
+/** Pupil grid of the readout's and the table's Strehl: the Image view's default, so they agree with its picture (and share its answer). */
+export const READOUT_GRID = 128;
 /** Decades the log scale spans below the peak. */
 const LOG_DECADES = 5;
 const GRIDS = [64, 128, 256];
@@ -132,7 +132,7 @@ export class ImageView {
     this.label = 'Image';
     this.title = 'Diffraction image: PSF, MTF and Zernike terms, with the Strehl ratio from the PSF';
     this.at = 'best';
-    this.grid = 128;
+    this.grid = READOUT_GRID;
     this.log = false;
     this.answer = null;
     this.asked = null;
