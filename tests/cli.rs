@@ -1,5 +1,6 @@
 //! The `catoptric` command's contract (docs/FORMATS.md §3): JSON shape, exit
-//! codes, nothing on stdout on error, exact link round trip.
+//! codes, nothing on stdout on error, exact link round trip, the psf
+//! command's keys and refusals.
 
 use std::process::Command;
 
@@ -212,4 +213,74 @@ fn bad_flag_values_are_one_line_naming_the_flag() {
         assert_eq!(code, 0, "{args:?}: {err}");
         assert!(!out.is_empty() && err.is_empty(), "{args:?}");
     }
+}
+
+// ---- psf: the diffraction image (docs/FORMATS.md §3) ----
+
+const F5: &str = "www/presets/paraboloid-f5.json";
+
+#[test]
+fn psf_json_has_the_contract_keys() {
+    let (code, out, err) = run(&["psf", F5, "--grid", "64", "--json"]);
+    assert_eq!(code, 0, "{err}");
+    let v: serde_json::Value = serde_json::from_str(&out).unwrap();
+    for k in [
+        "screen", "source", "at", "wavelength_nm", "f_number", "strehl", "strehl_marechal", "wavefront_rms_waves", "wavefront_pv_waves",
+        "obscuration", "psf", "ee_diffraction", "mtf", "zernike",
+    ] {
+        assert!(v.get(k).is_some(), "missing {k}");
+    }
+    assert_eq!(v["at"], "best");
+    assert_eq!(v["screen"], "focus");
+    assert_eq!(v["source"], "star");
+    for k in ["pixel_um", "size", "peak_relative"] {
+        assert!(v["psf"].get(k).is_some(), "psf.{k}");
+    }
+    assert_eq!(v["psf"]["size"], 256, "64 × 4 padding");
+    for k in ["radius_um", "fraction", "ee50_um", "ee80_um"] {
+        assert!(v["ee_diffraction"].get(k).is_some(), "ee_diffraction.{k}");
+    }
+    for k in ["cutoff_cyc_mm", "frequency_cyc_mm", "tangential", "sagittal", "diffraction_limited"] {
+        assert!(v["mtf"].get(k).is_some(), "mtf.{k}");
+    }
+    let z = v["zernike"].as_array().unwrap();
+    assert_eq!(z.len(), 28);
+    for k in ["j", "n", "m", "coefficient_waves"] {
+        assert!(z[12].get(k).is_some(), "zernike.{k}");
+    }
+    assert_eq!((z[12]["n"].as_i64(), z[12]["m"].as_i64()), (Some(4), Some(0)));
+    // A perfect paraboloid: Strehl 1 (its definition).
+    assert!(v["strehl"].as_f64().unwrap() > 0.99);
+    let (code, out, _) = run(&["psf", F5, "--grid", "32", "--at", "screen", "--screen", "focus", "--source", "star", "--json"]);
+    assert_eq!(code, 0);
+    let v: serde_json::Value = serde_json::from_str(&out).unwrap();
+    assert_eq!(v["at"], "screen");
+    // The readable table names the Strehl's focus.
+    let (code, out, _) = run(&["psf", F5, "--grid", "32"]);
+    assert_eq!(code, 0);
+    assert!(out.contains("Strehl") && out.contains("best focus") && out.contains("spherical"), "{out}");
+}
+
+#[test]
+fn bad_psf_requests_name_the_flag() {
+    let err = one_line_refusal(&["psf", F5, "--screen", "nowhere"], "--screen");
+    assert!(err.contains("focus"), "lists the screens: {err}");
+    one_line_refusal(&["psf", F5, "--source", "moon"], "--source");
+    one_line_refusal(&["psf", F5, "--at", "infinity"], "--at");
+    for g in ["100", "16", "2048", "0"] {
+        let err = one_line_refusal(&["psf", F5, "--grid", g], "--grid");
+        assert!(err.contains("power of two"), "{err}");
+    }
+    one_line_refusal(&["psf", F5, "--grid", "-5"], "--grid");
+    one_line_refusal(&["psf", F5, "--grid", "many"], "--grid");
+    let err = one_line_refusal(&["psf", "www/presets/solar-dish.json"], "--source");
+    assert!(err.contains("point source"), "{err}");
+    one_line_refusal(&["psf", "no/such/file.json"], "no/such/file.json");
+}
+
+#[test]
+fn a_screen_the_light_misses_is_refused() {
+    let p = temp_file("dark.json", &preset_with(|v| v["elements"][1]["center"][0] = serde_json::json!(500.0)));
+    let err = one_line_refusal(&["psf", &p], "--screen");
+    assert!(err.contains("no rays"), "{err}");
 }

@@ -1,7 +1,8 @@
 //! Analyses of a finished trace: spot statistics, best focus and the
 //! through-focus curve, the working f-number and Airy radius, wavefront
 //! error and Strehl estimate, encircled energy, longitudinal aberration,
-//! the caustic raster, flux maps and concentration, and the report.
+//! the caustic raster, flux maps and concentration, the report, and the
+//! diffraction image (PSF, MTF, Zernike terms).
 
 mod caustic;
 mod cone;
@@ -10,10 +11,13 @@ mod flux;
 mod focus;
 mod fused;
 mod longitudinal;
+mod psf;
+mod pupil;
 mod report;
 mod select;
 mod spot;
 mod wavefront;
+pub mod zernike;
 
 /// Runs `a` and `b` at once on the thread pool natively (each one is
 /// sequential inside, so the answers do not depend on the threads), one
@@ -77,6 +81,11 @@ pub use focus::{
     MIN_SLOPE_SPREAD,
 };
 pub use longitudinal::{longitudinal_aberration, trace_meridional, LongitudinalAberration};
+pub use psf::{
+    check_grid, psf, EeDiffraction, MtfCurves, Psf, PsfFocus, PsfImageInfo, PsfOptions, PsfReport, ZernikeTerm, DEFAULT_PSF_GRID,
+    MAX_PSF_GRID, MIN_PSF_GRID, MIN_PSF_HITS, PSF_PADDING,
+};
+pub use pupil::{resample, PupilGrid, PupilRays};
 pub use report::{analyse_all, first_arrivals, trace_report, Analyses, ScreenReport, SourceCurves, SourceReport, TraceReport, CURVE_POINTS};
 pub use spot::{spot_stats, SpotStats};
 pub use wavefront::{strehl_from_rms, wavefront, wavefront_map, WavefrontMap, WavefrontStats, MARECHAL_RMS_WAVES};

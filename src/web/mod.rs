@@ -7,6 +7,7 @@
 mod analysis;
 mod bench;
 mod design;
+mod psf;
 mod session;
 mod sun;
 

@@ -43,7 +43,7 @@ function twoBeamLayout(name, rays) {
 
 /**
  * A page whose navigator reports `threads` hardware threads; it counts the
- * workers it makes (window.workersMade) and the results it shows
+ * trace workers it makes (window.workersMade) and the results it shows
  * (window.results).
  */
 async function openPage(threads) {
@@ -55,7 +55,8 @@ async function openPage(threads) {
     window.Worker = class extends Real {
       constructor(...args) {
         super(...args);
-        window.workersMade++;
+        // Trace workers only (the image worker, psf-worker.js, is not the pool's).
+        if (/\/worker\.js(\?|$)/.test(String(args[0]))) window.workersMade++;
       }
     };
   }, threads);

@@ -31,6 +31,7 @@ import { collectAnalysis } from './views/data.js';
 import { CausticLayer } from './views/caustic.js';
 import { updateCautions } from './views/cautions.js';
 import { exportAnalysis } from './views/analysis-export.js';
+import { psfReadout } from './views/image.js';
 
 /** Most rays the page's own thread traces (previews and small layouts). */
 const MAIN_RAYS = 20_000;
@@ -861,7 +862,7 @@ class App {
       if (typeof src.best_focus_shift_mm === 'number') add('best_focus_shift_mm', src.best_focus_shift_mm, who);
       const sun = this.session.has_sun();
       if (sun && typeof sc.flux?.peak_suns === 'number') add('flux.peak_suns', sc.flux.peak_suns);
-      else if (typeof src.strehl_estimate === 'number') add('strehl_estimate', src.strehl_estimate, who);
+      else box.append(psfReadout(this, src, who));
     } else {
       const span = document.createElement('span');
       span.className = 'muted';

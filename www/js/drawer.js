@@ -1,6 +1,6 @@
 // The analysis drawer: one view at a time, chosen by tabs. The spot view
 // (diagram plus the statistics table) is built here; the other tabs are
-// reserved for the focus, energy, flux, conics, testing and designer views,
+// reserved for the focus, energy, image, flux, conics, testing and designer views,
 // which register the same way: { id, label, title, mount(el, app),
 // update(app) }.
 
@@ -14,10 +14,11 @@ import { FocusView } from './views/focus.js';
 import { EnergyView } from './views/energy.js';
 import { FluxView } from './views/flux.js';
 import { DayView } from './views/day.js';
+import { ImageView, addPsfStrehlRows } from './views/image.js';
 import { prepareCanvas } from './views/plot.js';
 
 /** Tab order; views and planned tabs are sorted into it. */
-const TAB_ORDER = ['spot', 'focus', 'energy', 'flux', 'day', 'conics', 'testing', 'designers'];
+const TAB_ORDER = ['spot', 'focus', 'energy', 'image', 'flux', 'day', 'conics', 'testing', 'designers'];
 
 /** Flattens nested report objects into dotted keys: flux.peak_w_m2. */
 function flatten(obj, prefix = '', out = {}) {
@@ -146,6 +147,7 @@ export function renderStats(container, app) {
     t.append(thead, tbody);
     container.append(t);
   });
+  addPsfStrehlRows(container, app);
 }
 
 /** Spot diagram of the chosen screen. */
@@ -316,7 +318,7 @@ export class Drawer {
     this.body = body;
     this.app = app;
     this.views = [
-      new SpotView(), new FocusView(), new EnergyView(), new FluxView(), new DayView(),
+      new SpotView(), new FocusView(), new EnergyView(), new ImageView(), new FluxView(), new DayView(),
       new ConicsView(), new TestingView(), new DesignersView(),
     ];
     this.panels = new Map();

@@ -79,7 +79,7 @@ const INFO = {
   airy_radius_um: ['Airy radius', 'µm', 'Radius of the first dark ring of a perfect focus, 1.22 λ N'],
   wavefront_pv_waves: ['wavefront P-V', 'waves', 'Peak-to-valley wavefront error at best diffraction focus, in waves'],
   wavefront_rms_waves: ['wavefront RMS', 'waves', 'RMS wavefront error at best diffraction focus, in waves'],
-  strehl_estimate: ['Strehl', '', 'Peak intensity relative to a perfect focus (Maréchal estimate from the RMS wavefront)'],
+  strehl_estimate: ['Strehl est. (Maréchal)', '', 'exp(−(2πσ)²) from the RMS wavefront at best focus: a fair estimate for small errors only (σ ≲ 0.1 wave); the Image view and the readout give the Strehl ratio from the PSF'],
   ee50_radius_um: ['EE50 radius', 'µm', 'Radius about the centroid holding 50 % of the power'],
   ee80_radius_um: ['EE80 radius', 'µm', 'Radius about the centroid holding 80 % of the power'],
   diffraction_limited: ['diffraction-limited', '', 'Whether the wavefront error is within the Maréchal criterion (Strehl ≥ 0.8)'],

@@ -26,7 +26,7 @@ pub fn read_layout(path: &str) -> Result<Layout, Failure> {
     parse_layout(&text).map_err(|e| Failure::input(format!("{path}: {e}")))
 }
 
-fn to_json<T: serde::Serialize>(v: &T) -> String {
+pub fn to_json<T: serde::Serialize>(v: &T) -> String {
     serde_json::to_string_pretty(v).expect("reports always serialize")
 }
 
@@ -59,16 +59,7 @@ pub fn trace(path: &str, args: TraceArgs, json: bool) -> Result<String, Failure>
         Some(n) => n * layout.sources.len() as u64,
         None => layout.sources.iter().map(|s| s.rays()).sum(),
     };
-    let work = work_estimate(&scene, total_rays);
-    let long = work > WORK_BUDGET;
-    if long && !allow_long {
-        return Err(Failure::input(format!(
-            "{path}: this trace could take up to {work:.1e} ray–element tests ({total_rays} rays, max_bounces {}, {} elements), \
-             above the budget of {WORK_BUDGET:.0e}; lower the rays or max_bounces, or pass --allow-long",
-            layout.max_bounces,
-            layout.elements.len()
-        )));
-    }
+    let long = !within_budget(path, &layout, &scene, total_rays, allow_long)?;
     let opts = TraceOptions { rays: rays.map(|n| n as usize), threads, max_hits, ..Default::default() };
     let mut last = std::time::Instant::now();
     let res = catoptric::trace::trace_with(&scene, opts, &mut |done, total| {
@@ -83,6 +74,24 @@ pub fn trace(path: &str, args: TraceArgs, json: bool) -> Result<String, Failure>
     }
     let report = trace_report(&scene, &res);
     Ok(if json { to_json(&report) } else { table(&layout, &report) })
+}
+
+/// Whether a trace of `total_rays` stays within the work budget; above it
+/// an error unless `allow_long` (then `Ok(false)`: a long trace).
+pub fn within_budget(path: &str, layout: &Layout, scene: &Scene, total_rays: u64, allow_long: bool) -> Result<bool, Failure> {
+    let work = work_estimate(scene, total_rays);
+    if work <= WORK_BUDGET {
+        return Ok(true);
+    }
+    if allow_long {
+        return Ok(false);
+    }
+    Err(Failure::input(format!(
+        "{path}: this trace could take up to {work:.1e} ray–element tests ({total_rays} rays, max_bounces {}, {} elements), \
+         above the budget of {WORK_BUDGET:.0e}; lower the rays or max_bounces, or pass --allow-long",
+        layout.max_bounces,
+        layout.elements.len()
+    )))
 }
 
 fn table(layout: &Layout, r: &TraceReport) -> String {

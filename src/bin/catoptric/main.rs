@@ -5,6 +5,7 @@ mod bench;
 mod commands;
 mod design_cmd;
 mod mirror_test_cmd;
+mod psf_cmd;
 mod serve;
 mod sun_cmd;
 mod usage;
@@ -68,6 +69,8 @@ enum Cmd {
     Ronchi(mirror_test_cmd::RonchiArgs),
     /// Knife-edge test simulated: null zone, lit fraction and the picture.
     Knife(mirror_test_cmd::KnifeArgs),
+    /// Diffraction image of one source on one screen: PSF, Strehl, MTF, Zernike terms.
+    Psf(psf_cmd::PsfArgs),
     /// Serve the browser workbench from 127.0.0.1.
     Serve(serve::ServeArgs),
     /// The sun's azimuth and elevation at a place and time (NREL SPA).
@@ -118,6 +121,7 @@ fn main() -> ExitCode {
         Cmd::Zones(a) => design_cmd::zones(a),
         Cmd::Ronchi(a) => mirror_test_cmd::ronchi(a),
         Cmd::Knife(a) => mirror_test_cmd::knife(a),
+        Cmd::Psf(a) => psf_cmd::run(a),
         Cmd::Serve(a) => serve::run(a),
         Cmd::Bench { rays, threads, json } => bench::run(rays, threads, json),
         Cmd::Sun(a) => sun_cmd::sun(a),

@@ -1,5 +1,5 @@
-// Exports of the analysis views: CSV of each curve and of the flux map, and
-// the flux view as a PNG image.
+// Exports of the analysis views: CSV of each curve, of the flux map, the MTF
+// and the Zernike terms, and the flux and diffraction images as PNG.
 
 import { download, slug } from '../export.js';
 
@@ -18,6 +18,24 @@ export function exportAnalysis(app, what) {
     case 'longitudinal-csv': csv(ready('focus')?.csv('longitudinal')); return true;
     case 'energy-csv': csv(ready('energy')?.csv()); return true;
     case 'flux-csv': csv(ready('flux')?.csv()); return true;
+    case 'mtf-csv': case 'zernike-csv': {
+      const v = ready('image');
+      const r = v?.csv(what === 'mtf-csv' ? 'mtf' : 'zernike');
+      if (r) csv(r);
+      else app.message('Nothing to export yet: the diffraction image of the chosen screen and source is not ready (see the Image view).');
+      return true;
+    }
+    case 'psf-png': {
+      const v = view('image');
+      if (!v || !app.result) { app.message('Nothing to export yet.'); return true; }
+      d.openThen('image', () => {
+        v.update();
+        if (!v.answer) { app.message('The diffraction image is not ready yet (see the Image view); try again in a moment.'); return; }
+        v.drawPsf();
+        v.canvas.toBlob((b) => b && download(`${slug(app.layout.name)}-${slug(v.answer.report.screen)}-psf.png`, b), 'image/png');
+      });
+      return true;
+    }
     case 'flux-png': {
       const v = view('flux');
       if (!v || !app.result) { app.message('Nothing to export yet.'); return true; }
