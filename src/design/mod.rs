@@ -10,6 +10,9 @@
 //!   for a centre-of-curvature test, glass to remove per zone.
 //! * [`measured`]: a mirror built from measured readings or a departure
 //!   table, and which zones need work.
+//! * [`tolerance`]: a seeded Monte Carlo of making and alignment errors
+//!   and a sensitivity table; [`optimise`]: damped least squares over
+//!   layout fields named by path; [`merit`]: the figures both measure.
 //!
 //! Errors are [`InputError`]s whose `field` is the snake_case name of the
 //! offending parameter (`back_focus`, `conics[2]`, `csv line 7`); front ends
@@ -17,7 +20,10 @@
 
 pub mod compare;
 pub mod measured;
+pub mod merit;
+pub mod optimise;
 pub mod off_axis;
+pub mod tolerance;
 pub mod two_mirror;
 pub mod zones;
 

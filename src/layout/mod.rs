@@ -8,11 +8,13 @@
 
 mod link;
 mod parse;
+mod path;
 mod text;
 mod validate;
 
 pub use link::{checked_link, decode_link, encode_link, LINK_PREFIX, MAX_LINK_LAYOUT_BYTES};
 pub use parse::parse_layout;
+pub use path::{field_mut, get_field, set_field};
 pub use text::{decode_layout_bytes, MAX_LAYOUT_BYTES};
 pub use validate::{
     validate, DOMAIN_MARGIN, MAX_BOUNCES_CAP, MAX_ELEMENTS, MAX_LENGTH_MM, MAX_NAME_LEN, MAX_NOTES_BYTES,

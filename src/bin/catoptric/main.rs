@@ -4,7 +4,9 @@
 mod bench;
 mod commands;
 mod design_cmd;
+mod optimise_cmd;
 mod serve;
+mod tolerance_cmd;
 mod usage;
 
 use clap::{CommandFactory as _, Parser, Subcommand};
@@ -62,6 +64,10 @@ enum Cmd {
     Compare(design_cmd::CompareArgs),
     /// Knife-edge readings for a centre-of-curvature test.
     Zones(design_cmd::ZonesArgs),
+    /// Monte Carlo of making and alignment errors, and a sensitivity table.
+    Tolerance(tolerance_cmd::ToleranceArgs),
+    /// Damped least squares over layout fields (conics, spacings, screen position).
+    Optimise(optimise_cmd::OptimiseArgs),
     /// Serve the browser workbench from 127.0.0.1.
     Serve(serve::ServeArgs),
     /// Measure tracing speed on the standard scenes.
@@ -105,6 +111,8 @@ fn main() -> ExitCode {
         Cmd::Design { what } => design_cmd::design(what),
         Cmd::Compare(a) => design_cmd::compare(a),
         Cmd::Zones(a) => design_cmd::zones(a),
+        Cmd::Tolerance(a) => tolerance_cmd::run(a),
+        Cmd::Optimise(a) => optimise_cmd::run(a),
         Cmd::Serve(a) => serve::run(a),
         Cmd::Bench { rays, threads, json } => bench::run(rays, threads, json),
     };
