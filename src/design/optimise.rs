@@ -9,23 +9,30 @@
 //! smooth function of the variables). The residual vector has one slot
 //! per launched ray of the chosen sources (two for the spot), so its
 //! length never changes; a source's hits fill its first slots in ray
-//! order and a ray that does not arrive fills a slot with a fixed penalty.
+//! order and a ray that does not arrive fills a slot with a penalty: for
+//! `rms` and `wavefront` the root mean square of the evaluation's
+//! arrived residuals per launched ray (so the cost is the goal² times
+//! 1 + lost/launched: one ray vignetted at an edge weighs little, yet
+//! keeping rays pays), and a fixed value when a source has no hits at all.
 //! A layout that fails validation (a conic past its domain, a size ≤ 0)
-//! gets a penalty larger than any valid layout's, so the step is refused
+//! gets residuals far above any valid layout's, so the step is refused
 //! and the damping grows: the bounds are the layout's own rules.
 //!
 //! * `rms`: the transverse errors (u, v) on the screen plane about each
 //!   source's own centroid, each scaled by √(nₛ/N · wᵢ/Wₛ) so the sum of
 //!   squares is the pooled mean square radius (hits nₛ of N, ray power wᵢ
-//!   of Wₛ); a lost ray counts as landing at the screen's edge. Minimised.
+//!   of Wₛ); a source with no hits counts its rays at the screen's edge.
+//!   Minimised.
 //! * `wavefront`: each hit's residual wavefront (piston, tilt and defocus
 //!   removed, i.e. at best focus; `analysis::wavefront_map`), in waves,
-//!   scaled likewise; a lost ray counts [`LOST_RAY_WAVES`]. Minimised.
+//!   scaled likewise; a source without a wavefront counts
+//!   [`LOST_RAY_WAVES`] per ray. Minimised.
 //! * `intercept`: a smooth surrogate of the fraction of launched power on
 //!   the screen: the layout is traced with the screen [`INTERCEPT_MARGIN`]
-//!   times larger and each ray's distance outside the real screen, over
-//!   the real half-size (at most 1; 1 for a ray that misses), is weighted
-//!   by its share of the launched power. Its zero is every ray on the
+//!   times larger and each ray's distance outside the real screen shrunk
+//!   by [`INTERCEPT_INSET`], over the real half-size (continuous up to the
+//!   larger screen's edge, where a ray that misses joins it), is weighted
+//!   by its share of the launched power. Its zero is every ray well on the
 //!   screen; the reported goal is the real intercept, maximised.
 //!
 //! The Jacobian is taken by central differences with steps
@@ -37,7 +44,7 @@ use super::merit::{measure, trace_layout, Target};
 use crate::analysis::{focus_fit, wavefront, wavefront_map};
 use crate::error::InputError;
 use crate::layout::{get_field, set_field, validate, Element, Layout};
-use crate::trace::{ScreenHits, TraceResult};
+use crate::trace::{Emitter, ScreenHits, TraceResult};
 use levenberg_marquardt::{LeastSquaresProblem, LevenbergMarquardt};
 use nalgebra034::{storage::Owned, DMatrix, DVector, Dyn};
 use serde::Serialize;
@@ -47,11 +54,18 @@ use std::cell::{Cell, RefCell};
 pub const LOST_RAY_WAVES: f64 = 1.0;
 /// How much larger the screen is traced for the `intercept` surrogate.
 pub const INTERCEPT_MARGIN: f64 = 2.0;
+/// The `intercept` surrogate aims every ray at the screen less this
+/// fraction of its half-size all round, so a small spot ends up inside
+/// the screen rather than on its edge.
+pub const INTERCEPT_INSET: f64 = 0.1;
 /// Relative finite-difference step of the Jacobian.
 pub const FD_REL: f64 = 1e-6;
-/// A layout that fails validation scores this many times the residual of
-/// every ray lost.
-const INVALID_FACTOR: f64 = 10.0;
+/// Times the finite-difference step is shrunk tenfold when a ray
+/// arrives or is lost within it.
+const FD_SHRINKS: usize = 4;
+/// Every residual of a layout that fails validation: far above any valid
+/// layout's, still finite.
+const INVALID_RESIDUAL: f64 = 1e100;
 /// Relative tolerance on the goal and the variables at which the search
 /// stops (the crate's `ftol`, `xtol`).
 pub const OPTIMISE_TOL: f64 = 1e-12;
@@ -159,6 +173,14 @@ fn shares(w: impl Iterator<Item = f64> + Clone) -> Vec<f64> {
     if total > 0.0 { w.map(|x| x / total).collect() } else { vec![1.0 / n.max(1) as f64; n] }
 }
 
+/// One evaluation: the residuals and the hits per chosen source (empty
+/// for an invalid layout).
+#[derive(Clone)]
+struct Eval {
+    r: DVector<f64>,
+    hits: Vec<usize>,
+}
+
 /// The least-squares problem the crate drives.
 struct Problem<'a> {
     base: Layout,
@@ -167,13 +189,14 @@ struct Problem<'a> {
     goal: Goal,
     rays: Option<usize>,
     threads: Option<usize>,
-    /// Launched rays of each chosen source.
+    /// Launched rays of each chosen source (a pattern may round the
+    /// asked count).
     launched: Vec<usize>,
     /// Screen half-size, mm.
     half: f64,
     circle: bool,
     x: DVector<f64>,
-    cache: RefCell<Option<(Vec<f64>, DVector<f64>)>>,
+    cache: RefCell<Option<(Vec<f64>, Eval)>>,
     jacobians: Cell<usize>,
     evaluations: Cell<usize>,
     progress: RefCell<&'a mut dyn FnMut(usize, f64)>,
@@ -189,7 +212,7 @@ impl Problem<'_> {
         match self.goal {
             Goal::Rms => self.half,
             Goal::Wavefront => LOST_RAY_WAVES,
-            Goal::Intercept => 1.0,
+            Goal::Intercept => INTERCEPT_MARGIN - 1.0 + INTERCEPT_INSET,
         }
     }
 
@@ -202,12 +225,12 @@ impl Problem<'_> {
         validate(&l).ok().map(|_| l)
     }
 
-    fn evaluate(&self, x: &[f64]) -> DVector<f64> {
+    fn evaluate(&self, x: &[f64]) -> Eval {
         let m = self.slots();
         let total: usize = self.launched.iter().sum();
         let penalty = self.lost() / (total.max(1) as f64).sqrt();
-        let r = match self.layout_at(x) {
-            None => DVector::from_element(m, INVALID_FACTOR * penalty),
+        let (r, hits) = match self.layout_at(x) {
+            None => (DVector::from_element(m, INVALID_RESIDUAL), Vec::new()),
             Some(mut l) => {
                 if self.goal == Goal::Intercept {
                     if let Element::Screen(s) = &mut l.elements[self.target.element] {
@@ -215,13 +238,15 @@ impl Problem<'_> {
                     }
                 }
                 let (scene, res) = trace_layout(&l, self.rays, self.threads);
-                DVector::from_vec(self.residuals_of(&res, scene.wavelength_mm, penalty))
+                let h = &res.screens[self.target.screen];
+                let hits = self.target.sources.iter().map(|&s| arrivals(h, s as u32).len()).collect();
+                (DVector::from_vec(self.residuals_of(&res, scene.wavelength_mm, penalty)), hits)
             }
         };
         let n = self.evaluations.get() + 1;
         self.evaluations.set(n);
         (self.progress.borrow_mut())(n, r.norm_squared());
-        r
+        Eval { r, hits }
     }
 
     fn residuals_of(&self, res: &TraceResult, lambda: f64, penalty: f64) -> Vec<f64> {
@@ -245,50 +270,61 @@ impl Problem<'_> {
                         out.push(k * (x.0 - cu));
                         out.push(k * (x.1 - cv));
                     }
-                    out.resize(before + 2 * slots, penalty);
+                    out.resize(before + 2 * slots, if a.is_empty() { penalty } else { f64::NAN });
                 }
                 Goal::Wavefront => {
                     let map = focus_fit(h, Some(s as u32)).and_then(|fit| {
                         let reference = fit.best_point().unwrap_or([fit.centroid[0], fit.centroid[1], 0.0]);
                         wavefront_map(h, Some(s as u32), reference, lambda)
                     });
+                    let mut fill = penalty;
                     if let Some(map) = map.filter(|m| m.opd_waves.len() == a.len()) {
                         for (opd, w) in map.opd_waves.iter().zip(&wsh).take(slots) {
                             out.push((frac * w).sqrt() * opd);
                         }
+                        fill = f64::NAN;
                     }
-                    out.resize(before + slots, penalty);
+                    out.resize(before + slots, fill);
                 }
                 Goal::Intercept => {
                     // Each ray's share of the launched power.
                     let per_ray = |w: f64| {
                         if launched_power > 0.0 { w / launched_power } else { 1.0 / self.launched.iter().sum::<usize>().max(1) as f64 }
                     };
+                    let inner = (1.0 - INTERCEPT_INSET) * self.half;
+                    let lost = INTERCEPT_MARGIN - 1.0 + INTERCEPT_INSET;
                     for x in a.iter().take(slots) {
                         let outside = if self.circle {
-                            (x.0.hypot(x.1) - self.half).max(0.0)
+                            (x.0.hypot(x.1) - inner).max(0.0)
                         } else {
-                            (x.0.abs() - self.half).max(0.0).hypot((x.1.abs() - self.half).max(0.0))
+                            (x.0.abs() - inner).max(0.0).hypot((x.1.abs() - inner).max(0.0))
                         };
-                        out.push(per_ray(x.2).sqrt() * (outside / self.half).min(1.0));
+                        out.push(per_ray(x.2).sqrt() * (outside / self.half).min(lost));
                     }
                     let mean = if slots > 0 { powers[k] / slots as f64 } else { 0.0 };
-                    out.resize(before + slots, per_ray(mean).sqrt());
+                    out.resize(before + slots, per_ray(mean).sqrt() * lost);
                 }
             }
         }
+        // A lost ray of a source that has hits costs as much as an average
+        // ray: the cost is the goal² times (1 + lost/launched), so a ray
+        // vignetted at an edge weighs little, yet keeping rays pays.
+        let arrived: f64 = out.iter().filter(|r| !r.is_nan()).map(|r| r * r).sum();
+        let total: usize = self.launched.iter().sum();
+        let per_ray = (arrived / total.max(1) as f64).sqrt();
+        out.iter_mut().filter(|r| r.is_nan()).for_each(|r| *r = per_ray);
         out
     }
 
-    fn residuals_at(&self, x: &[f64]) -> DVector<f64> {
-        if let Some((cx, r)) = self.cache.borrow().as_ref() {
+    fn residuals_at(&self, x: &[f64]) -> Eval {
+        if let Some((cx, e)) = self.cache.borrow().as_ref() {
             if cx.as_slice() == x {
-                return r.clone();
+                return e.clone();
             }
         }
-        let r = self.evaluate(x);
-        *self.cache.borrow_mut() = Some((x.to_vec(), r.clone()));
-        r
+        let e = self.evaluate(x);
+        *self.cache.borrow_mut() = Some((x.to_vec(), e.clone()));
+        e
     }
 }
 
@@ -306,21 +342,35 @@ impl LeastSquaresProblem<f64, Dyn, Dyn> for Problem<'_> {
     }
 
     fn residuals(&self) -> Option<DVector<f64>> {
-        Some(self.residuals_at(self.x.as_slice()))
+        Some(self.residuals_at(self.x.as_slice()).r)
     }
 
     fn jacobian(&self) -> Option<DMatrix<f64>> {
         self.jacobians.set(self.jacobians.get() + 1);
         let n = self.x.len();
+        let here = self.residuals_at(self.x.as_slice());
         let mut j = DMatrix::zeros(self.slots(), n);
         for c in 0..n {
-            let h = FD_REL * self.x[c].abs().max(1.0);
-            let mut xp = self.x.as_slice().to_vec();
-            let mut xm = xp.clone();
-            xp[c] += h;
-            xm[c] -= h;
-            let d = (self.evaluate(&xp) - self.evaluate(&xm)) / (2.0 * h);
-            j.set_column(c, &d);
+            let mut h = FD_REL * self.x[c].abs().max(1.0);
+            // Slots hold hits in ray order: a difference is only taken
+            // between evaluations with the same hits per source.
+            let d = (0..FD_SHRINKS).find_map(|_| {
+                let at = |step: f64| {
+                    let mut x = self.x.as_slice().to_vec();
+                    x[c] += step;
+                    self.evaluate(&x)
+                };
+                let (p, m) = (at(h), at(-h));
+                let d = match (p.hits == here.hits, m.hits == here.hits) {
+                    (true, true) => Some((&p.r - &m.r) / (2.0 * h)),
+                    (true, false) => Some((&p.r - &here.r) / h),
+                    (false, true) => Some((&here.r - &m.r) / h),
+                    (false, false) => None,
+                };
+                h *= 0.1;
+                d
+            });
+            j.set_column(c, &d.unwrap_or_else(|| DVector::zeros(self.slots())));
         }
         Some(j)
     }
@@ -358,7 +408,10 @@ pub fn optimise(layout: &Layout, spec: &OptimiseSpec, progress: &mut dyn FnMut(u
     let launched = target
         .sources
         .iter()
-        .map(|&s| spec.rays.unwrap_or(layout.sources[s].rays() as usize))
+        .map(|&s| {
+            let src = &layout.sources[s];
+            Emitter::new(src, spec.rays.unwrap_or(src.rays() as usize)).len()
+        })
         .collect();
     let start_value = goal_value(layout, &target, spec.goal, spec.rays, spec.threads);
     let problem = Problem {
