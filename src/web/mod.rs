@@ -8,6 +8,7 @@ mod analysis;
 mod bench;
 mod design;
 mod session;
+mod tune;
 
 use wasm_bindgen::prelude::*;
 
