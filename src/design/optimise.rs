@@ -404,7 +404,9 @@ pub fn optimise(layout: &Layout, spec: &OptimiseSpec, progress: &mut dyn FnMut(u
             "wavefront needs point-like sources (a star or a lamp), not a solar disk; choose --source or the rms goal",
         ));
     }
-    let Element::Screen(screen) = &layout.elements[target.element] else { unreachable!("a target's element is a screen") };
+    let Element::Screen(screen) = &layout.elements[target.element] else {
+        return Err(InputError::new("screen", "is not a screen"));
+    };
     let launched = target
         .sources
         .iter()
