@@ -23,7 +23,7 @@ fn preset(name: &str) -> Layout {
 }
 
 fn spec(screen: &str) -> ToleranceSpec {
-    ToleranceSpec { screen: Some(screen.into()), rays: RAYS, trials: 40, ..Default::default() }
+    ToleranceSpec { screen: Some(screen.into()), rays: Some(RAYS), trials: 40, ..Default::default() }
 }
 
 /// RMS spot radius (µm) of the only source, traced here.
@@ -63,6 +63,26 @@ fn zero_tolerances_give_the_nominal_at_every_percentile() {
         }
         assert!(r.sensitivity.is_empty());
     }
+}
+
+#[test]
+fn nominal_is_the_layouts_own_trace() {
+    // Common practice: with no error the run measures the layout as drawn,
+    // so its nominal figures are those `catoptric trace` reports.
+    let cass = preset_path("cassegrain");
+    let (code, tol, err) = cli(&["tolerance", &cass, "--screen", "focus", "--trials", "3", "--json"]);
+    assert_eq!(code, 0, "{err}");
+    let (code, tr, err) = cli(&["trace", &cass, "--json"]);
+    assert_eq!(code, 0, "{err}");
+    let (tol, tr): (Value, Value) = (serde_json::from_str(&tol).unwrap(), serde_json::from_str(&tr).unwrap());
+    let screen = &tr["screens"][0];
+    let rms = screen["by_source"][0]["rms_radius_um"].as_f64().unwrap();
+    assert!((tol["nominal"]["rms_radius_um"].as_f64().unwrap() - rms).abs() <= 1e-12 * rms.max(1e-3));
+    let strehl = screen["by_source"][0]["strehl_estimate"].as_f64().unwrap();
+    assert!((tol["nominal"]["strehl"].as_f64().unwrap() - strehl).abs() < 1e-12);
+    let intercept = screen["flux"]["intercept"].as_f64().unwrap();
+    assert!((tol["nominal"]["intercept"].as_f64().unwrap() - intercept).abs() < 1e-12);
+    assert_eq!(tol["trials"], 3);
 }
 
 fn cli(args: &[&str]) -> (i32, String, String) {

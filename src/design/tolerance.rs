@@ -116,8 +116,10 @@ pub struct ToleranceSpec {
     pub radius_pct: f64,
     pub conic: f64,
     pub refocus: bool,
-    /// Rays per source in each trace.
-    pub rays: usize,
+    /// Rays per source in each trace; `None`: each source's own count, at
+    /// most [`DEFAULT_TOLERANCE_RAYS`] (so the nominal is the layout's own
+    /// trace when its sources launch no more than that).
+    pub rays: Option<usize>,
 }
 
 impl Default for ToleranceSpec {
@@ -133,7 +135,7 @@ impl Default for ToleranceSpec {
             radius_pct: 0.0,
             conic: 0.0,
             refocus: false,
-            rays: DEFAULT_TOLERANCE_RAYS,
+            rays: None,
         }
     }
 }
@@ -212,6 +214,7 @@ pub struct ToleranceReport {
 /// runs it in a worker with progress) or all at once ([`tolerance`]).
 #[derive(Debug, Clone)]
 pub struct TolerancePlan {
+    /// The nominal layout, its sources' ray counts set as traced.
     pub layout: Layout,
     pub spec: ToleranceSpec,
     pub target: Target,
@@ -239,17 +242,21 @@ impl TolerancePlan {
         if spec.trials == 0 || spec.trials > MAX_TRIALS {
             return Err(InputError::new("trials", format!("must be between 1 and {MAX_TRIALS} (got {})", spec.trials)));
         }
-        if spec.rays == 0 || spec.rays as u64 > crate::layout::MAX_RAYS_PER_SOURCE {
-            return Err(InputError::new(
-                "rays",
-                format!("must be between 1 and {} (got {})", crate::layout::MAX_RAYS_PER_SOURCE, spec.rays),
-            ));
+        let mut traced = layout.clone();
+        for s in &mut traced.sources {
+            let n = spec.rays.map_or(s.rays().min(DEFAULT_TOLERANCE_RAYS as u64), |n| n as u64);
+            s.set_rays(n);
         }
-        let total = spec.rays as u64 * layout.sources.len() as u64;
+        if let Some(n) = spec.rays {
+            if n == 0 || n as u64 > crate::layout::MAX_RAYS_PER_SOURCE {
+                return Err(InputError::new("rays", format!("must be between 1 and {} (got {n})", crate::layout::MAX_RAYS_PER_SOURCE)));
+            }
+        }
+        let total: u64 = traced.sources.iter().map(|s| s.rays()).sum();
         if total > crate::layout::MAX_RAYS_TOTAL {
             return Err(InputError::new(
                 "rays",
-                format!("{} rays for each of {} sources is more than {} in all", spec.rays, layout.sources.len(), crate::layout::MAX_RAYS_TOTAL),
+                format!("{total} rays in all for {} sources is more than {}", layout.sources.len(), crate::layout::MAX_RAYS_TOTAL),
             ));
         }
         check_amount("decenter_mm", spec.decenter_mm, crate::layout::MAX_LENGTH_MM)?;
@@ -264,7 +271,7 @@ impl TolerancePlan {
             .filter(|(_, e)| matches!(e, Element::Mirror(_)))
             .map(|(i, _)| i)
             .collect();
-        Ok(TolerancePlan { layout: layout.clone(), spec: spec.clone(), target, mirrors, trace_threads: None })
+        Ok(TolerancePlan { layout: traced, spec: spec.clone(), target, mirrors, trace_threads: None })
     }
 
     /// Kinds with a non-zero tolerance.
@@ -333,7 +340,7 @@ impl TolerancePlan {
 
     /// Measures a layout (with refocus when asked).
     pub fn measure(&self, layout: &Layout) -> Figures {
-        measure(layout, &self.target, Some(self.spec.rays), self.trace_threads, self.spec.refocus).0
+        measure(layout, &self.target, None, self.trace_threads, self.spec.refocus).0
     }
 
     /// The nominal figures.

@@ -6,7 +6,7 @@
 
 use crate::design::merit::Figures;
 use crate::design::optimise::{optimise, Goal, OptimiseSpec};
-use crate::design::tolerance::{TolerancePlan, ToleranceSpec, DEFAULT_TOLERANCE_RAYS};
+use crate::design::tolerance::{TolerancePlan, ToleranceSpec};
 use crate::layout::parse_layout;
 use crate::InputError;
 use serde::Deserialize;
@@ -62,7 +62,7 @@ impl ToleranceRun {
             radius_pct: f.radius_pct,
             conic: f.conic,
             refocus: f.refocus,
-            rays: f.rays.unwrap_or(DEFAULT_TOLERANCE_RAYS),
+            rays: f.rays,
         };
         let plan = TolerancePlan::new(&layout, &spec).map_err(input_error)?;
         let cases = plan.cases();

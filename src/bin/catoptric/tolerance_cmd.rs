@@ -3,7 +3,7 @@
 
 use crate::design_cmd::{input, to_json};
 use crate::Failure;
-use catoptric::design::tolerance::{tolerance, ToleranceReport, ToleranceSpec, DEFAULT_TOLERANCE_RAYS};
+use catoptric::design::tolerance::{tolerance, ToleranceReport, ToleranceSpec};
 use catoptric::error::{printable, Num};
 use clap::Args;
 use std::fmt::Write as _;
@@ -42,9 +42,10 @@ pub struct ToleranceArgs {
     /// Move the screen to best focus in every trial (as a maker refocuses).
     #[arg(long)]
     refocus: bool,
-    /// Rays per source in each trace.
-    #[arg(long, default_value_t = DEFAULT_TOLERANCE_RAYS)]
-    rays: usize,
+    /// Rays per source in each trace (default: each source's own count,
+    /// at most 20000).
+    #[arg(long)]
+    rays: Option<usize>,
     /// Threads (default: every core); the result is the same whatever the count.
     #[arg(long)]
     threads: Option<usize>,
