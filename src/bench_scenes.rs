@@ -44,6 +44,7 @@ fn mirror(id: &str, vertex_z: f64, axis_deg: f64, radius: f64, conic: f64, diame
         profile: ProfileSpec { radius: Some(radius), conic, aspheric: vec![], departure: None },
         aperture: ApertureSpec { diameter, offset: 0.0, hole },
         reflectivity: 1.0,
+        slope_error_mrad: 0.0,
     })
 }
 
@@ -62,6 +63,8 @@ fn beam(id: &str, z: f64, direction_deg: f64, diameter: f64, pattern: Pattern, s
         pattern,
         sun_half_angle_mrad: sun_mrad,
         irradiance_w_m2: 1000.0,
+        sunshape: Default::default(),
+        csr: 0.0,
     })
 }
 
@@ -75,6 +78,7 @@ fn layout(name: &str, notes: &str, elements: Vec<Element>, sources: Vec<Source>)
         max_bounces: 16,
         elements,
         sources,
+        site: None,
     }
 }
 

@@ -4,7 +4,8 @@
 //! [`scene`] (compiled geometry) → [`trace`] (sources and the tracer) →
 //! [`analysis`] (spot statistics and the focus and flux analyses).
 //! [`design`] holds the closed-form designers and mirror-testing tables,
-//! which emit layouts. The core has no web or I/O dependency; `src/web`
+//! which emit layouts; [`sun`] places the sun from a date, a time and a
+//! site and sweeps a day. The core has no web or I/O dependency; `src/web`
 //! (wasm only) and `src/bin` are thin front ends.
 
 /// Calls `body(args…)` compiled for the instruction set `kernel` names
@@ -46,6 +47,7 @@ pub mod geometry;
 pub mod layout;
 pub mod pixels;
 pub mod scene;
+pub mod sun;
 pub mod trace;
 #[cfg(target_arch = "wasm32")]
 pub mod web;

@@ -2,14 +2,19 @@
 
 use crate::geometry::{Aperture, Frame, MirrorSurface, NaturalSpline, Profile, Vec3, SELF_HIT_REL};
 use crate::layout::{Element, Form, Layout, ScreenShape, Source};
+use crate::trace::{seed_of, SlopeError};
 
 /// What an element does to a ray.
+// A scene holds a few elements, compiled once; the tracer reads the
+// mirror's fields in place, so they stay unboxed.
+#[allow(clippy::large_enum_variant)]
 #[derive(Debug, Clone)]
 pub enum Part {
     /// `no_return`: a pure conic that is flat or convex (c ≤ 0) lies wholly
     /// behind its tangent planes, so a ray leaving its face cannot meet it
     /// again before another reflection.
-    Mirror { surface: MirrorSurface, reflectivity: f64, no_return: bool },
+    /// `slope`: the surface's Gaussian slope error, when it has one.
+    Mirror { surface: MirrorSurface, reflectivity: f64, no_return: bool, slope: Option<SlopeError> },
     /// Plane detector at local z = 0 looking along local +z; `half` is half
     /// the side (square) or the radius (circle).
     Screen { half: f64, circle: bool, opaque: bool, index: usize },
@@ -93,7 +98,13 @@ impl Scene {
                     elements.push(SceneElement {
                         id: m.id.clone(),
                         frame,
-                        part: Part::Mirror { no_return: surface.profile.is_conic() && surface.profile.c <= 0.0, surface, reflectivity: m.reflectivity },
+                        part: Part::Mirror {
+                            no_return: surface.profile.is_conic() && surface.profile.c <= 0.0,
+                            surface,
+                            reflectivity: m.reflectivity,
+                            slope: (m.slope_error_mrad > 0.0)
+                                .then(|| SlopeError { sigma: m.slope_error_mrad * 1e-3, seed: seed_of(&m.id) }),
+                        },
                         bound_center,
                         bound_radius,
                     });

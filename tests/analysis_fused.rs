@@ -58,3 +58,37 @@ fn report_equals_the_separate_analyses_on_every_preset() {
     }
     assert!(checked >= 8, "only {checked} (screen, source) pairs checked");
 }
+
+/// Every figure and curve of `analyse_all` on a pool of `threads` threads.
+fn analyses_on(threads: usize, sc: &catoptric::Scene, res: &catoptric::TraceResult) -> String {
+    let pool = rayon::ThreadPoolBuilder::new().num_threads(threads).build().unwrap();
+    let a = pool.install(|| catoptric::analysis::analyse_all(sc, res));
+    // Debug output prints every f64 exactly (shortest round trip).
+    format!("{:?} {:?} {:?}", a.report, a.curves, a.flux_maps)
+}
+
+#[test]
+fn figures_over_many_chunks_are_the_same_on_any_number_of_threads() {
+    // Common practice for a parallel reduction: partial sums merged in a
+    // fixed order give bit-identical figures whatever the thread count.
+    // 150,000 rays span several of the passes' chunks.
+    for name in ["paraboloid-f5.json", "cassegrain.json"] {
+        let path = format!("{}/www/presets/{name}", env!("CARGO_MANIFEST_DIR"));
+        let sc = scene(&std::fs::read_to_string(&path).unwrap());
+        let res = trace(&sc, TraceOptions { rays: Some(150_000), ..Default::default() });
+        assert!(res.screens.iter().map(|s| s.len()).sum::<usize>() > 100_000, "{name}: too few hits to span chunks");
+        let one = analyses_on(1, &sc, &res);
+        for threads in [2, 3] {
+            assert!(one == analyses_on(threads, &sc, &res), "{name}: {threads} threads differ from one");
+        }
+        // And the many-chunk figures still equal the separate functions.
+        let report = trace_report(&sc, &res);
+        let r = &report.screens[0].by_source[0];
+        let h = &res.screens[0];
+        let st = spot_stats(h, Some(0));
+        close(Some(r.rms_radius_um), Some(st.rms_radius * 1e3), &format!("{name}: rms"));
+        let ee = encircled_energy(h, Some(0));
+        close(r.ee50_radius_um, ee.as_ref().and_then(|e| e.radius_for(0.5)).map(|x| x * 1e3), &format!("{name}: ee50"));
+        close(r.f_number, f_number(h, Some(0)), &format!("{name}: f-number"));
+    }
+}

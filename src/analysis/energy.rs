@@ -16,7 +16,9 @@
 //! as a full sort, in a few streaming passes.
 
 use super::select::Subset;
+use super::over_chunks;
 use crate::trace::ScreenHits;
+use std::ops::Range;
 
 /// Bins of the histogram that locates a fraction's radius.
 const BINS: usize = 4096;
@@ -57,11 +59,22 @@ impl EncircledEnergy {
     /// Calls `f(radius, weight)` for every hit, in hit order (one loop per
     /// case, so the uniform case reads no weights).
     #[inline(always)]
-    fn each(&self, mut f: impl FnMut(f64, f64)) {
+    fn each(&self, f: impl FnMut(f64, f64)) {
+        self.each_in(0..self.radius_mm.len(), f)
+    }
+
+    /// [`EncircledEnergy::each`] over the hits of `r`.
+    #[inline(always)]
+    fn each_in(&self, r: Range<usize>, mut f: impl FnMut(f64, f64)) {
         match self.uniform {
-            Some(w) => self.radius_mm.iter().for_each(|&r| f(r, w)),
-            None => self.radius_mm.iter().zip(&self.weight).for_each(|(&r, &w)| f(r, w)),
+            Some(w) => self.radius_mm[r].iter().for_each(|&x| f(x, w)),
+            None => self.radius_mm[r.clone()].iter().zip(&self.weight[r]).for_each(|(&x, &w)| f(x, w)),
         }
+    }
+
+    /// `f` of each chunk of the hits, in order (on the thread pool natively).
+    fn per_chunk<T: Send>(&self, f: impl Fn(Range<usize>) -> T + Sync + Send) -> Vec<T> {
+        over_chunks(self.radius_mm.len(), f)
     }
 
     #[inline]
@@ -98,15 +111,22 @@ impl EncircledEnergy {
         if bins.iter().any(|b| matches!(b, Some(Some(_)))) {
             let spans: Vec<(f64, f64)> =
                 bins.iter().map(|b| b.flatten().map_or((f64::INFINITY, f64::NEG_INFINITY), |b| (self.lo[b], self.hi[b]))).collect();
-            // One cheap range test per wanted bin.
-            for (t, &(lo, hi)) in spans.iter().enumerate() {
-                if lo <= hi {
-                    let got = &mut inside[t];
-                    self.each(|r, w| {
+            // One pass, one cheap range test per wanted bin; chunks' finds
+            // joined in order.
+            let found = self.per_chunk(|c| {
+                let mut got: Vec<Vec<(f64, f64)>> = vec![Vec::new(); spans.len()];
+                self.each_in(c, |r, w| {
+                    for (g, &(lo, hi)) in got.iter_mut().zip(&spans) {
                         if r >= lo && r <= hi {
-                            got.push((r, w));
+                            g.push((r, w));
                         }
-                    });
+                    }
+                });
+                got
+            });
+            for part in found {
+                for (all, got) in inside.iter_mut().zip(part) {
+                    all.extend(got);
                 }
             }
         }
@@ -170,22 +190,38 @@ impl EncircledEnergy {
         // weight), largest radius.
         let m = n - 1;
         let inv_step = 1.0 / step;
-        let (mut wsum, mut lo, mut wlo, mut hi) = (vec![0.0; m + 1], vec![f64::INFINITY; m + 1], vec![0.0; m + 1], vec![f64::NEG_INFINITY; m + 1]);
-        self.each(|x, w| {
-            let mut j = ((x * inv_step) as usize).min(m);
-            // Settle the bin exactly against the sample radii.
-            while j > 0 && x < radii[j] {
-                j -= 1;
-            }
-            while j < m && x >= radii[j + 1] {
-                j += 1;
-            }
-            wsum[j] += w;
-            if x < lo[j] {
-                (lo[j], wlo[j]) = (x, w);
-            }
-            hi[j] = hi[j].max(x);
+        let empty = || (vec![0.0; m + 1], vec![f64::INFINITY; m + 1], vec![0.0; m + 1], vec![f64::NEG_INFINITY; m + 1]);
+        let parts = self.per_chunk(|c| {
+            let (mut wsum, mut lo, mut wlo, mut hi) = empty();
+            self.each_in(c, |x, w| {
+                let mut j = ((x * inv_step) as usize).min(m);
+                // Settle the bin exactly against the sample radii.
+                while j > 0 && x < radii[j] {
+                    j -= 1;
+                }
+                while j < m && x >= radii[j + 1] {
+                    j += 1;
+                }
+                wsum[j] += w;
+                if x < lo[j] {
+                    (lo[j], wlo[j]) = (x, w);
+                }
+                hi[j] = hi[j].max(x);
+            });
+            (wsum, lo, wlo, hi)
         });
+        // Chunks merged in order: sums in chunk order, the first least
+        // radius kept on ties.
+        let (mut wsum, mut lo, mut wlo, mut hi) = empty();
+        for (ws, l, wl, h) in parts {
+            for j in 0..=m {
+                wsum[j] += ws[j];
+                if l[j] < lo[j] {
+                    (lo[j], wlo[j]) = (l[j], wl[j]);
+                }
+                hi[j] = hi[j].max(h[j]);
+            }
+        }
         // Normalised by the bins' own sum, so the last point is exactly 1.
         let total: f64 = wsum.iter().sum();
         let mut f = vec![0.0; n];
@@ -253,12 +289,24 @@ impl EncircledEnergy {
             lo: vec![f64::INFINITY; BINS],
             hi: vec![f64::NEG_INFINITY; BINS],
         };
+        // Per chunk (weight, least, largest) per bin, merged in chunk order.
+        let parts = e.per_chunk(|c| {
+            let (mut ws, mut lo, mut hi) = (vec![0.0; BINS], vec![f64::INFINITY; BINS], vec![f64::NEG_INFINITY; BINS]);
+            e.each_in(c, |r, w| {
+                let b = e.bin(r);
+                ws[b] += w;
+                lo[b] = lo[b].min(r);
+                hi[b] = hi[b].max(r);
+            });
+            (ws, lo, hi)
+        });
         let mut wsum = vec![0.0; BINS];
-        for (&r, &w) in e.radius_mm.iter().zip(weight) {
-            let b = e.bin(r);
-            wsum[b] += w;
-            e.lo[b] = e.lo[b].min(r);
-            e.hi[b] = e.hi[b].max(r);
+        for (ws, lo, hi) in parts {
+            for b in 0..BINS {
+                wsum[b] += ws[b];
+                e.lo[b] = e.lo[b].min(lo[b]);
+                e.hi[b] = e.hi[b].max(hi[b]);
+            }
         }
         let mut acc = 0.0;
         for (b, w) in wsum.iter().enumerate() {

@@ -18,6 +18,8 @@ mod wavefront;
 /// Runs `a` and `b` at once on the thread pool natively (each one is
 /// sequential inside, so the answers do not depend on the threads), one
 /// after the other in a wasm module.
+use std::ops::Range;
+
 pub(crate) fn join<A: Send, B: Send>(a: impl FnOnce() -> A + Send, b: impl FnOnce() -> B + Send) -> (A, B) {
     #[cfg(not(target_arch = "wasm32"))]
     {
@@ -28,6 +30,40 @@ pub(crate) fn join<A: Send, B: Send>(a: impl FnOnce() -> A + Send, b: impl FnOnc
         (a(), b())
     }
 }
+
+/// Hits per chunk of a pass. Fixed, so no sum depends on how many threads
+/// run the chunks: chunk partials are added in chunk order.
+pub(crate) const CHUNK: usize = 1 << 15;
+
+/// `f` of each chunk of `0..n`, in chunk order; natively the chunks run on
+/// the thread pool.
+pub(crate) fn over_chunks<T: Send>(n: usize, f: impl Fn(Range<usize>) -> T + Sync + Send) -> Vec<T> {
+    let ranges: Vec<Range<usize>> = (0..n.div_ceil(CHUNK)).map(|c| c * CHUNK..((c + 1) * CHUNK).min(n)).collect();
+    #[cfg(not(target_arch = "wasm32"))]
+    {
+        use rayon::prelude::*;
+        ranges.into_par_iter().map(f).collect()
+    }
+    #[cfg(target_arch = "wasm32")]
+    {
+        ranges.into_iter().map(f).collect()
+    }
+}
+
+/// [`over_chunks`] with each chunk's part of `out` to write.
+pub(crate) fn over_chunks_mut<T: Send>(out: &mut [f64], f: impl Fn(Range<usize>, &mut [f64]) -> T + Sync + Send) -> Vec<T> {
+    let at = |c: usize, o: &mut [f64]| f(c * CHUNK..c * CHUNK + o.len(), o);
+    #[cfg(not(target_arch = "wasm32"))]
+    {
+        use rayon::prelude::*;
+        out.par_chunks_mut(CHUNK).enumerate().map(|(c, o)| at(c, o)).collect()
+    }
+    #[cfg(target_arch = "wasm32")]
+    {
+        out.chunks_mut(CHUNK).enumerate().map(|(c, o)| at(c, o)).collect()
+    }
+}
+
 
 pub use caustic::{caustic, caustic_raster, MAX_RASTER_SIDE};
 pub use cone::{airy_radius, cone_half_angle, f_number, mean_direction, AIRY_FACTOR};

@@ -90,13 +90,14 @@ pub(crate) struct Fit<'s, 'a> {
 }
 
 /// The picked hits' columns as plain slices.
+#[derive(Clone, Copy)]
 pub(crate) struct Cols<'s> {
-    u: &'s [f64],
-    v: &'s [f64],
-    du: &'s [f64],
-    dv: &'s [f64],
-    dw: &'s [f64],
-    opl: &'s [f64],
+    pub u: &'s [f64],
+    pub v: &'s [f64],
+    pub du: &'s [f64],
+    pub dv: &'s [f64],
+    pub dw: &'s [f64],
+    pub opl: &'s [f64],
 }
 
 impl Fit<'_, '_> {

@@ -215,6 +215,7 @@ pub fn measured_mirror(id: &str, radius: f64, conic: f64, d: f64, departure: &[[
         profile: ProfileSpec { radius: Some(radius), conic, aspheric: Vec::new(), departure: Some(departure.to_vec()) },
         aperture: ApertureSpec { diameter: d, offset: 0.0, hole: 0.0 },
         reflectivity: 1.0,
+        slope_error_mrad: 0.0,
     })
 }
 

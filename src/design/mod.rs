@@ -10,6 +10,10 @@
 //!   for a centre-of-curvature test, glass to remove per zone.
 //! * [`measured`]: a mirror built from measured readings or a departure
 //!   table, and which zones need work.
+//! * [`ronchi`] and [`knife`]: the Ronchi and knife-edge tests simulated
+//!   on the [`test_stand`] (exact 3D trace; band edges, null zone, lit
+//!   fraction, pictures), for the target or a measured mirror.
+//! * [`mask`]: the zonal mask template as SVG at 1:1 scale.
 //! * [`tolerance`]: a seeded Monte Carlo of making and alignment errors
 //!   and a sensitivity table; [`optimise`]: damped least squares over
 //!   layout fields named by path; [`merit`]: the figures both measure.
@@ -19,10 +23,14 @@
 //! translate them to their own spelling (`--back-focus`).
 
 pub mod compare;
+pub mod knife;
+pub mod mask;
 pub mod measured;
 pub mod merit;
 pub mod optimise;
 pub mod off_axis;
+pub mod ronchi;
+pub mod test_stand;
 pub mod tolerance;
 pub mod two_mirror;
 pub mod zones;
@@ -35,7 +43,11 @@ pub use measured::{
     departures_needing_work, measured_layout, measured_mirror, parse_departure_csv, profile_from_readings, zones_needing_work, DepartureWork, ZoneVerdict,
     ZoneWork,
 };
+pub use knife::{knife_picture, knife_view, surface_readings, KnifeSpec, KnifeView};
+pub use mask::zonal_mask_svg;
 pub use off_axis::{design_off_axis, Feed, OffAxisDesign, OffAxisSpec};
+pub use ronchi::{ronchi_picture, ronchigram, RonchiSpec, Ronchigram};
+pub use test_stand::MirrorPicture;
 pub use two_mirror::{design_two_mirror, two_mirror_conics, TwoMirrorDesign, TwoMirrorKind, TwoMirrorSpec};
 pub use zones::{
     fixed_source_reading, moving_source_reading, zone_edges, zone_table, TestSource, Zone, ZoneTable,
@@ -144,6 +156,7 @@ pub(crate) fn new_layout(name: String, notes: String, elements: Vec<Element>, so
         max_bounces: 16,
         elements,
         sources,
+        site: None,
     }
 }
 
@@ -179,6 +192,8 @@ pub(crate) fn star_beam(id: &str, center: [f64; 2], direction_deg: f64, diameter
         pattern: Pattern::Hex,
         sun_half_angle_mrad: 0.0,
         irradiance_w_m2: 1000.0,
+        sunshape: Default::default(),
+        csr: 0.0,
     })
 }
 

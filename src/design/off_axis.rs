@@ -111,6 +111,7 @@ pub fn design_off_axis(spec: &OffAxisSpec) -> Result<OffAxisDesign, InputError> 
         profile: ProfileSpec { radius: Some(r), conic: -1.0, aspheric: Vec::new(), departure: None },
         aperture: ApertureSpec { diameter: d, offset: h, hole: 0.0 },
         reflectivity: 1.0,
+        slope_error_mrad: 0.0,
     });
     let screen = Element::Screen(Screen {
         id: "focus".to_string(),

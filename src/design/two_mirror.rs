@@ -306,6 +306,7 @@ fn build_layout(
             profile: ProfileSpec { radius: Some(radius), conic, aspheric: Vec::new(), departure: None },
             aperture: ApertureSpec { diameter, offset: 0.0, hole },
             reflectivity: 1.0,
+            slope_error_mrad: 0.0,
         })
     };
     let tan_t = field.to_radians().tan();

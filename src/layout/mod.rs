@@ -17,6 +17,7 @@ pub use parse::parse_layout;
 pub use path::{field_mut, get_field, set_field};
 pub use text::{decode_layout_bytes, MAX_LAYOUT_BYTES};
 pub use validate::{
+    MAX_SLOPE_ERROR_MRAD, MAX_CSR,
     validate, DOMAIN_MARGIN, MAX_BOUNCES_CAP, MAX_ELEMENTS, MAX_LENGTH_MM, MAX_NAME_LEN, MAX_NOTES_BYTES,
     MAX_RAYS_PER_SOURCE, MAX_RAYS_TOTAL, MIN_LENGTH_MM,
 };
@@ -59,6 +60,47 @@ pub struct Layout {
     pub max_bounces: u32,
     pub elements: Vec<Element>,
     pub sources: Vec<Source>,
+    /// Where the layout stands on the Earth and which way it faces (for
+    /// the sun through the day); absent for a bench or a sky layout.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub site: Option<Site>,
+}
+
+/// The place of a layout: the layout plane is vertical, +y up, +z toward
+/// compass bearing `z_bearing_deg` (clockwise from north), +x = y × z
+/// toward that bearing − 90° (see docs/FORMATS.md §2).
+#[derive(Debug, Clone, Copy, PartialEq, Serialize, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct Site {
+    /// Geodetic latitude, degrees north (−90 … 90).
+    pub latitude_deg: f64,
+    /// Longitude, degrees east (−180 … 180).
+    pub longitude_deg: f64,
+    /// Compass bearing of the layout's +z, degrees clockwise from north.
+    #[serde(default, skip_serializing_if = "is_zero")]
+    pub z_bearing_deg: f64,
+    /// Height above sea level, m.
+    #[serde(default, skip_serializing_if = "is_zero")]
+    pub elevation_m: f64,
+}
+
+/// The sun's radiance across its disk (a sun beam only).
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Default, Serialize, Deserialize)]
+#[serde(rename_all = "lowercase")]
+pub enum Sunshape {
+    /// Uniform disk of the beam's half-angle.
+    #[default]
+    Disk,
+    /// Limb-darkened disk of the beam's half-angle.
+    Limb,
+    /// Disk plus circumsolar aureole (Buie et al. 2003), `csr` of the total.
+    Csr,
+}
+
+impl Sunshape {
+    fn is_disk(&self) -> bool {
+        *self == Sunshape::Disk
+    }
 }
 
 /// Something rays can meet.
@@ -103,6 +145,10 @@ pub struct Mirror {
     pub aperture: ApertureSpec,
     #[serde(default = "one", skip_serializing_if = "is_one")]
     pub reflectivity: f64,
+    /// σ of the Gaussian slope error of the surface, per axis of the
+    /// tangent plane, mrad (0: a perfect surface).
+    #[serde(default, skip_serializing_if = "is_zero")]
+    pub slope_error_mrad: f64,
 }
 
 /// Sag description (ISO 10110-12 form plus a departure spline).
@@ -213,6 +259,12 @@ pub struct Beam {
     pub sun_half_angle_mrad: f64,
     #[serde(default = "default_irradiance")]
     pub irradiance_w_m2: f64,
+    /// Radiance profile of a sun beam (`sun_half_angle_mrad` > 0).
+    #[serde(default, skip_serializing_if = "Sunshape::is_disk")]
+    pub sunshape: Sunshape,
+    /// Circumsolar ratio (circumsolar over total flux) of a `csr` sun.
+    #[serde(default, skip_serializing_if = "is_zero")]
+    pub csr: f64,
 }
 
 /// Point lamp radiating uniformly (per solid angle) into a cone.

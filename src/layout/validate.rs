@@ -34,6 +34,13 @@ pub const MAX_ID_LEN: usize = 64;
 /// Largest fraction of a conic's domain an aperture may use: the sag
 /// formula's square root must stay clear of zero, (1+K)c²ρ² ≤ this.
 pub const DOMAIN_MARGIN: f64 = 1.0 - 1e-9;
+/// Largest mirror slope error σ, mrad: 100 mrad (about 6°) is far past
+/// any usable surface; the perturbation model (small tilts of the normal)
+/// means nothing beyond it.
+pub const MAX_SLOPE_ERROR_MRAD: f64 = 100.0;
+/// Largest circumsolar ratio: the Buie et al. (2003) profiles were fitted
+/// to measured skies up to about this.
+pub const MAX_CSR: f64 = 0.4;
 
 type R = Result<(), InputError>;
 
@@ -277,6 +284,13 @@ pub fn validate(l: &Layout) -> R {
                     departure_part(&p, knots, m.form, rho_max)?;
                 }
                 in_range(&format!("{p}.reflectivity"), m.reflectivity, 0.0, 1.0, "between 0 and 1")?;
+                in_range(
+                    &format!("{p}.slope_error_mrad"),
+                    m.slope_error_mrad,
+                    0.0,
+                    MAX_SLOPE_ERROR_MRAD,
+                    &format!("between 0 and {MAX_SLOPE_ERROR_MRAD} mrad"),
+                )?;
             }
             Element::Screen(s) => {
                 point(&format!("{p}.center"), s.center)?;
@@ -300,6 +314,7 @@ pub fn validate(l: &Layout) -> R {
                 rays(&format!("{p}.rays"), b.rays)?;
                 in_range(&format!("{p}.sun_half_angle_mrad"), b.sun_half_angle_mrad, 0.0, 200.0, "between 0 and 200 mrad (4.65 is the mean sun)")?;
                 in_range(&format!("{p}.irradiance_w_m2"), b.irradiance_w_m2, 0.0, 1.0e9, "between 0 and 1e9 W/m²")?;
+                sun_part(&p, b)?;
             }
             Source::Point(q) => {
                 point(&format!("{p}.center"), q.center)?;
@@ -316,5 +331,32 @@ pub fn validate(l: &Layout) -> R {
     if total > MAX_RAYS_TOTAL {
         return err("sources", format!("launch {total} rays in all; at most {MAX_RAYS_TOTAL} are allowed"));
     }
+    if let Some(site) = &l.site {
+        site_part(site)?;
+    }
+    Ok(())
+}
+
+/// A sun beam's shape: `limb` and `csr` need a sun (half-angle > 0);
+/// `csr` is 0 … [`MAX_CSR`] and only for the `csr` shape.
+fn sun_part(p: &str, b: &super::Beam) -> R {
+    use super::Sunshape;
+    if b.sunshape != Sunshape::Disk && b.sun_half_angle_mrad <= 0.0 {
+        return err(format!("{p}.sunshape"), "needs a sun: set sun_half_angle_mrad above 0 (4.65 is the mean sun)");
+    }
+    in_range(&format!("{p}.csr"), b.csr, 0.0, MAX_CSR, &format!("between 0 and {MAX_CSR}"))?;
+    if b.csr != 0.0 && b.sunshape != Sunshape::Csr {
+        return err(format!("{p}.csr"), "only allowed when sunshape is \"csr\"");
+    }
+    Ok(())
+}
+
+/// The site: latitude ±90°, longitude ±180°, a finite bearing, an
+/// elevation between the Dead Sea shore and well above Everest.
+fn site_part(s: &super::Site) -> R {
+    in_range("site.latitude_deg", s.latitude_deg, -90.0, 90.0, "between -90 and 90 degrees")?;
+    in_range("site.longitude_deg", s.longitude_deg, -180.0, 180.0, "between -180 and 180 degrees")?;
+    in_range("site.z_bearing_deg", s.z_bearing_deg, -360.0, 360.0, "between -360 and 360 degrees")?;
+    in_range("site.elevation_m", s.elevation_m, -500.0, 10_000.0, "between -500 and 10000 m")?;
     Ok(())
 }

@@ -4,6 +4,7 @@
 //! decided once per element per batch, never per ray.
 
 use crate::geometry::{Aperture, MirrorSurface};
+use super::slope::SlopeError;
 use crate::scene::{Part, Scene};
 
 /// A layout-plane frame: origin (0, y, z), local z at angle θ from +z
@@ -120,6 +121,9 @@ pub(crate) struct Rec {
     /// face can meet it again on its next leg (see `Part::Mirror`).
     pub reflectivity: f64,
     pub no_return: bool,
+    /// Mirrors with a slope error: applied after the reflection, in a
+    /// step of its own (`kernel::slope_pass`).
+    pub slope: Option<SlopeError>,
 }
 
 /// The flattened scene.
@@ -136,10 +140,12 @@ impl Compiled {
             .map(|e| {
                 let f = &e.frame;
                 let frame = PlaneFrame { oy: f.origin.y, oz: f.origin.z, c: f.ez.z, s: f.ez.y };
-                let (kind, reflectivity, no_return) = match &e.part {
-                    Part::Mirror { surface, reflectivity, no_return } => (mirror_kind(surface), *reflectivity, *no_return),
+                let (kind, reflectivity, no_return, slope) = match &e.part {
+                    Part::Mirror { surface, reflectivity, no_return, slope } => {
+                        (mirror_kind(surface), *reflectivity, *no_return, *slope)
+                    }
                     Part::Screen { half, circle, opaque, index } => {
-                        (Kind::Screen { half: *half, circle: *circle, opaque: *opaque, screen: *index }, 1.0, false)
+                        (Kind::Screen { half: *half, circle: *circle, opaque: *opaque, screen: *index }, 1.0, false, None)
                     }
                 };
                 Rec {
@@ -151,6 +157,7 @@ impl Compiled {
                     br: e.bound_radius,
                     reflectivity,
                     no_return,
+                    slope,
                 }
             })
             .collect();

@@ -53,7 +53,7 @@ pub fn trace_fan(scene: &Scene, per_source: usize, extend: Option<f64>) -> Fan {
         for j in 0..per_source {
             let ray = em.fan_ray(j, per_source);
             let mut obs = Collect { fan: &mut fan, src: si as u16, ray: j as u32 };
-            let (fate, last) = propagate(scene, ray, si as u32, &mut scratch, &mut hits, &mut obs);
+            let (fate, last) = propagate(scene, ray, si as u32, j as u64, &mut scratch, &mut hits, &mut obs);
             if fate == Fate::Escaped {
                 let b = last.origin + last.dir * ext;
                 obs.push(&last.origin, &b, true);

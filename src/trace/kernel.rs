@@ -20,6 +20,7 @@
 #![allow(clippy::neg_cmp_op_on_partial_ord)]
 
 use super::compiled::{Compiled, ConicRec, Kind, Rec};
+use super::slope::SlopeError;
 use super::source::Emitter;
 use super::tracer::{ScreenHits, ScreenSet};
 use crate::geometry::Vec3;
@@ -86,6 +87,10 @@ pub(crate) struct Batch {
     /// Scratch for reordering hits.
     order: Vec<u32>,
     scratch: Vec<f64>,
+    /// Number (within its source) of the batch's first ray, and the
+    /// round: with `ray`, the counters of the slope-error draws.
+    base: u64,
+    round: u32,
 }
 
 impl Batch {
@@ -117,6 +122,8 @@ impl Batch {
             recorded: Vec::new(),
             order: Vec::new(),
             scratch: Vec::new(),
+            base: 0,
+            round: 0,
         }
     }
 }
@@ -227,6 +234,7 @@ pub(crate) fn trace_range(
         batch.bounces[..n].fill(0);
         batch.skip[..n].fill(NONE);
         batch.seen[..n].fill(ScreenSet::default());
+        batch.base = start as u64;
         for (r, o) in batch.recorded.iter_mut().zip(out.iter()) {
             r.start = o.len();
             r.rays.clear();
@@ -299,10 +307,11 @@ fn run_batch(
 ) {
     let max_events = (scene.max_bounces as usize + 1) * (scene.elements.len() + 1);
     let eps = scene.t_eps;
-    for _ in 0..max_events {
+    for round in 0..max_events {
         if n == 0 {
             return;
         }
+        b.round = round as u32;
         b.t[..n].fill(f64::INFINITY);
         b.best[..n].fill(NONE);
         b.touched.fill(false);
@@ -499,6 +508,9 @@ fn shade(
             Kind::Conic(ref cr) => reflect_conic(kernel, rec, cr, k as u32, scene.max_bounces, b, n),
             Kind::General => reflect_general(scene, rec, k, b, n),
         }
+        if let Some(s) = &rec.slope {
+            slope_pass(scene, s, k, b, n, src);
+        }
     }
     // Pack the live rays to the front, in order.
     let live = b.alive[..n].iter().map(|&a| a as usize).sum::<usize>();
@@ -685,6 +697,24 @@ fn reflect_general(scene: &Scene, rec: &Rec, k: usize, b: &mut Batch, n: usize) 
         b.w[i] *= rec.reflectivity;
         b.skip[i] = if rec.no_return { k as u32 } else { NONE };
         b.alive[i] = !(dn >= 0.0) && b.bounces[i] <= scene.max_bounces && !(b.w[i] <= 0.0);
+    }
+}
+
+/// Slope error of mirror `k`: every ray that reflected off it and lives
+/// on is re-reflected about the tilted normal (`SlopeError::perturb`, the
+/// reference tracer's own step, with the same counters). Runs only for
+/// mirrors that have a slope error.
+fn slope_pass(scene: &Scene, s: &SlopeError, k: usize, b: &mut Batch, n: usize, src: u32) {
+    let e = &scene.elements[k];
+    let Part::Mirror { surface, .. } = &e.part else { return };
+    for i in 0..n {
+        if b.best[i] != k as u32 || !b.alive[i] {
+            continue;
+        }
+        let normal = surface.normal_at(&Vec3::new(b.hx[i], b.hy[i], b.hz[i]));
+        let out = Vec3::new(b.dx[i], b.dy[i], b.dz[i]);
+        let d = s.perturb(&e.frame, &normal, &out, src, b.base + b.ray[i] as u64, b.round);
+        (b.dx[i], b.dy[i], b.dz[i]) = (d.x, d.y, d.z);
     }
 }
 

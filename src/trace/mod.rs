@@ -6,11 +6,14 @@ mod fan;
 mod kernel;
 mod run;
 mod sampling;
+mod slope;
 mod source;
+pub mod sunshape;
 mod tracer;
 
 pub use fan::{trace_fan, Fan};
 pub use sampling::{disk_points, halton, seed_of, DiskPoints};
+pub use slope::{gauss_pair, SlopeError};
 pub use source::{Emitter, Ray};
 pub use budget::{work_estimate, Limit, MAX_RECORDED_HITS, WORK_BUDGET};
 pub use kernel::{Kernel, LANES};

@@ -126,6 +126,12 @@ pub fn sun_points(n: usize, seed: u64) -> Arc<DiskPoints> {
     })
 }
 
+/// A point set of another kind (a shaped sun's directions), cached like
+/// [`disk_points`] under `set`, `n` and `seed`.
+pub(crate) fn cached_points(set: Set, n: usize, seed: u64, lay: impl FnOnce() -> DiskPoints) -> Arc<DiskPoints> {
+    cached((set, n, seed), lay)
+}
+
 fn cached(key: Key, lay: impl FnOnce() -> DiskPoints) -> Arc<DiskPoints> {
     let cache = CACHE.get_or_init(|| Mutex::new(Vec::new()));
     if let Ok(c) = cache.lock() {
@@ -145,11 +151,13 @@ fn cached(key: Key, lay: impl FnOnce() -> DiskPoints) -> Arc<DiskPoints> {
 
 /// Point sets kept by [`disk_points`].
 const CACHE_SETS: usize = 8;
-/// Which point set: a source's disk, or a sun's directions.
+/// Which point set: a source's disk, or a sun's directions (uniform, or
+/// shaped: sunshape, csr and half-angle bits).
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
-enum Set {
+pub(crate) enum Set {
     Disk(Pattern),
     Sun,
+    ShapedSun(u8, u64, u64),
 }
 type Key = (Set, usize, u64);
 type Cache = Mutex<Vec<(Key, Arc<DiskPoints>)>>;

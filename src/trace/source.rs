@@ -1,6 +1,7 @@
 //! Turning a layout source into rays.
 
-use super::sampling::{disk_points, seed_of, sun_points, DiskPoints};
+use super::sampling::{disk_points, seed_of, DiskPoints};
+use super::sunshape::sun_directions;
 use crate::geometry::{Frame, Vec3};
 use crate::layout::Source;
 
@@ -69,7 +70,15 @@ impl Emitter {
                 let axis = frame.ez * c + frame.ex * s;
                 let e1 = frame.ex * c - frame.ez * s;
                 let points = disk_points(b.pattern, rays, seed_of(&b.id));
-                let sun = (b.sun_half_angle_mrad > 0.0).then(|| sun_points(points.len(), seed_of(&b.id)));
+                // An extended sun: its direction samples and the half-angle
+                // of the cap they fill (the aureole's edge for `csr`).
+                let (sun, sun_half) = if b.sun_half_angle_mrad > 0.0 {
+                    let (pts, outer) =
+                        sun_directions(b.sunshape, b.csr, b.sun_half_angle_mrad * 1e-3, points.len(), seed_of(&b.id));
+                    (Some(pts), outer)
+                } else {
+                    (None, 0.0)
+                };
                 let radius = 0.5 * b.diameter;
                 let area_m2 = std::f64::consts::PI * radius * radius * 1e-6;
                 let power_w = b.irradiance_w_m2 * area_m2;
@@ -81,7 +90,7 @@ impl Emitter {
                     ray_weight: power_w / points.len() as f64,
                     power_w,
                     points,
-                    kind: Kind::Beam { radius, sun_half: b.sun_half_angle_mrad * 1e-3 },
+                    kind: Kind::Beam { radius, sun_half },
                     sun,
                 }
             }

@@ -235,12 +235,15 @@ fn nearest(scene: &Scene, o: &Vec3, d: &Vec3, skip: usize) -> Option<Nearest> {
     best
 }
 
-/// Follows one ray through the scene, recording screen hits.
+/// Follows ray number `id` of source `src` through the scene, recording
+/// screen hits.
 #[inline]
+#[allow(clippy::too_many_arguments)]
 pub(crate) fn propagate<O: Observer>(
     scene: &Scene,
     mut ray: Ray,
     src: u32,
+    id: u64,
     screens: &mut [ScreenHits],
     hits: &mut u64,
     obs: &mut O,
@@ -251,7 +254,7 @@ pub(crate) fn propagate<O: Observer>(
     // Each event is a reflection or a screen crossing; a ray cannot cross
     // more screens than exist between two reflections.
     let max_events = (scene.max_bounces as usize + 1) * (scene.elements.len() + 1);
-    for _ in 0..max_events {
+    for event in 0..max_events {
         let Some(n) = nearest(scene, &ray.origin, &ray.dir, skip) else {
             return (Fate::Escaped, ray);
         };
@@ -264,7 +267,7 @@ pub(crate) fn propagate<O: Observer>(
         ray.origin = p;
         ray.opl += n.t;
         match &e.part {
-            Part::Mirror { reflectivity, no_return, .. } => {
+            Part::Mirror { reflectivity, no_return, slope, .. } => {
                 let ld = e.frame.to_local_dir(&ray.dir);
                 if ld.dot(&n.normal) >= 0.0 {
                     return (Fate::Absorbed, ray); // back face
@@ -277,6 +280,9 @@ pub(crate) fn propagate<O: Observer>(
                 let r = reflect(&ld, &n.normal);
                 // Renormalise: keeps |dir| = 1 over many bounces.
                 ray.dir = unit(&e.frame.to_world_dir(&r));
+                if let Some(s) = slope {
+                    ray.dir = s.perturb(&e.frame, &n.normal, &ray.dir, src, id, event as u32);
+                }
                 skip = if *no_return { n.index } else { usize::MAX };
             }
             Part::Screen { opaque, index, .. } => {
@@ -307,7 +313,7 @@ pub fn trace_reference(scene: &Scene, opts: TraceOptions) -> TraceResult {
         res.launched_by_source.push(em.len() as u64);
         res.power_by_source.push(em.power_w);
         for i in 0..em.len() {
-            match propagate(scene, em.ray(i), si as u32, &mut res.screens, &mut res.surface_hits, &mut Quiet).0 {
+            match propagate(scene, em.ray(i), si as u32, i as u64, &mut res.screens, &mut res.surface_hits, &mut Quiet).0 {
                 Fate::Escaped => res.rays_escaped += 1,
                 Fate::Absorbed => res.rays_absorbed += 1,
             }

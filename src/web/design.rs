@@ -12,8 +12,9 @@
 
 use crate::design::{
     self, compare::parse_conics, compare_conics, departures_needing_work, design_off_axis, design_two_mirror,
-    measured_layout, parse_departure_csv, profile_from_readings, zone_table, zones_needing_work, OffAxisSpec,
-    TestSource, TwoMirrorKind, TwoMirrorSpec,
+    knife_picture, knife_view, measured_layout, parse_departure_csv, profile_from_readings, ronchi_picture, ronchigram,
+    surface_readings, zonal_mask_svg, zone_table, zones_needing_work, KnifeSpec, MirrorPicture, OffAxisSpec, RonchiSpec, TestSource,
+    TwoMirrorKind, TwoMirrorSpec,
 };
 use crate::geometry::Profile;
 use crate::InputError;
@@ -175,4 +176,111 @@ pub fn two_mirror_json(
 pub fn off_axis_json(parent_focal: f64, offset: f64, diameter: f64) -> Result<String, JsError> {
     let spec = OffAxisSpec { parent_focal, offset, diameter };
     to_json(&design_off_axis(&spec).map_err(input_error)?)
+}
+
+/// Departure knots from a flat `[ρ, Δz, ρ, Δz, …]` (mm); empty is the
+/// target mirror.
+fn knots(departure: &[f64]) -> Result<Option<Vec<[f64; 2]>>, JsError> {
+    if departure.is_empty() {
+        return Ok(None);
+    }
+    if departure.len() % 2 != 0 {
+        return Err(JsError::new("measured: give pairs of radius and departure"));
+    }
+    Ok(Some(departure.chunks_exact(2).map(|p| [p[0], p[1]]).collect()))
+}
+
+/// Picture side from a form number.
+fn picture_size(size: f64) -> Result<usize, JsError> {
+    count("size", size, design::test_stand::MAX_PICTURE_SIZE)
+}
+
+/// A simulated test's figures and picture, made in one call: `json()` is
+/// the JSON of `catoptric ronchi` or `catoptric knife`, `rgba()` the
+/// picture's pixels, `size()` pixels a side. The page frees it once read.
+#[wasm_bindgen]
+pub struct TestPicture {
+    json: String,
+    rgba: Vec<u8>,
+    size: usize,
+}
+
+#[wasm_bindgen]
+impl TestPicture {
+    pub fn json(&self) -> String {
+        self.json.clone()
+    }
+    pub fn rgba(&self) -> Vec<u8> {
+        self.rgba.clone()
+    }
+    pub fn size(&self) -> usize {
+        self.size
+    }
+}
+
+/// Figures and picture of one simulated test.
+fn test_picture<T: Serialize>(
+    figures: Result<T, InputError>,
+    picture: impl FnOnce(usize) -> Result<MirrorPicture, InputError>,
+    size: f64,
+) -> Result<TestPicture, JsError> {
+    let size = picture_size(size)?;
+    let json = to_json(&figures.map_err(input_error)?)?;
+    let rgba = picture(size).map_err(input_error)?.rgba();
+    Ok(TestPicture { json, rgba, size })
+}
+
+/// The simulated Ronchi test: figures and the Ronchigram, `size` pixels a
+/// side. `departure` is flat `[ρ, Δz, …]` in mm (empty for the target).
+#[wasm_bindgen]
+#[allow(clippy::too_many_arguments)]
+pub fn ronchi_test(
+    radius: f64,
+    conic: f64,
+    diameter: f64,
+    lines_per_mm: f64,
+    offset_mm: f64,
+    source: &str,
+    departure: &[f64],
+    size: f64,
+) -> Result<TestPicture, JsError> {
+    let source = TestSource::parse(source).map_err(input_error)?;
+    let measured = knots(departure)?;
+    let spec = RonchiSpec { radius, conic, diameter, lines_per_mm, offset_mm, source, measured: measured.as_deref() };
+    test_picture(ronchigram(&spec), |n| ronchi_picture(&spec, n), size)
+}
+
+/// The simulated knife-edge test: figures and the picture (arguments as
+/// [`ronchi_test`], the knife at `knife_mm` with its edge at `knife_x_mm`).
+#[wasm_bindgen]
+#[allow(clippy::too_many_arguments)]
+pub fn knife_test(
+    radius: f64,
+    conic: f64,
+    diameter: f64,
+    knife_mm: f64,
+    knife_x_mm: f64,
+    source: &str,
+    departure: &[f64],
+    size: f64,
+) -> Result<TestPicture, JsError> {
+    let source = TestSource::parse(source).map_err(input_error)?;
+    let measured = knots(departure)?;
+    let spec = KnifeSpec { radius, conic, diameter, knife_mm, knife_x_mm, source, measured: measured.as_deref() };
+    test_picture(knife_view(&spec), |n| knife_picture(&spec, n), size)
+}
+
+/// Moving-source readings at radii `rs` of the target (empty `departure`)
+/// or the measured mirror, mm from the vertex centre of curvature.
+#[wasm_bindgen]
+pub fn surface_readings_mm(radius: f64, conic: f64, diameter: f64, departure: &[f64], rs: &[f64]) -> Result<Vec<f64>, JsError> {
+    let measured = knots(departure)?;
+    surface_readings(radius, conic, diameter, measured.as_deref(), rs).map_err(input_error)
+}
+
+/// The zonal mask template, SVG at 1:1 scale in mm.
+#[wasm_bindgen]
+pub fn zonal_mask_svg_text(diameter: f64, zones: f64) -> Result<String, JsError> {
+    let n = count("zones", zones, design::zones::MAX_ZONES)?;
+    zonal_mask_svg(diameter, n).map_err(input_error)
 }

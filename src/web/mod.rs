@@ -2,12 +2,13 @@
 //!
 //! `session` owns the page's working layout and hands results to JS as
 //! typed arrays over wasm memory; `bench` runs the throughput benchmark
-//! inside the browser or Node.
+//! inside the browser or Node; `sun` sweeps a day for the day view.
 
 mod analysis;
 mod bench;
 mod design;
 mod session;
+mod sun;
 mod tune;
 
 use wasm_bindgen::prelude::*;

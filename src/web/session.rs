@@ -108,6 +108,7 @@ fn empty_layout() -> Layout {
         max_bounces: 16,
         elements: Vec::new(),
         sources: Vec::new(),
+        site: None,
     }
 }
 

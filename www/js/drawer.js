@@ -13,11 +13,12 @@ import { DesignersView } from './views/designers.js';
 import { FocusView } from './views/focus.js';
 import { EnergyView } from './views/energy.js';
 import { FluxView } from './views/flux.js';
+import { DayView } from './views/day.js';
 import { ToleranceView } from './views/tolerance.js';
 import { prepareCanvas } from './views/plot.js';
 
 /** Tab order; views and planned tabs are sorted into it. */
-const TAB_ORDER = ['spot', 'focus', 'energy', 'flux', 'conics', 'testing', 'designers', 'tolerance'];
+const TAB_ORDER = ['spot', 'focus', 'energy', 'flux', 'day', 'conics', 'testing', 'designers', 'tolerance'];
 
 /** Flattens nested report objects into dotted keys: flux.peak_w_m2. */
 function flatten(obj, prefix = '', out = {}) {
@@ -316,7 +317,7 @@ export class Drawer {
     this.body = body;
     this.app = app;
     this.views = [
-      new SpotView(), new FocusView(), new EnergyView(), new FluxView(),
+      new SpotView(), new FocusView(), new EnergyView(), new FluxView(), new DayView(),
       new ConicsView(), new TestingView(), new DesignersView(), new ToleranceView(),
     ];
     this.panels = new Map();

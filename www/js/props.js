@@ -6,6 +6,7 @@
 
 import { fmtInt, fmtNum, withUnit } from './format.js';
 import { solveGroup, varyToggle } from './solve.js';
+import { dayDate } from './views/day.js';
 
 /** Dotted field path as the session reports it: elements[0].profile.conic. */
 function pathText(path) {
@@ -235,6 +236,44 @@ export class Props {
     this.note(s, `${nm} mirror${nm === 1 ? '' : 's'}, ${ns} screen${ns === 1 ? '' : 's'}, ${L.sources.length} source${L.sources.length === 1 ? '' : 's'}; ${fmtInt(rays)} rays in a full trace.`);
     this.note(s, 'Click an item in the drawing to edit it, or add one with the toolbox on the left. Above 20 000 rays (or with many bounces) the full trace runs in the background while a quicker preview follows your edits; a layout that could take minutes waits until you ask for it.');
     this.derived = [];
+    this.siteForm(L);
+  }
+
+  /**
+   * The site block: where the layout stands and which way it faces, for
+   * the day view (the layout plane upright, +y up, +z toward the bearing),
+   * and the date the day view sweeps (kept by the page, not in the file).
+   */
+  siteForm(L) {
+    const g = this.group('Site (the sun through the day)');
+    g.id = 'site-block';
+    const on = !!L.site;
+    this.field(g, { label: 'on the Earth', type: 'check', path: ['site', '__on'], suffix: '-on', toValue: () => on,
+      title: 'Stand the layout plane upright at a place on the Earth, so the day view can move the sun',
+      apply: (M, v) => {
+        if (v) M.site = M.site ?? { latitude_deg: 45, longitude_deg: 0, z_bearing_deg: 180, elevation_m: 0 };
+        else delete M.site;
+      },
+      after: () => this.render() });
+    if (!on) return;
+    this.field(g, { label: 'latitude', unit: '°', type: 'number', path: ['site', 'latitude_deg'], title: 'Latitude, degrees north (south negative), −90 to 90' });
+    this.field(g, { label: 'longitude', unit: '°', type: 'number', path: ['site', 'longitude_deg'], title: 'Longitude, degrees east (west negative), −180 to 180; times are local standard time, round(longitude/15) hours from UTC' });
+    this.field(g, { label: '+z faces', unit: '°', type: 'number', path: ['site', 'z_bearing_deg'], def: 0, title: 'Compass bearing the drawing\'s +z (to the right) points to, degrees clockwise from north; +y is up' });
+    this.field(g, { label: 'elevation', unit: 'm', type: 'number', path: ['site', 'elevation_m'], def: 0, title: 'Height of the site above sea level' });
+    const row = document.createElement('div');
+    row.className = 'field';
+    const lab = document.createElement('label');
+    lab.htmlFor = 'f-day-date';
+    lab.textContent = 'date';
+    const input = document.createElement('input');
+    input.type = 'date';
+    input.id = 'f-day-date';
+    input.value = dayDate(this.app);
+    input.title = 'Date the day view sweeps (kept in the page, not in the layout file)';
+    input.addEventListener('change', () => { if (input.value) { this.app.dayDate = input.value; this.app.drawer.update(); } });
+    row.append(lab, input);
+    g.append(row);
+    this.note(g, 'Open the Day view in the analysis drawer to sweep this date.');
   }
 
   mirrorForm(m, base, ei) {
@@ -316,6 +355,8 @@ export class Props {
       title: 'Diameter (or width) of a central hole; 0 for none' });
     this.field(ga, { label: 'reflectivity', unit: '', type: 'number', path: [...base, 'reflectivity'], def: 1,
       title: 'Fraction of the power reflected (0 to 1)' });
+    this.field(ga, { label: 'slope error σ', unit: 'mrad', type: 'number', path: [...base, 'slope_error_mrad'], def: 0,
+      title: 'Gaussian error of the surface normal, σ per axis of the tangent plane (0: a perfect surface); the reflected ray strays by about twice this' });
 
     const info = this.note(ga, '', 'derived');
     const update = () => {
@@ -362,6 +403,20 @@ export class Props {
       title: 'Angular radius of an extended solar disk (4.65 mrad is the mean sun); 0 for a point-like star',
       after: () => this.render() });
     this.field(g, { label: 'irradiance', unit: 'W/m²', type: 'number', path: [...base, 'irradiance_w_m2'], def: 1000, title: 'Power per area across the beam (about 1000 W/m² for clear-sky sunlight)' });
+    if (!sun) return;
+    this.field(g, { label: 'sun shape', type: 'select', path: [...base, 'sunshape'], def: 'disk',
+      options: [['disk', 'uniform'], ['limb', 'limb-darkened'], ['csr', 'circumsolar']],
+      title: 'Radiance across the sun: uniform; darker toward the limb; or with the circumsolar aureole out to 43.6 mrad (Buie et al. 2003)',
+      apply: (L, v) => {
+        const it = L.sources[base[1]];
+        it.sunshape = v;
+        if (v === 'csr') it.csr = it.csr || 0.05; else delete it.csr;
+      },
+      after: () => this.render() });
+    if (b.sunshape === 'csr') {
+      this.field(g, { label: 'circumsolar ratio', unit: '', type: 'number', path: [...base, 'csr'], def: 0,
+        title: 'Share of the sun\'s power that comes from the aureole around the disk, 0 to 0.4 (clear skies about 0.02 to 0.1)' });
+    }
   }
 
   lampForm(p, base) {

@@ -4,8 +4,10 @@
 mod bench;
 mod commands;
 mod design_cmd;
+mod mirror_test_cmd;
 mod optimise_cmd;
 mod serve;
+mod sun_cmd;
 mod tolerance_cmd;
 mod usage;
 
@@ -64,12 +66,21 @@ enum Cmd {
     Compare(design_cmd::CompareArgs),
     /// Knife-edge readings for a centre-of-curvature test.
     Zones(design_cmd::ZonesArgs),
+    /// Ronchi test simulated: band edges and the picture the eye sees.
+    Ronchi(mirror_test_cmd::RonchiArgs),
+    /// Knife-edge test simulated: null zone, lit fraction and the picture.
+    Knife(mirror_test_cmd::KnifeArgs),
     /// Monte Carlo of making and alignment errors, and a sensitivity table.
     Tolerance(tolerance_cmd::ToleranceArgs),
     /// Damped least squares over layout fields (conics, spacings, screen position).
     Optimise(optimise_cmd::OptimiseArgs),
     /// Serve the browser workbench from 127.0.0.1.
     Serve(serve::ServeArgs),
+    /// The sun's azimuth and elevation at a place and time (NREL SPA).
+    Sun(sun_cmd::SunArgs),
+    /// Sweep a layout with a site through a day: the sun turned to each
+    /// step, peak flux per screen, the worst moment.
+    Day(sun_cmd::DayArgs),
     /// Measure tracing speed on the standard scenes.
     Bench {
         /// Rays for the paraboloid scene.
@@ -111,10 +122,14 @@ fn main() -> ExitCode {
         Cmd::Design { what } => design_cmd::design(what),
         Cmd::Compare(a) => design_cmd::compare(a),
         Cmd::Zones(a) => design_cmd::zones(a),
+        Cmd::Ronchi(a) => mirror_test_cmd::ronchi(a),
+        Cmd::Knife(a) => mirror_test_cmd::knife(a),
         Cmd::Tolerance(a) => tolerance_cmd::run(a),
         Cmd::Optimise(a) => optimise_cmd::run(a),
         Cmd::Serve(a) => serve::run(a),
         Cmd::Bench { rays, threads, json } => bench::run(rays, threads, json),
+        Cmd::Sun(a) => sun_cmd::sun(a),
+        Cmd::Day(a) => sun_cmd::day(a),
     };
     match out {
         Ok(text) => {

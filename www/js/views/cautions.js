@@ -73,3 +73,23 @@ export function updateCautions(app) {
       + 'even for a moment, causes permanent eye damage. A filter must cover the full aperture in front of the optics and meet the applicable standard.');
   }
 }
+
+/**
+ * The caution beside a day sweep (the day view): how concentrated the
+ * sunlight gets and when, what it does, and the local-codes note. Hidden
+ * until a sweep has run.
+ */
+export function daySweepCaution(el, report) {
+  el.replaceChildren();
+  el.hidden = !report;
+  if (!report) return;
+  const w = report.worst;
+  const b = document.createElement('strong');
+  b.textContent = w && w.peak_suns > CONCENTRATION_CAUTION_SUNS
+    ? `Concentrated sunlight: up to ${fmtNum(w.peak_suns, 3)} suns on screen ${w.screen} at ${w.time.slice(11, 16)}.`
+    : 'Concentrated sunlight.';
+  el.dataset.suns = w ? String(w.peak_suns) : '';
+  el.append(b, ' A focus that moves with the sun can burn skin, set material alight and injure eyes within seconds, at hours nobody watches. '
+    + 'Keep people, vehicles and anything that burns out of the path it sweeps, and check the real site against local codes and qualified practice: '
+    + 'these figures are design estimates (a clear sky, the mirror as drawn).');
+}

@@ -4,9 +4,15 @@
 // readings typed into the table (or a CSV of radius, height departure)
 // become a mirror whose zones needing work are listed and which can be
 // traced in the editor. Figures from `zone_table_json`,
-// `measured_readings_json` and `measured_csv_json`.
+// `measured_readings_json` and `measured_csv_json`. Below them the
+// simulated Ronchi and knife-edge pictures (testing-pictures.js), the plots
+// of measured against target (testing-plots.js) and, from the tools, the
+// zonal mask as SVG at 1:1 scale (`zonal_mask_svg_text`).
 
 import { api } from '../wasm.js';
+import { download, slug } from '../export.js';
+import { TestPictures } from './testing-pictures.js';
+import { MeasuredPlots } from './testing-plots.js';
 import {
   Form, button, conicMirror, csvText, debounce, errText, figureTable, fmtNum, heading, para, rowTable, saveCsv,
   visible,
@@ -46,7 +52,15 @@ export class TestingView {
     left.className = 'dview-col dview-form';
     heading(left, 'Mirror and test');
     const run = debounce(() => this.compute());
-    this.form = new Form(left, { id: 'testing-form', onChange: () => { this.out.dataset.state = 'pending'; run(); } });
+    this.form = new Form(left, {
+      id: 'testing-form',
+      onChange: (name) => {
+        // Typed over: the mirror is no longer the one the note names.
+        if (['radius', 'conic', 'diameter'].includes(name)) this.setNote('');
+        this.out.dataset.state = 'pending';
+        run();
+      },
+    });
     const f = this.form;
     f.field({ name: 'radius', label: 'vertex radius R', unit: 'mm', value: '2000', title: 'Vertex radius of curvature of the concave mirror, mm' });
     f.field({ name: 'conic', label: 'conic constant K', unit: '', value: '-1', title: 'Conic constant of the target surface (−1 paraboloid)' });
@@ -59,8 +73,11 @@ export class TestingView {
     tools.className = 'row-buttons';
     button(tools, 'From the mirror', 'Fill R, K and D from the selected mirror (a revolved conic)', () => this.prefill(true));
     this.csvBtn = button(tools, 'Export CSV', 'Download the zone table (with any measured readings) as CSV', () => this.exportCsv());
+    this.maskBtn = button(tools, 'Mask SVG', 'Download the zonal mask template as SVG at 1:1 scale (mm): print at 100 % and check the scale bar', () => this.exportMask());
+    this.maskBtn.id = 'export-mask';
     left.append(tools);
     this.source = para(left, '');
+    this.source.id = 'testing-note';
     para(left, 'Zone edges split the mirror into N equal areas: a√(X/N), X = 0 … N, a = D/2. Each zone is read at the RMS radius of its edges, √((inner² + outer²)/2). Readings are knife-edge positions from the vertex centre of curvature, + away from the mirror.', 'muted small rule');
 
     const mid = document.createElement('div');
@@ -91,22 +108,35 @@ export class TestingView {
     this.traceBtn.id = 'trace-measured';
     mt.append(this.fileInput);
     right.append(mt);
+    this.inUse = para(right, '', 'small in-use');
+    this.inUse.id = 'measured-state';
     this.mout = document.createElement('div');
     this.mout.id = 'measured-out';
     this.mout.dataset.state = 'none';
     right.append(this.mout);
     el.append(left, mid, right);
+    this.pictures = new TestPictures(el, app);
+    this.plots = new MeasuredPlots(el, app);
     this.showMeasured();
   }
 
   prefill(force) {
     const found = conicMirror(this.app);
     if (!found) {
-      if (force) this.source.textContent = 'No revolved concave conic mirror in this layout: enter R, K and D by hand.';
+      if (force) this.setNote('No revolved concave conic mirror in this layout: enter R, K and D by hand.');
+      else if (this.prefillKey) this.setNote('');
+      this.prefillKey = null;
       return;
     }
     const m = found.mirror;
     const key = `${m.id}|${m.profile.radius}|${m.profile.conic ?? 0}|${m.aperture.diameter}`;
+    if (!force && key !== this.prefillKey && this.form.dirty) {
+      // The layout changed but the form holds the user's own values: the
+      // old "filled from" note no longer says where they came from.
+      if (this.prefillKey) this.setNote('');
+      this.prefillKey = null;
+      return;
+    }
     if (!force && (this.form.dirty || key === this.prefillKey)) return;
     this.prefillKey = key;
     this.form.set('radius', m.profile.radius);
@@ -114,8 +144,13 @@ export class TestingView {
     this.form.set('diameter', m.aperture.diameter);
     this.form.set('wavelength', this.app.layout.wavelength_nm);
     this.form.dirty = false;
-    this.source.textContent = `Filled from ${found.selected ? 'the selected' : 'the layout’s'} mirror “${m.id}”.`;
+    this.setNote(`Filled from ${found.selected ? 'the selected' : 'the layout’s'} mirror “${m.id}”.`);
     this.compute();
+  }
+
+  setNote(text) {
+    this.source.textContent = text;
+    this.source.hidden = !text;
   }
 
   design() {
@@ -168,7 +203,7 @@ export class TestingView {
           inp.value = this.readings[i] ?? '';
           inp.disabled = !moving;
           inp.title = moving ? 'Your moving-source reading, mm' : 'Measured readings use the moving-source convention: switch the source to moving';
-          inp.addEventListener('input', () => { this.readings[i] = inp.value; this.csv = null; this.measureSoon(); });
+          inp.addEventListener('input', () => { this.readings[i] = inp.value; this.csv = null; this.csvReplaced = 0; this.measureSoon(); });
           td.append(inp);
         },
       },
@@ -252,6 +287,11 @@ export class TestingView {
     let text;
     try { text = await file.text(); } catch (e) { this.showMeasured(`csv: cannot read "${file.name}": ${errText(e)}`); return; }
     this.csv = { name: file.name, text };
+    // The table replaces the typed readings: they must not look as if used.
+    const typed = this.readings.filter((r) => r?.trim()).length;
+    this.readings = [];
+    for (const inp of this.out.querySelectorAll('input.cell-input')) inp.value = '';
+    this.csvReplaced = typed;
     this.measureCsv();
   }
 
@@ -273,12 +313,15 @@ export class TestingView {
   clearMeasured() {
     this.readings = [];
     this.csv = null;
+    this.csvReplaced = 0;
     for (const inp of this.out.querySelectorAll('input.cell-input')) inp.value = '';
     this.measure();
   }
 
   /** The measured panel: error, or what needs work, and the trace button. */
   showMeasured(error) {
+    this.showInUse(error);
+    this.refreshPictures();
     const out = this.mout;
     out.replaceChildren();
     this.traceBtn.disabled = !this.measured;
@@ -324,6 +367,58 @@ export class TestingView {
         { key: 'verdict', label: 'verdict' },
       ], m.doc.rows, { id: 'csv-table', caption: 'Departure table' }));
     }
+  }
+
+  /** Says which measured data the pictures, plots and verdicts use. */
+  showInUse(error) {
+    const m = this.measured;
+    let text;
+    if (m?.kind === 'csv') {
+      text = `In use: the loaded table “${m.name}” (${m.doc.rows.length} rows).`;
+      if (this.csvReplaced) text += ` It replaced ${this.csvReplaced} typed reading${this.csvReplaced > 1 ? 's' : ''}.`;
+    } else if (m) {
+      text = `In use: ${m.name} typed in the table.`;
+    } else if (error) {
+      text = 'In use: nothing — the measured data has an error (below); the pictures show the target only.';
+    } else {
+      text = 'In use: no measured data; the pictures and plots show the target only.';
+    }
+    this.inUse.textContent = text;
+    this.inUse.dataset.use = m?.kind ?? 'none';
+  }
+
+  /** Hands the current mirror and measurement to the pictures and plots. */
+  refreshPictures() {
+    if (!this.pictures) return;
+    let design = null, wavelength = 550;
+    try {
+      design = this.table ? this.design() : null;
+      wavelength = this.form.num('wavelength');
+    } catch { design = null; }
+    if (!design || !this.table) {
+      this.pictures.set(null);
+      this.plots.set(null);
+      return;
+    }
+    const m = this.measured;
+    const measured = m ? { kind: m.kind, doc: m.doc, name: m.name, knots: new Float64Array(m.doc.departure.flat()) } : null;
+    const state = { design, wavelength, source: this.table.source, zones: this.table.zones, measured };
+    this.pictures.set(state);
+    this.plots.set(state);
+  }
+
+  exportMask() {
+    const f = this.form;
+    let svg;
+    try {
+      svg = api().zonal_mask_svg_text(f.num('diameter'), f.num('zones'));
+    } catch (e) {
+      f.showError(errText(e));
+      return;
+    }
+    const t = this.table;
+    const name = `zonal-mask-${t ? t.zones.length : f.text('zones')}-zones`;
+    download(`${slug(this.app.layout.name)}-${name}.svg`, new Blob([svg], { type: 'image/svg+xml' }));
   }
 
   traceMeasured() {

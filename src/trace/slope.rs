@@ -1,0 +1,67 @@
+//! Mirror slope errors: the surface normal at each reflection tilted by a
+//! Gaussian error, independently along two axes of the local tangent
+//! plane, σ per axis (docs/FORMATS.md §2, `slope_error_mrad`).
+//!
+//! The reflection itself is left as it is; for a mirror with σ > 0 one
+//! extra step re-reflects the ray about the tilted normal. Its random
+//! numbers come from a counter-based hash of (the mirror's seed, source,
+//! ray number, event number), never from a running stream, so a ray's
+//! fate depends only on its number and the scene: the scalar reference
+//! and the batched tracer call this same function with the same inputs and
+//! get the same bits, whatever the batches, threads and slices. No fused
+//! multiply–add.
+
+use crate::geometry::{reflect, unit, Frame, Vec3};
+
+/// A mirror's slope error as the tracers use it.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct SlopeError {
+    /// σ per tangent axis, radians.
+    pub sigma: f64,
+    /// The mirror's own seed (from its id), so two mirrors draw
+    /// independent errors for the same ray.
+    pub seed: u64,
+}
+
+/// SplitMix64's finaliser: a bijective 64-bit mix (Steele, Lea & Flood,
+/// "Fast splittable pseudorandom number generators", OOPSLA 2014).
+#[inline]
+fn mix(mut z: u64) -> u64 {
+    z = z.wrapping_add(0x9e37_79b9_7f4a_7c15);
+    z = (z ^ (z >> 30)).wrapping_mul(0xbf58_476d_1ce4_e5b9);
+    z = (z ^ (z >> 27)).wrapping_mul(0x94d0_49bb_1331_11eb);
+    z ^ (z >> 31)
+}
+
+/// Two independent standard normal deviates for one reflection, by the
+/// Box–Muller transform of two uniforms hashed from the counters.
+pub fn gauss_pair(seed: u64, src: u32, ray: u64, event: u32) -> (f64, f64) {
+    let h1 = mix(seed ^ mix(ray ^ mix(((src as u64) << 32) | event as u64)));
+    let h2 = mix(h1);
+    const TWO_M53: f64 = 1.0 / 9_007_199_254_740_992.0;
+    let u1 = ((h1 >> 11) + 1) as f64 * TWO_M53; // (0, 1]
+    let u2 = (h2 >> 11) as f64 * TWO_M53; // [0, 1)
+    let r = (-2.0 * u1.ln()).sqrt();
+    let (s, c) = (std::f64::consts::TAU * u2).sin_cos();
+    (r * c, r * s)
+}
+
+impl SlopeError {
+    /// The direction of a ray that has just reflected (unit world
+    /// direction `out`) off the ideal surface with local unit normal `n`,
+    /// re-reflected about the normal tilted by this error: the incoming
+    /// direction is recovered (reflection is its own inverse), the normal
+    /// tilted by σ·g along two tangent axes, and the ray reflected again.
+    pub fn perturb(&self, frame: &Frame, n: &Vec3, out: &Vec3, src: u32, ray: u64, event: u32) -> Vec3 {
+        let (g1, g2) = gauss_pair(self.seed, src, ray, event);
+        let r = frame.to_local_dir(out);
+        let d = reflect(&r, n);
+        // Tangent axes: local x (else local y, near a normal along x)
+        // with its normal part removed, and n × that.
+        let a = if n.x.abs() < 0.9 { Vec3::new(1.0, 0.0, 0.0) } else { Vec3::new(0.0, 1.0, 0.0) };
+        let t1 = unit(&(a - n * a.dot(n)));
+        let t2 = n.cross(&t1);
+        let tilted = unit(&(n + t1 * (self.sigma * g1) + t2 * (self.sigma * g2)));
+        unit(&frame.to_world_dir(&reflect(&d, &tilted)))
+    }
+}

@@ -1,0 +1,217 @@
+//! The sun's radiance across the sky: a uniform disk, a limb-darkened disk,
+//! or a disk with its circumsolar aureole (Buie, Monger & Dey, "Sunshape
+//! distributions for terrestrial solar simulations", Solar Energy 74
+//! (2003) 113–122).
+//!
+//! A sun beam's directions are the seeded Halton disk samples of
+//! [`sun_points`] moved radially: a sample at radius r (area fraction r²
+//! of the unit disk) goes to the angle θ whose share of the sun's power
+//! inside θ is r², so each ray carries the same power and the traced
+//! radiance follows the profile. The emitter then maps the moved sample
+//! onto the cap of half-angle [`Shape::outer`] exactly as it maps a uniform
+//! disk (docs/FORMATS.md §2).
+
+use super::sampling::{cached_points, sun_points, DiskPoints, Set};
+use crate::layout::Sunshape;
+use std::sync::Arc;
+
+/// Half-angle of the solar disk in the Buie et al. (2003) model, mrad.
+pub const BUIE_DISK_MRAD: f64 = 4.65;
+/// Where the Buie et al. (2003) aureole ends, mrad.
+pub const BUIE_AUREOLE_MRAD: f64 = 43.6;
+/// Points of the tabulated power fraction against angle.
+const TABLE_POINTS: usize = 8192;
+
+/// Limb darkening I(μ)/I(1) = (2 + 3μ)/5, μ the cosine of the angle
+/// between the line of sight and the solar surface normal: the grey
+/// atmosphere in the Eddington approximation (Mihalas, Stellar
+/// Atmospheres, 2nd ed. 1978, ch. 3; Chandrasekhar, Radiative Transfer,
+/// 1950), close to the Sun's visible limb darkening.
+pub fn limb_intensity(mu: f64) -> f64 {
+    (2.0 + 3.0 * mu) / 5.0
+}
+
+/// The Buie et al. (2003) aureole parameters (κ, γ) for the model's χ:
+/// κ = 0.9 ln(13.5χ) χ^−0.3, γ = 2.2 ln(0.52χ) χ^0.43 − 0.1.
+pub fn buie_kappa_gamma(chi: f64) -> (f64, f64) {
+    let kappa = 0.9 * (13.5 * chi).ln() * chi.powf(-0.3);
+    let gamma = 2.2 * (0.52 * chi).ln() * chi.powf(0.43) - 0.1;
+    (kappa, gamma)
+}
+
+/// Relative radiance of the Buie et al. (2003) sun at θ mrad from the
+/// centre: cos(0.326θ)/cos(0.308θ) on the disk (θ ≤ 4.65), e^κ θ^γ in the
+/// aureole (4.65 < θ ≤ 43.6), 0 beyond.
+pub fn buie_radiance(theta_mrad: f64, chi: f64) -> f64 {
+    if theta_mrad <= BUIE_DISK_MRAD {
+        (0.326 * theta_mrad).cos() / (0.308 * theta_mrad).cos()
+    } else if theta_mrad <= BUIE_AUREOLE_MRAD && chi > 0.0 {
+        let (k, g) = buie_kappa_gamma(chi);
+        k.exp() * theta_mrad.powf(g)
+    } else {
+        0.0
+    }
+}
+
+/// Power of the Buie disk, ∫₀^4.65 φ(θ) θ dθ (small-angle sky; Simpson's
+/// rule, far finer than the profile varies), computed once.
+fn buie_disk_power() -> f64 {
+    static POWER: std::sync::OnceLock<f64> = std::sync::OnceLock::new();
+    *POWER.get_or_init(buie_disk_integral)
+}
+
+fn buie_disk_integral() -> f64 {
+    let n = 2000;
+    let h = BUIE_DISK_MRAD / n as f64;
+    let f = |t: f64| buie_radiance(t, 0.0) * t;
+    let mut s = f(0.0) + f(BUIE_DISK_MRAD);
+    for i in 1..n {
+        s += f(i as f64 * h) * if i % 2 == 1 { 4.0 } else { 2.0 };
+    }
+    s * h / 3.0
+}
+
+/// Power of the aureole, ∫ e^κ θ^γ θ dθ from 4.65 to 43.6 mrad (closed
+/// form).
+fn buie_aureole_power(chi: f64) -> f64 {
+    if chi <= 0.0 {
+        return 0.0;
+    }
+    let (k, g) = buie_kappa_gamma(chi);
+    let p = g + 2.0;
+    if p.abs() < 1e-12 {
+        return k.exp() * (BUIE_AUREOLE_MRAD / BUIE_DISK_MRAD).ln();
+    }
+    k.exp() * (BUIE_AUREOLE_MRAD.powf(p) - BUIE_DISK_MRAD.powf(p)) / p
+}
+
+/// The circumsolar ratio the model gives for χ: aureole power over total.
+pub fn buie_csr_of_chi(chi: f64) -> f64 {
+    let a = buie_aureole_power(chi);
+    a / (a + buie_disk_power())
+}
+
+/// The model's χ whose circumsolar ratio is `csr` (bisection on ln χ; the
+/// ratio grows with χ). `csr` ≤ 0 gives 0 (no aureole).
+pub fn buie_chi_for(csr: f64) -> f64 {
+    if csr <= 0.0 {
+        return 0.0;
+    }
+    let (mut lo, mut hi) = ((1e-9f64).ln(), (0.99f64).ln());
+    for _ in 0..200 {
+        let mid = 0.5 * (lo + hi);
+        if buie_csr_of_chi(mid.exp()) < csr {
+            lo = mid;
+        } else {
+            hi = mid;
+        }
+    }
+    (0.5 * (lo + hi)).exp()
+}
+
+/// A sun's shape ready for sampling: the tabulated power fraction
+/// `cdf[k]` inside angle `theta[k]` (radians), and the outer half-angle.
+#[derive(Debug, Clone)]
+pub struct Shape {
+    theta: Vec<f64>,
+    cdf: Vec<f64>,
+    /// Outermost angle the sun sends light from, radians.
+    pub outer: f64,
+}
+
+impl Shape {
+    /// The shape of a sun of disk half-angle `half` (radians). For `csr`
+    /// the Buie profile is scaled so its 4.65 mrad disk edge lands on
+    /// `half` (for the mean sun, 4.65 mrad, it is the published profile).
+    pub fn new(shape: Sunshape, csr: f64, half: f64) -> Shape {
+        let m = TABLE_POINTS;
+        match shape {
+            Sunshape::Disk => Shape { theta: vec![0.0, half], cdf: vec![0.0, 1.0], outer: half },
+            Sunshape::Limb => {
+                // ∫ I(μ(ρ)) ρ dρ with ρ dρ = −μ dμ: F = (2 − μ² − μ³)/2.
+                let mut theta = Vec::with_capacity(m + 1);
+                let mut cdf = Vec::with_capacity(m + 1);
+                for k in 0..=m {
+                    let rho = k as f64 / m as f64;
+                    let mu = (1.0 - rho * rho).max(0.0).sqrt();
+                    theta.push(rho * half);
+                    cdf.push((2.0 - mu * mu - mu * mu * mu) / 2.0);
+                }
+                Shape { theta, cdf, outer: half }
+            }
+            Sunshape::Csr => {
+                let chi = buie_chi_for(csr);
+                let scale = half / BUIE_DISK_MRAD; // radians per model mrad
+                let top = if chi > 0.0 { BUIE_AUREOLE_MRAD } else { BUIE_DISK_MRAD };
+                // Cumulative trapezoids of φ(θ)θ on a grid that puts a node
+                // exactly on the disk edge (the profile jumps there).
+                let edge = (m as f64 * BUIE_DISK_MRAD / top).round() as usize;
+                let node = |k: usize| {
+                    if k <= edge {
+                        BUIE_DISK_MRAD * k as f64 / edge.max(1) as f64
+                    } else {
+                        BUIE_DISK_MRAD + (top - BUIE_DISK_MRAD) * (k - edge) as f64 / (m - edge).max(1) as f64
+                    }
+                };
+                let mut theta = vec![0.0];
+                let mut cdf = vec![0.0];
+                let mut acc = 0.0;
+                for k in 1..=m {
+                    let (a, b) = (node(k - 1), node(k));
+                    // Left and right limits across the disk edge.
+                    let fa = if k - 1 == edge { buie_radiance(a * (1.0 + 1e-12), chi) } else { buie_radiance(a, chi) };
+                    let fb = buie_radiance(b, chi);
+                    acc += 0.5 * (fa * a + fb * b) * (b - a);
+                    theta.push(b * scale);
+                    cdf.push(acc);
+                }
+                for c in cdf.iter_mut() {
+                    *c /= acc;
+                }
+                Shape { theta, cdf, outer: top * scale }
+            }
+        }
+    }
+
+    /// The angle (radians) inside which a share `u` of the power lies.
+    pub fn angle_at(&self, u: f64) -> f64 {
+        let u = u.clamp(0.0, 1.0);
+        let k = self.cdf.partition_point(|&c| c <= u).clamp(1, self.cdf.len() - 1);
+        let (c0, c1) = (self.cdf[k - 1], self.cdf[k]);
+        let (t0, t1) = (self.theta[k - 1], self.theta[k]);
+        if c1 > c0 { t0 + (t1 - t0) * (u - c0) / (c1 - c0) } else { t0 }
+    }
+}
+
+/// The direction samples of a sun beam on the unit disk (mapped by the
+/// emitter onto the cap of half-angle `outer`), and `outer` in radians.
+/// A uniform disk is [`sun_points`] itself.
+pub fn sun_directions(shape: Sunshape, csr: f64, half: f64, n: usize, seed: u64) -> (Arc<DiskPoints>, f64) {
+    let base = sun_points(n, seed);
+    if shape == Sunshape::Disk {
+        return (base, half);
+    }
+    let sh = Shape::new(shape, csr, half);
+    let omc_outer = 1.0 - sh.outer.cos();
+    let tag = Set::ShapedSun(shape as u8, csr.to_bits(), half.to_bits());
+    let pts = cached_points(tag, n, seed, || {
+        let mut out = DiskPoints::default();
+        for i in 0..base.len() {
+            let [x, y] = base.get(i);
+            let r2 = x * x + y * y;
+            if r2 == 0.0 {
+                out.x.push(0.0);
+                out.y.push(0.0);
+                continue;
+            }
+            let theta = sh.angle_at(r2);
+            // Cap coordinate of θ: the emitter's cos θ = 1 − r²(1 − cos outer).
+            let r_new = ((1.0 - theta.cos()) / omc_outer).sqrt();
+            let s = r_new / r2.sqrt();
+            out.x.push(x * s);
+            out.y.push(y * s);
+        }
+        out
+    });
+    (pts, sh.outer)
+}

@@ -1,0 +1,181 @@
+//! The simulated knife-edge test (docs/FORMATS.md §3, `catoptric knife`):
+//! the null zone agrees with the zone table's readings and the published
+//! readings, a sphere at its centre darkens all at once, the lit fraction
+//! of a sphere past its centre is a circular segment, and the command's
+//! JSON and bad input.
+
+mod stand_support;
+
+use catoptric::design::{knife_picture, knife_view, zone_table, KnifeSpec, TestSource};
+use serde_json::Value;
+use stand_support::{run, Stand};
+
+const R: f64 = 2000.0;
+const D: f64 = 200.0;
+
+fn spec(k: f64, s: f64, kx: f64, source: TestSource) -> KnifeSpec<'static> {
+    KnifeSpec { radius: R, conic: k, diameter: D, knife_mm: s, knife_x_mm: kx, source, measured: None }
+}
+
+/// Published readings of an R = 2000 mm paraboloid: moving source
+/// ρ²/(2R) (exact; Texereau, How to Make a Telescope, 2nd Eng. ed. 1984),
+/// fixed source from an exact trace worked independently of this code
+/// (≈ ρ²/R, the textbooks' approximation).
+#[test]
+fn paraboloid_null_zone_is_the_zone_of_the_published_reading() {
+    let moving = [(30.0, 0.225), (50.0, 0.625), (70.0, 1.225), (90.0, 2.025)];
+    let fixed = [(30.0, 0.45005), (50.0, 1.25039), (70.0, 2.45150), (90.0, 4.05410)];
+    for (rho, reading) in moving {
+        let v = knife_view(&spec(-1.0, reading, 0.0, TestSource::Moving)).unwrap();
+        let r = v.null_radius_mm.expect("a zone nulls");
+        assert!((r - rho).abs() < 1e-9 * rho, "moving {rho}: {r}");
+    }
+    for (rho, reading) in fixed {
+        let v = knife_view(&spec(-1.0, reading, 0.0, TestSource::Fixed)).unwrap();
+        let r = v.null_radius_mm.expect("a zone nulls");
+        // The readings carry 5 decimals; dReading/dρ ≈ 2ρ/R.
+        assert!((r - rho).abs() < 1e-5 / (2.0 * rho / R), "fixed {rho}: {r}");
+    }
+}
+
+/// The zone table and the picture agree: a knife set at each zone's
+/// reading nulls that zone, for the paraboloid and for a hyperboloid
+/// (K = −4), moving and fixed source.
+#[test]
+fn knife_at_a_zone_reading_nulls_that_zone() {
+    for k in [-1.0, -4.0] {
+        for source in [TestSource::Moving, TestSource::Fixed] {
+            let t = zone_table(R, k, D, 6, source, 550.0).unwrap();
+            for z in &t.zones {
+                let v = knife_view(&spec(k, z.reading_mm, 0.0, source)).unwrap();
+                let r = v.null_radius_mm.unwrap_or(f64::NAN);
+                assert!((r - z.r_mm).abs() < 1e-7 * z.r_mm, "K {k}, {source:?}, zone r {}: null at {r}", z.r_mm);
+                assert!(!v.whole_mirror_nulls);
+            }
+        }
+    }
+}
+
+/// Moving source on a conic: the zone whose normal meets the axis at
+/// R − K z(ρ) from the vertex nulls (exact for a conic: the normal at
+/// (ρ, z) crosses the axis at z + ρ/z′ and z′ = ρ/(R − (1+K)z)), checked
+/// on the independent trace too: the ray from that zone crosses the axis
+/// in the knife's plane.
+#[test]
+fn hyperboloid_null_zone_is_where_its_normal_meets_the_axis() {
+    let k = -4.0;
+    let rho = 60.0;
+    let s = -k * stand_support::conic_z(R, k, rho);
+    let v = knife_view(&spec(k, s, 0.0, TestSource::Moving)).unwrap();
+    assert!((v.null_radius_mm.unwrap() - rho).abs() < 1e-8);
+    let stand = Stand { r: R, k, s, moving: true, departure: None };
+    assert!(stand.land(rho, 0.0).0.abs() < 1e-9);
+}
+
+/// A sphere with source and knife at its centre of curvature returns
+/// every ray to the centre (elementary geometry): the whole mirror goes
+/// dark at once as the knife crosses the axis — lit fraction from 1 to 0.
+#[test]
+fn sphere_at_its_centre_darkens_all_at_once() {
+    for source in [TestSource::Moving, TestSource::Fixed] {
+        let before = knife_view(&spec(0.0, 0.0, -0.001, source)).unwrap();
+        let after = knife_view(&spec(0.0, 0.0, 0.001, source)).unwrap();
+        assert!(before.lit_fraction > 0.9999, "{source:?}: {}", before.lit_fraction);
+        assert!(after.lit_fraction < 1e-4, "{source:?}: {}", after.lit_fraction);
+        assert!(before.whole_mirror_nulls && before.null_radius_mm.is_none());
+        let pic = knife_picture(&spec(0.0, 0.0, 0.001, source), 64).unwrap();
+        assert!(pic.lit.iter().all(|&l| l == 0.0));
+    }
+}
+
+/// A sphere, fixed source, knife S past the centre with its edge at X = c:
+/// a ray from (x, y) passes the centre and lands at X = −xS/√(R² − ρ²), so
+/// the lit part is x ≤ −c√(R² − ρ²)/S, very nearly the chord x ≤ −cR/S;
+/// the area of the disk on one side of a chord at distance e from the
+/// centre, a² acos(−e/a) + e√(a² − e²) over πa² (elementary geometry),
+/// gives the lit fraction.
+#[test]
+fn sphere_past_its_centre_shows_a_circular_segment_lit() {
+    let a = 0.5 * D;
+    let s = 5.0;
+    for c in [0.0, 0.1, -0.2] {
+        let e: f64 = -c * R / s;
+        let want = (a * a * (-e / a).acos() + e * (a * a - e * e).sqrt()) / (std::f64::consts::PI * a * a);
+        let v = knife_view(&spec(0.0, s, c, TestSource::Fixed)).unwrap();
+        // The chord bends by (ρ/R)²/2 of e: a few 1e-4 of the area here.
+        assert!((v.lit_fraction - want).abs() < 1e-3, "c {c}: {} vs {want}", v.lit_fraction);
+        assert!(v.null_radius_mm.is_none() && !v.whole_mirror_nulls);
+    }
+}
+
+#[test]
+fn command_prints_the_contract_json() {
+    // Zone ρ = 50 of an R = 2000 paraboloid reads 0.625 mm (Texereau, as above).
+    let (code, out, err) =
+        run(&["knife", "--radius", "2000", "--conic", "-1", "--diameter", "200", "--knife-mm", "0.625", "--json"]);
+    assert_eq!(code, 0, "{err}");
+    let v: Value = serde_json::from_str(&out).unwrap();
+    assert!((v["null_radius_mm"].as_f64().unwrap() - 50.0).abs() < 1e-6);
+    // With the edge on the axis, X(−x, −y) = −X(x, y): half the disk is lit.
+    assert!((v["lit_fraction"].as_f64().unwrap() - 0.5).abs() < 1e-3);
+    let (code, out, _) =
+        run(&["knife", "--radius", "2000", "--conic", "-1", "--diameter", "200", "--knife-mm", "-3", "--json"]);
+    assert_eq!(code, 0);
+    let v: Value = serde_json::from_str(&out).unwrap();
+    assert!(v["null_radius_mm"].is_null(), "a paraboloid has no null inside its centre: {v}");
+}
+
+/// A measured profile from the testing view's CSV moves the null: a
+/// departure −h(ρ/a)⁴ lowers the outer zones more and more, flattening
+/// their slope, so their normals meet the axis farther out and the null
+/// moves in; the independent trace of the same profile says where.
+#[test]
+fn measured_profile_moves_the_null_zone() {
+    let dir = std::env::temp_dir().join(format!("catoptric-knife-{}", std::process::id()));
+    std::fs::create_dir_all(&dir).unwrap();
+    let path = dir.join("profile.csv");
+    let a = 0.5 * D;
+    let h = 0.1e-3;
+    let mut csv = String::from("radius_mm,departure_um\n");
+    for i in 0..=50 {
+        let rho = a * i as f64 / 50.0;
+        csv.push_str(&format!("{rho},{}\n", -h * (rho / a).powi(4) * 1e3));
+    }
+    std::fs::write(&path, csv).unwrap();
+    let s = 0.625;
+    let (code, out, err) = run(&[
+        "knife", "--radius", "2000", "--conic", "-1", "--diameter", "200", "--knife-mm", "0.625", "--measured",
+        path.to_str().unwrap(), "--json",
+    ]);
+    assert_eq!(code, 0, "{err}");
+    let v: Value = serde_json::from_str(&out).unwrap();
+    let got = v["null_radius_mm"].as_f64().unwrap();
+    let dep = move |rho: f64| (-h * (rho / a).powi(4), -4.0 * h * rho.powi(3) / a.powi(4));
+    let dep_fn: &dyn Fn(f64) -> (f64, f64) = &dep;
+    let stand = Stand { r: R, k: -1.0, s, moving: true, departure: Some(dep_fn) };
+    let want = stand_support::bisect(&|x| stand.land(x, 0.0).0, 1.0, a);
+    assert!((got - want).abs() < 0.05, "{got} vs {want}");
+    assert!(got < 49.0, "the null moved in from 50 mm: {got}");
+    std::fs::remove_dir_all(&dir).ok();
+}
+
+#[test]
+fn bad_input_exits_2_naming_the_flag() {
+    let ok = ["knife", "--radius", "2000", "--conic", "-1", "--diameter", "200", "--knife-mm", "1"];
+    let cases: Vec<(Vec<&str>, &str)> = vec![
+        (vec!["knife", "--radius", "0", "--conic", "-1", "--diameter", "200", "--knife-mm", "1"], "--radius"),
+        (vec!["knife", "--radius", "2000", "--conic", "-1", "--diameter", "0", "--knife-mm", "1"], "--diameter"),
+        // An ellipsoid K = −0.5 of R = 100 ends at ρ = R/√0.5 ≈ 141 mm.
+        (vec!["knife", "--radius", "100", "--conic", "-0.5", "--diameter", "300", "--knife-mm", "1"], "--diameter"),
+        (vec!["knife", "--radius", "2000", "--conic", "-1", "--diameter", "200", "--knife-mm", "-1999"], "--knife-mm"),
+        (vec!["knife", "--radius", "2000", "--conic", "-1", "--diameter", "200", "--knife-mm", "1", "--knife-x-mm", "inf"], "--knife-x-mm"),
+        ([&ok[..], &["--measured", "/nonexistent/p.csv"]].concat(), "--measured"),
+    ];
+    for (args, flag) in cases {
+        let (code, out, err) = run(&args);
+        assert_eq!(code, 2, "{args:?}: {err}");
+        assert!(out.is_empty());
+        assert_eq!(err.lines().count(), 1, "{err}");
+        assert!(err.contains(flag), "{args:?}: {err}");
+    }
+}
