@@ -14,6 +14,9 @@
 //!   on the [`test_stand`] (exact 3D trace; band edges, null zone, lit
 //!   fraction, pictures), for the target or a measured mirror.
 //! * [`mask`]: the zonal mask template as SVG at 1:1 scale.
+//! * [`tolerance`]: a seeded Monte Carlo of making and alignment errors
+//!   and a sensitivity table; [`optimise`]: damped least squares over
+//!   layout fields named by path; [`merit`]: the figures both measure.
 //!
 //! Errors are [`InputError`]s whose `field` is the snake_case name of the
 //! offending parameter (`back_focus`, `conics[2]`, `csv line 7`); front ends
@@ -23,9 +26,12 @@ pub mod compare;
 pub mod knife;
 pub mod mask;
 pub mod measured;
+pub mod merit;
+pub mod optimise;
 pub mod off_axis;
 pub mod ronchi;
 pub mod test_stand;
+pub mod tolerance;
 pub mod two_mirror;
 pub mod zones;
 

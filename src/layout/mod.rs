@@ -8,11 +8,13 @@
 
 mod link;
 mod parse;
+mod path;
 mod text;
 mod validate;
 
 pub use link::{checked_link, decode_link, encode_link, LINK_PREFIX, MAX_LINK_LAYOUT_BYTES};
 pub use parse::parse_layout;
+pub use path::{field_mut, get_field, set_field};
 pub use text::{decode_layout_bytes, MAX_LAYOUT_BYTES};
 pub use validate::{
     MAX_SLOPE_ERROR_MRAD, MAX_CSR,

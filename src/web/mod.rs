@@ -10,6 +10,7 @@ mod design;
 mod psf;
 mod session;
 mod sun;
+mod tune;
 
 use wasm_bindgen::prelude::*;
 

@@ -15,10 +15,11 @@ import { EnergyView } from './views/energy.js';
 import { FluxView } from './views/flux.js';
 import { DayView } from './views/day.js';
 import { ImageView, addPsfStrehlRows } from './views/image.js';
+import { ToleranceView } from './views/tolerance.js';
 import { prepareCanvas } from './views/plot.js';
 
 /** Tab order; views and planned tabs are sorted into it. */
-const TAB_ORDER = ['spot', 'focus', 'energy', 'image', 'flux', 'day', 'conics', 'testing', 'designers'];
+const TAB_ORDER = ['spot', 'focus', 'energy', 'image', 'flux', 'day', 'conics', 'testing', 'designers', 'tolerance'];
 
 /** Flattens nested report objects into dotted keys: flux.peak_w_m2. */
 function flatten(obj, prefix = '', out = {}) {
@@ -319,7 +320,7 @@ export class Drawer {
     this.app = app;
     this.views = [
       new SpotView(), new FocusView(), new EnergyView(), new ImageView(), new FluxView(), new DayView(),
-      new ConicsView(), new TestingView(), new DesignersView(),
+      new ConicsView(), new TestingView(), new DesignersView(), new ToleranceView(),
     ];
     this.panels = new Map();
     this.current = 'spot';

@@ -5,6 +5,7 @@
 // valid state.
 
 import { fmtInt, fmtNum, withUnit } from './format.js';
+import { solveGroup, varyToggle } from './solve.js';
 import { dayDate } from './views/day.js';
 
 /** Dotted field path as the session reports it: elements[0].profile.conic. */
@@ -53,6 +54,7 @@ export class Props {
       this.title.textContent = 'Layout';
       this.delBtn.hidden = true;
       this.layoutForm(L);
+      solveGroup(this.form, this.app, () => this.render());
       return;
     }
     const item = L[sel.list][sel.index];
@@ -69,6 +71,7 @@ export class Props {
     else if (item.kind === 'screen') this.screenForm(item, base);
     else if (item.kind === 'beam') this.beamForm(item, base);
     else this.lampForm(item, base);
+    solveGroup(this.form, this.app, () => this.render());
   }
 
   /** Updates shown values after an edit made elsewhere (drawing, undo). */
@@ -135,6 +138,7 @@ export class Props {
     if (spec.type === 'textarea' || spec.type === 'text' || (spec.type === 'select' && !spec.unit)) row.append(label, input, err);
     else row.append(label, input, unit, err);
     parent.append(row);
+    if (spec.type === 'number') varyToggle(row, input.dataset.path, this.app, () => this.render());
 
     const f = {
       input, spec, invalid: false,

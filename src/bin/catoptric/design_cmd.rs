@@ -110,7 +110,7 @@ pub struct ZonesArgs {
 
 /// Core field name → command-line flag (`back_focus` → `--back-focus`,
 /// `conics[2]` → `--conics[2]`); layout fields stay as they are.
-fn input(e: InputError) -> Failure {
+pub(crate) fn input(e: InputError) -> Failure {
     if e.field.is_empty() || e.field.starts_with("layout.") {
         return Failure::input(e);
     }
@@ -118,7 +118,7 @@ fn input(e: InputError) -> Failure {
     Failure::input(format!("{field}: {}", e.message))
 }
 
-fn to_json<T: serde::Serialize>(v: &T) -> String {
+pub(crate) fn to_json<T: serde::Serialize>(v: &T) -> String {
     serde_json::to_string_pretty(v).expect("reports always serialize")
 }
 

@@ -6,8 +6,10 @@ mod commands;
 mod design_cmd;
 mod mirror_test_cmd;
 mod psf_cmd;
+mod optimise_cmd;
 mod serve;
 mod sun_cmd;
+mod tolerance_cmd;
 mod usage;
 
 use clap::{CommandFactory as _, Parser, Subcommand};
@@ -71,6 +73,10 @@ enum Cmd {
     Knife(mirror_test_cmd::KnifeArgs),
     /// Diffraction image of one source on one screen: PSF, Strehl, MTF, Zernike terms.
     Psf(psf_cmd::PsfArgs),
+    /// Monte Carlo of making and alignment errors, and a sensitivity table.
+    Tolerance(tolerance_cmd::ToleranceArgs),
+    /// Damped least squares over layout fields (conics, spacings, screen position).
+    Optimise(optimise_cmd::OptimiseArgs),
     /// Serve the browser workbench from 127.0.0.1.
     Serve(serve::ServeArgs),
     /// The sun's azimuth and elevation at a place and time (NREL SPA).
@@ -122,6 +128,8 @@ fn main() -> ExitCode {
         Cmd::Ronchi(a) => mirror_test_cmd::ronchi(a),
         Cmd::Knife(a) => mirror_test_cmd::knife(a),
         Cmd::Psf(a) => psf_cmd::run(a),
+        Cmd::Tolerance(a) => tolerance_cmd::run(a),
+        Cmd::Optimise(a) => optimise_cmd::run(a),
         Cmd::Serve(a) => serve::run(a),
         Cmd::Bench { rays, threads, json } => bench::run(rays, threads, json),
         Cmd::Sun(a) => sun_cmd::sun(a),

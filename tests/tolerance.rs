@@ -1,0 +1,275 @@
+//! The tolerance analysis (`catoptric tolerance`, docs/FORMATS.md §3):
+//! zero tolerances give the nominal, a seed repeats exactly whatever the
+//! thread count, the decentre model agrees with an independent Monte Carlo
+//! written here, and the sensitivity table with layouts perturbed by hand.
+
+mod common;
+
+use catoptric::analysis::spot_stats;
+use catoptric::design::tolerance::{tolerance, unit_draw, ErrorKind, TolerancePlan, ToleranceSpec};
+use catoptric::layout::{Element, Layout};
+use catoptric::{parse_layout, trace, Scene, TraceOptions};
+use serde_json::Value;
+use std::process::Command;
+
+const RAYS: usize = 3000;
+
+fn preset_path(name: &str) -> String {
+    format!("{}/www/presets/{name}.json", env!("CARGO_MANIFEST_DIR"))
+}
+
+fn preset(name: &str) -> Layout {
+    parse_layout(&std::fs::read_to_string(preset_path(name)).expect("preset")).expect("preset parses")
+}
+
+fn spec(screen: &str) -> ToleranceSpec {
+    ToleranceSpec { screen: Some(screen.into()), rays: Some(RAYS), trials: 40, ..Default::default() }
+}
+
+/// RMS spot radius (µm) of the only source, traced here.
+fn rms_um(l: &Layout) -> f64 {
+    let scene = Scene::compile(l);
+    let res = trace(&scene, TraceOptions { rays: Some(RAYS), ..Default::default() });
+    spot_stats(&res.screens[0], Some(0)).rms_radius * 1e3
+}
+
+fn mirror_mut<'a>(l: &'a mut Layout, id: &str) -> &'a mut catoptric::layout::Mirror {
+    l.elements
+        .iter_mut()
+        .find_map(|e| match e {
+            Element::Mirror(m) if m.id == id => Some(m),
+            _ => None,
+        })
+        .expect("mirror")
+}
+
+#[test]
+fn zero_tolerances_give_the_nominal_at_every_percentile() {
+    // Common practice: with no error drawn every trial is the nominal
+    // layout, so every order statistic equals the nominal value.
+    for refocus in [false, true] {
+        let r = tolerance(&preset("cassegrain"), &ToleranceSpec { refocus, ..spec("focus") }, None).unwrap();
+        let n = &r.nominal;
+        assert_eq!(r.trials, 40);
+        let rms = n.rms_radius_um.unwrap();
+        for p in [r.rms_radius_um.p50, r.rms_radius_um.p90, r.rms_radius_um.p99, r.rms_radius_um.max] {
+            assert_eq!(p, Some(rms));
+        }
+        for p in [r.strehl.p10, r.strehl.p50, r.strehl.p90] {
+            assert_eq!(p, n.strehl);
+        }
+        for p in [r.intercept.p10, r.intercept.p50, r.intercept.p90] {
+            assert_eq!(p, Some(n.intercept));
+        }
+        assert!(r.sensitivity.is_empty());
+    }
+}
+
+#[test]
+fn nominal_is_the_layouts_own_trace() {
+    // Common practice: with no error the run measures the layout as drawn,
+    // so its nominal figures are those `catoptric trace` reports.
+    let cass = preset_path("cassegrain");
+    let (code, tol, err) = cli(&["tolerance", &cass, "--screen", "focus", "--trials", "3", "--json"]);
+    assert_eq!(code, 0, "{err}");
+    let (code, tr, err) = cli(&["trace", &cass, "--json"]);
+    assert_eq!(code, 0, "{err}");
+    let (tol, tr): (Value, Value) = (serde_json::from_str(&tol).unwrap(), serde_json::from_str(&tr).unwrap());
+    let screen = &tr["screens"][0];
+    let rms = screen["by_source"][0]["rms_radius_um"].as_f64().unwrap();
+    assert!((tol["nominal"]["rms_radius_um"].as_f64().unwrap() - rms).abs() <= 1e-12 * rms.max(1e-3));
+    let strehl = screen["by_source"][0]["strehl_estimate"].as_f64().unwrap();
+    assert!((tol["nominal"]["strehl"].as_f64().unwrap() - strehl).abs() < 1e-12);
+    let intercept = screen["flux"]["intercept"].as_f64().unwrap();
+    assert!((tol["nominal"]["intercept"].as_f64().unwrap() - intercept).abs() < 1e-12);
+    assert_eq!(tol["trials"], 3);
+}
+
+fn cli(args: &[&str]) -> (i32, String, String) {
+    let out = Command::new(env!("CARGO_BIN_EXE_catoptric")).args(args).output().expect("runs");
+    (out.status.code().unwrap_or(-1), String::from_utf8_lossy(&out.stdout).into_owned(), String::from_utf8_lossy(&out.stderr).into_owned())
+}
+
+#[test]
+fn same_seed_repeats_exactly_on_one_or_two_threads() {
+    let cass = preset_path("cassegrain");
+    let base = [
+        "tolerance", cass.as_str(), "--screen", "focus", "--trials", "30", "--rays", "2000", "--decenter-mm", "0.02",
+        "--tilt-arcmin", "0.5", "--despace-mm", "0.02", "--radius-pct", "0.05", "--conic", "0.005", "--refocus", "--json",
+    ];
+    let with = |extra: &[&str]| {
+        let mut a = base.to_vec();
+        a.extend_from_slice(extra);
+        let (code, out, err) = cli(&a);
+        assert_eq!(code, 0, "{err}");
+        out
+    };
+    let one = with(&["--threads", "1"]);
+    let two = with(&["--threads", "2"]);
+    assert_eq!(one, two);
+    assert_eq!(one, with(&["--threads", "2", "--seed", "1"]));
+    assert_ne!(one, with(&["--seed", "2"]));
+    let v: Value = serde_json::from_str(&one).unwrap();
+    for k in ["trials", "nominal", "rms_radius_um", "strehl", "intercept", "sensitivity"] {
+        assert!(v.get(k).is_some(), "missing {k}");
+    }
+    for k in ["rms_radius_um", "strehl", "intercept"] {
+        assert!(v["nominal"].get(k).is_some(), "nominal.{k}");
+    }
+    for k in ["p50", "p90", "p99", "max"] {
+        assert!(v["rms_radius_um"][k].is_number(), "rms_radius_um.{k}");
+    }
+    for k in ["p10", "p50", "p90"] {
+        assert!(v["strehl"][k].is_number() && v["intercept"][k].is_number());
+    }
+    // Two mirrors × five kinds, each with its step and name.
+    let s = v["sensitivity"].as_array().unwrap();
+    assert_eq!(s.len(), 10);
+    for row in s {
+        for k in ["element", "parameter", "step", "d_rms_radius_um", "d_strehl"] {
+            assert!(row.get(k).is_some(), "sensitivity.{k}");
+        }
+    }
+    let params: Vec<&str> = s.iter().take(5).map(|r| r["parameter"].as_str().unwrap()).collect();
+    assert_eq!(params, ["decenter", "tilt", "despace", "radius", "conic"]);
+    assert_eq!(s[1]["step"], 0.5);
+}
+
+#[test]
+fn each_trial_moves_each_mirror_by_its_own_draws() {
+    // The model: a decentre moves the vertex along the mirror's local y,
+    // perpendicular to its axis (layout plane), by at most the tolerance.
+    let l = preset("cassegrain");
+    let plan = TolerancePlan::new(&l, &ToleranceSpec { decenter_mm: 0.5, ..spec("focus") }).unwrap();
+    let mut seen = Vec::new();
+    for t in 0..20 {
+        let p = plan.trial_layout(t).unwrap();
+        for (k, (a, b)) in l.elements.iter().zip(&p.elements).enumerate() {
+            match (a, b) {
+                (Element::Mirror(a), Element::Mirror(b)) => {
+                    let d = [b.vertex[0] - a.vertex[0], b.vertex[1] - a.vertex[1]];
+                    let axis = a.axis_deg.to_radians();
+                    let along = d[0] * axis.sin() + d[1] * axis.cos();
+                    let across = d[0] * axis.cos() - d[1] * axis.sin();
+                    assert!(along.abs() < 1e-12 && across.abs() <= 0.5, "{k}: {d:?}");
+                    assert!((across - 0.5 * unit_draw(1, t as u64, k, ErrorKind::Decenter)).abs() < 1e-12);
+                    assert_eq!((a.axis_deg, &a.profile), (b.axis_deg, &b.profile));
+                    seen.push(across);
+                }
+                (a, b) => assert_eq!(a, b),
+            }
+        }
+    }
+    // Draws differ between mirrors and trials.
+    seen.sort_by(f64::total_cmp);
+    seen.dedup();
+    assert_eq!(seen.len(), 40);
+}
+
+#[test]
+fn decentre_only_run_matches_an_independent_monte_carlo() {
+    // Same model (each mirror decentred along its local y by U(−A, A)),
+    // our own draws (SplitMix64), and the two samples of RMS radii compared
+    // with the two-sample Kolmogorov–Smirnov test at α = 0.001, critical
+    // D = 1.95·√((n + m)/(n m)) (Press et al., Numerical Recipes, 3rd ed.,
+    // §14.3.3; the coefficient for α = 0.001 from standard tables).
+    let l = preset("cassegrain");
+    let a = 0.3;
+    let n = 120;
+    let plan = TolerancePlan::new(&l, &ToleranceSpec { decenter_mm: a, trials: n, ..spec("focus") }).unwrap();
+    let ours: Vec<f64> = (0..n).map(|t| plan.trial(t).unwrap().rms_radius_um.unwrap()).collect();
+    let mut rng = common::Rng(0x5eed);
+    let theirs: Vec<f64> = (0..n)
+        .map(|_| {
+            let mut p = l.clone();
+            for id in ["primary", "secondary"] {
+                let m = mirror_mut(&mut p, id);
+                let d = rng.range(-a, a);
+                let axis = m.axis_deg.to_radians();
+                m.vertex = [m.vertex[0] + d * axis.cos(), m.vertex[1] - d * axis.sin()];
+            }
+            rms_um(&p)
+        })
+        .collect();
+    let ks = {
+        let (mut x, mut y) = (ours.clone(), theirs.clone());
+        x.sort_by(f64::total_cmp);
+        y.sort_by(f64::total_cmp);
+        let cdf = |v: &[f64], t: f64| v.partition_point(|&s| s <= t) as f64 / v.len() as f64;
+        x.iter().chain(&y).map(|&t| (cdf(&x, t) - cdf(&y, t)).abs()).fold(0.0, f64::max)
+    };
+    let critical = 1.95 * ((2 * n) as f64 / (n * n) as f64).sqrt();
+    assert!(ks < critical, "KS D = {ks} ≥ {critical}");
+    // And the spread is real: decentring costs sharpness.
+    let nominal = rms_um(&l);
+    let median = catoptric::design::tolerance::percentile(&theirs, 0.5);
+    assert!(median > 1.5 * nominal, "{median} vs {nominal}");
+}
+
+#[test]
+fn sensitivity_matches_hand_perturbed_traces() {
+    // Each row is the mean change over +step and −step of that one
+    // parameter; the layouts are perturbed here by hand and traced.
+    let l = preset("cassegrain");
+    let s = ToleranceSpec { tilt_arcmin: 3.0, despace_mm: 0.2, radius_pct: 0.5, conic: 0.05, trials: 1, ..spec("focus") };
+    let r = tolerance(&l, &s, None).unwrap();
+    let nominal = rms_um(&l);
+    assert!(common::rel(r.nominal.rms_radius_um.unwrap(), nominal) < 1e-12);
+    let by_hand = |id: &str, change: &dyn Fn(&mut catoptric::layout::Mirror, f64)| {
+        let mut sum = 0.0;
+        for sign in [1.0, -1.0] {
+            let mut p = l.clone();
+            change(mirror_mut(&mut p, id), sign);
+            sum += rms_um(&p) - nominal;
+        }
+        0.5 * sum
+    };
+    let row = |id: &str, param: &str| {
+        r.sensitivity.iter().find(|x| x.element == id && x.parameter == param).unwrap().d_rms_radius_um.unwrap()
+    };
+    let tilt = by_hand("secondary", &|m, s| m.axis_deg += s * 3.0 / 60.0);
+    let despace = by_hand("secondary", &|m, s| {
+        let a = m.axis_deg.to_radians();
+        m.vertex = [m.vertex[0] + s * 0.2 * a.sin(), m.vertex[1] + s * 0.2 * a.cos()];
+    });
+    let radius = by_hand("primary", &|m, s| m.profile.radius = m.profile.radius.map(|r| r * (1.0 + s * 0.005)));
+    let conic = by_hand("primary", &|m, s| m.profile.conic += s * 0.05);
+    for (got, want, what) in [
+        (row("secondary", "tilt"), tilt, "tilt"),
+        (row("secondary", "despace"), despace, "despace"),
+        (row("primary", "radius"), radius, "radius"),
+        (row("primary", "conic"), conic, "conic"),
+    ] {
+        assert!((got - want).abs() <= 1e-9 * want.abs().max(1.0), "{what}: {got} vs {want}");
+        assert!(want > 0.0, "{what}: an error makes the spot larger");
+    }
+    // Only kinds with a tolerance are listed: no decentre row.
+    assert!(r.sensitivity.iter().all(|x| x.parameter != "decenter"));
+    assert_eq!(r.sensitivity.len(), 8);
+}
+
+#[test]
+fn bad_input_exits_2_named() {
+    let cass = preset_path("cassegrain");
+    for (extra, flag) in [
+        (vec!["--screen", "eyepiece"], "--screen"),
+        (vec!["--screen", "focus", "--source", "moon"], "--source"),
+        (vec!["--screen", "focus", "--decenter-mm", "-1"], "--decenter-mm"),
+        (vec!["--screen", "focus", "--tilt-arcmin", "nan"], "--tilt-arcmin"),
+        (vec!["--screen", "focus", "--trials", "0"], "--trials"),
+        (vec!["--screen", "focus", "--rays", "0"], "--rays"),
+        (vec!["--screen", "focus", "--threads", "0"], "--threads"),
+        (vec!["--screen", "focus", "--radius-pct", "150"], "--radius-pct"),
+        (vec!["--screen", "focus", "--conic", "-0.5"], "--conic"),
+        (vec![], "--screen"),
+    ] {
+        let mut a = vec!["tolerance", cass.as_str()];
+        a.extend(extra.iter().copied());
+        a.push("--json");
+        let (code, out, err) = cli(&a);
+        assert_eq!(code, 2, "{a:?}: {err}");
+        assert!(out.is_empty(), "{a:?}: {out}");
+        assert_eq!(err.lines().count(), 1, "{err}");
+        assert!(err.contains(flag), "{a:?}: {err}");
+    }
+}
