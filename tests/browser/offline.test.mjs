@@ -16,7 +16,7 @@ import { cpSync, mkdtempSync, readFileSync, rmSync, writeFileSync, existsSync } 
 import { createServer } from 'node:http';
 import { tmpdir } from 'node:os';
 import { extname, join, normalize } from 'node:path';
-import { REPO, WWW, launchBrowser, settled } from './harness.mjs';
+import { REPO, WWW, launchBrowser, settled, startServer } from './harness.mjs';
 
 const SUB = '/tools/catoptric/';
 const TYPES = {
@@ -157,11 +157,57 @@ test('the page works offline after one visit and updates its copy atomically', {
     await settled(page);
     assert.equal(await page.evaluate(() => document.querySelector('meta[name="test-build"]')?.content), '2', 'the new version opens offline');
     await page.waitForFunction((v) => document.body.dataset.offlineVersion === v, v2, { timeout: 10_000 });
+
+    // With one page open, "Use it now" under Help switches to a newer
+    // version at once: the page reloads on it.
+    await context.setOffline(false);
+    await host.start(host.port);
+    writeFileSync(join(root, 'index.html'), html.replace('<title>', '<meta name="test-build" content="3"><title>'));
+    execFileSync(join(REPO, 'pkg-config', 'offline-list.sh'), [root]);
+    const v3 = versionOf(root);
+    assert.equal(await tryUpdate(), 'installed');
+    await page.waitForFunction(() => document.body.dataset.offline === 'update', null, { timeout: 10_000 });
+    await page.click('#btn-help');
+    assert.match(await page.textContent('#help-offline'), /newer version/);
+    await Promise.all([page.waitForEvent('load'), page.click('#help-offline-now')]);
+    await settled(page);
+    assert.equal(await page.evaluate(() => document.querySelector('meta[name="test-build"]')?.content), '3');
+    await page.waitForFunction((v) => document.body.dataset.offlineVersion === v, v3, { timeout: 10_000 });
+    assert.deepEqual(await cacheState(page), { [`catoptric-${v3}`]: files.length }, 'only the new copy is left');
     assert.deepEqual(errors, []);
     await context.close();
   } finally {
     await browser.close();
     if (host.server?.listening) await host.stop();
+    rmSync(root, { recursive: true, force: true });
+  }
+});
+
+test('under catoptric serve and its security policy the worker and the manifest load', { timeout: 120_000 }, async () => {
+  const root = mkdtempSync(join(tmpdir(), 'catoptric-offline-serve-'));
+  cpSync(WWW, root, { recursive: true });
+  execFileSync(join(REPO, 'pkg-config', 'offline-list.sh'), [root]);
+  const server = await startServer({ root });
+  const browser = await launchBrowser();
+  try {
+    const res = await fetch(`${server.url}manifest.webmanifest`);
+    assert.match(res.headers.get('content-type'), /^application\/manifest\+json/);
+    const manifest = await res.json();
+    assert.equal(manifest.start_url, './', 'relative start URL');
+    assert.ok(manifest.icons.every((i) => !i.src.startsWith('/')), 'relative icon URLs');
+    const context = await browser.newContext();
+    const page = await context.newPage();
+    const csp = [];
+    page.on('console', (m) => { if (/Content Security Policy/i.test(m.text())) csp.push(m.text()); });
+    await page.goto(server.url);
+    await settled(page);
+    await page.waitForFunction(() => ['ready', 'failed'].includes(document.body.dataset.offline), null, { timeout: 60_000 });
+    assert.equal(await page.evaluate(() => document.body.dataset.offline), 'ready');
+    assert.deepEqual(csp, [], 'nothing refused by the policy');
+    await context.close();
+  } finally {
+    await browser.close();
+    await server.stop();
     rmSync(root, { recursive: true, force: true });
   }
 });
