@@ -103,6 +103,12 @@ test('the page works offline after one visit and updates its copy atomically', {
     assert.ok(rays > 1000, `traced offline: ${rays} rays`);
     const hits = await page.evaluate(() => Number(document.querySelector('[data-stat="hits"]')?.dataset.value));
     assert.ok(hits > 1000, `hits on the screen offline: ${hits}`);
+    // A larger example runs on the worker pool, whose module workers come
+    // from the offline copy too.
+    await page.selectOption('#presets', 'solar-dish.json');
+    await page.waitForFunction(() => /dish/i.test(document.getElementById('layout-name').value), null, { timeout: 20_000 });
+    await settled(page);
+    assert.ok(Number(await page.getAttribute('#ro-time', 'data-workers')) >= 1, 'traced on the worker pool offline');
     assert.equal(host.requests, before, 'nothing reached the host');
 
     // A new build is published; one of its files fails at first.
