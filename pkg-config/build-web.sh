@@ -2,7 +2,9 @@
 # Builds the browser bundle into www/pkg: the library for wasm32, the
 # wasm-bindgen glue (ES module, --target web) and, when the npm tools are
 # installed, a wasm-opt -O3 pass. Skips the work when www/pkg is newer than
-# src/ and Cargo.toml (pass --force to rebuild anyway).
+# src/ and Cargo.toml (pass --force to rebuild anyway). Either way it then
+# writes www/pkg/offline.js, the service worker's file list and version
+# (pkg-config/offline-list.sh), so edits to the page make a new version.
 set -euo pipefail
 here="$(cd "$(dirname "$0")" && pwd)"
 repo="$(cd "$here/.." && pwd)"
@@ -17,6 +19,7 @@ if [[ "$force" == 0 && -f "$stamp" && -f "$out/catoptric.js" ]]; then
   newer="$(find src Cargo.toml Cargo.lock .cargo -newer "$stamp" -print -quit 2>/dev/null || true)"
   if [[ -z "$newer" ]]; then
     echo "build-web: $out is up to date"
+    "$here/offline-list.sh" "$repo/www"
     exit 0
   fi
 fi
@@ -48,3 +51,4 @@ rm -rf "$out"
 mv "$tmp" "$out"
 touch "$stamp"
 echo "build-web: $(du -h "$stamp" | cut -f1) $stamp"
+"$here/offline-list.sh" "$repo/www"

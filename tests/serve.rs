@@ -68,6 +68,8 @@ fn start_with(tag: &str, extra: &[&str]) -> Server {
     write(&www.join("presets/a.json"), b"{}");
     write(&www.join("icon.svg"), b"<svg xmlns='http://www.w3.org/2000/svg'/>");
     write(&www.join("shot.png"), b"\x89PNG\r\n\x1a\n");
+    write(&www.join("sw.js"), b"self.addEventListener('fetch', () => {});");
+    write(&www.join("manifest.webmanifest"), b"{\"name\": \"t\"}");
     write(&www.join("sub/index.html"), b"<!doctype html><p>sub</p>");
     write(&base.join("Cargo.toml"), b"SECRET-OUTSIDE-ROOT");
     #[cfg(unix)]
@@ -145,6 +147,11 @@ fn serves_files_with_their_content_types_and_security_headers() {
         ("/presets/a.json", "application/json"),
         ("/icon.svg", "image/svg+xml"),
         ("/shot.png", "image/png"),
+        // A service worker script must come with a JavaScript type (Service
+        // Workers, W3C, "Update" algorithm), the manifest with its own
+        // (Web App Manifest, W3C, media type registration).
+        ("/sw.js", "text/javascript"),
+        ("/manifest.webmanifest", "application/manifest+json"),
     ];
     for (path, ty) in cases {
         let r = request(&s, "GET", path);
@@ -155,6 +162,9 @@ fn serves_files_with_their_content_types_and_security_headers() {
         assert!(csp.contains("default-src 'self'"), "{path}: {csp}");
         assert!(csp.contains("'wasm-unsafe-eval'"), "{path}: {csp}");
         assert!(csp.contains("frame-ancestors 'none'"), "{path}: {csp}");
+        // The service worker and the manifest are allowed from this origin.
+        assert!(csp.contains("worker-src 'self'"), "{path}: {csp}");
+        assert!(csp.contains("manifest-src 'self'"), "{path}: {csp}");
         assert_eq!(r.header("X-Content-Type-Options"), Some("nosniff"), "{path}");
         assert_eq!(r.header("Cache-Control"), Some("no-cache"), "{path}");
     }

@@ -32,6 +32,9 @@ import { CausticLayer } from './views/caustic.js';
 import { updateCautions } from './views/cautions.js';
 import { exportAnalysis } from './views/analysis-export.js';
 import { psfReadout } from './views/image.js';
+import { openHelp, wireHelp } from './help.js';
+import { registerOffline } from './offline.js';
+import { ExportDialog } from './export-size.js';
 
 /** Most rays the page's own thread traces (previews and small layouts). */
 const MAIN_RAYS = 20_000;
@@ -946,7 +949,8 @@ class App {
     if (exportAnalysis(this, what)) return;
     const name = slug(this.layout.name);
     if (what === 'png') {
-      $('canvas').toBlob((b) => b && download(`${name}-drawing.png`, b), 'image/png');
+      this.exportDialog ??= new ExportDialog(this);
+      this.exportDialog.open();
     } else if (what === 'svg') {
       download(`${name}-drawing.svg`, new Blob([exportSvg(this)], { type: 'image/svg+xml' }));
     } else if (what === 'spot-png') {
@@ -981,7 +985,7 @@ class App {
     $('btn-open').onclick = () => $('file-input').click();
     $('file-input').onchange = (e) => { this.loadFile(e.target.files[0]); e.target.value = ''; };
     $('btn-share').onclick = () => this.share();
-    $('btn-help').onclick = () => { $('help').hidden = false; };
+    wireHelp(this);
     $('btn-theme').onclick = () => this.setTheme(document.documentElement.dataset.theme === 'dark' ? 'light' : 'dark');
     $('message-close').onclick = () => this.clearMessage();
     $('btn-delete').onclick = () => this.deleteSelected();
@@ -1086,7 +1090,7 @@ class App {
     else if (k === 'a' || k === 'A') this.drawer.open(!this.drawer.isOpen());
     else if (k === 'd' || k === 'D') this.duplicateSelected();
     else if (k === 'x' || k === 'X') this.flipSelected();
-    else if (k === '?') $('help').hidden = false;
+    else if (k === '?') openHelp();
   }
 
   // ---- start ----------------------------------------------------------------------------------
@@ -1199,6 +1203,8 @@ async function main() {
   document.body.dataset.ready = 'true';
   // A spare module instance, so a trap is recovered from at once.
   prepareSpare();
+  // The offline copy is made once the page has started.
+  registerOffline();
 }
 
 main();

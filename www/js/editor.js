@@ -107,8 +107,11 @@ export class Editor {
     this.app.requestDraw();
   }
 
-  /** Zooms and pans so the whole layout (outlines, sources, fan ends) fits. */
-  fit() {
+  /**
+   * Zooms and pans so the whole layout (outlines, sources, fan ends) fits;
+   * `toolbox` leaves room for the floating toolbox (false for exports).
+   */
+  fit(toolbox = true) {
     const g = this.app.geom;
     let ymin = Infinity, ymax = -Infinity, zmin = Infinity, zmax = -Infinity;
     const add = (y, z) => {
@@ -126,13 +129,13 @@ export class Editor {
     if (!Number.isFinite(ymin)) { this.view = { k: 0.5, cy: 0, cz: 500 }; this.app.requestDraw(); return; }
     const span = Math.max(ymax - ymin, zmax - zmin, 1e-3);
     const pad = 0.1 * span;
-    const w = Math.max(50, this.size.w - 190); // room for the toolbox
+    const w = Math.max(50, this.size.w - (toolbox ? 190 : 40)); // room for the toolbox
     const h = Math.max(50, this.size.h - 40);
     const k = Math.min(w / (zmax - zmin + 2 * pad), h / (ymax - ymin + 2 * pad));
     this.view = {
       k: Number.isFinite(k) && k > 0 ? k : 1,
       cy: (ymin + ymax) / 2,
-      cz: (zmin + zmax) / 2 - 80 / (Number.isFinite(k) && k > 0 ? k : 1),
+      cz: (zmin + zmax) / 2 - (toolbox ? 80 : 0) / (Number.isFinite(k) && k > 0 ? k : 1),
     };
     this.app.requestDraw();
   }

@@ -21,6 +21,40 @@ export function download(name, blob) {
   setTimeout(() => URL.revokeObjectURL(url), 10_000);
 }
 
+/** Largest side and area of an exported picture, px (well inside browser canvas limits). */
+export const MAX_SIDE = 8192;
+export const MAX_AREA = 40e6;
+
+/**
+ * The drawing rendered into an offscreen canvas of `width` × `height` px,
+ * whatever the canvas's size on the page. Lines and text scale with the
+ * picture as if the on-screen drawing were magnified to `width`; with `fit`
+ * the whole layout is framed, else the view on screen keeps its centre and
+ * zoom. The selection and any half-drawn mirror are left out.
+ */
+export function renderDrawing(app, { width, height, fit = false }) {
+  const ed = app.editor;
+  const saved = { ctx: ed.ctx, size: ed.size, view: { ...ed.view }, autoFit: ed.autoFit, draft: ed.draft, hover: ed.hover, selection: app.selection };
+  const out = document.createElement('canvas');
+  out.width = width;
+  out.height = height;
+  const dpr = width / saved.size.w;
+  try {
+    ed.ctx = out.getContext('2d');
+    ed.size = { w: saved.size.w, h: height / dpr, dpr };
+    ed.draft = [];
+    ed.hover = null;
+    app.selection = null;
+    if (fit) ed.fit(false);
+    ed.draw();
+  } finally {
+    Object.assign(ed, { ctx: saved.ctx, size: saved.size, view: saved.view, autoFit: saved.autoFit, draft: saved.draft, hover: saved.hover });
+    app.selection = saved.selection;
+    app.requestDraw();
+  }
+  return out;
+}
+
 /** CSV of the hits on the chosen screen: screen, source, u_mm, v_mm, power_w. */
 export function exportCsv(app) {
   const res = app.result;

@@ -44,10 +44,12 @@ pub struct ServeArgs {
     pub head_timeout_ms: u64,
 }
 
-/// Content-Security-Policy sent with every response.
+/// Content-Security-Policy sent with every response. `worker-src 'self'`
+/// admits the page's trace workers and its service worker (www/sw.js),
+/// `manifest-src 'self'` its web app manifest.
 pub const CSP: &str = "default-src 'self'; script-src 'self' 'wasm-unsafe-eval'; style-src 'self'; \
-img-src 'self' data: blob:; connect-src 'self'; worker-src 'self' blob:; object-src 'none'; \
-base-uri 'none'; frame-ancestors 'none'";
+img-src 'self' data: blob:; connect-src 'self'; worker-src 'self' blob:; manifest-src 'self'; \
+object-src 'none'; base-uri 'none'; frame-ancestors 'none'";
 
 /// Why a request path was refused.
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
@@ -146,6 +148,7 @@ pub fn content_type(path: &Path) -> &'static str {
         Some("js" | "mjs") => "text/javascript; charset=utf-8",
         Some("css") => "text/css; charset=utf-8",
         Some("json" | "map") => "application/json",
+        Some("webmanifest") => "application/manifest+json",
         Some("wasm") => "application/wasm",
         Some("svg") => "image/svg+xml",
         Some("png") => "image/png",
@@ -485,6 +488,8 @@ mod tests {
         assert!(content_type(Path::new("a.JS")).starts_with("text/javascript"));
         assert!(content_type(Path::new("index.html")).starts_with("text/html"));
         assert_eq!(content_type(Path::new("x.svg")), "image/svg+xml");
+        // Web App Manifest (W3C), §"Media type registration".
+        assert_eq!(content_type(Path::new("manifest.webmanifest")), "application/manifest+json");
         assert_eq!(content_type(Path::new("noext")), "application/octet-stream");
     }
 }
