@@ -25,7 +25,7 @@ import { Props } from './props.js';
 import { Drawer } from './drawer.js';
 import { TracePool } from './pool.js';
 import { applyTheme, initialTheme, readTheme } from './theme.js';
-import { fmtInt, fmtNum, statInfo, withUnit } from './format.js';
+import { fmtInt, fmtNum, fmtStat, sceneScale, statInfo, statUnit } from './format.js';
 import { exportCsv, exportSvg, download, slug } from './export.js';
 import { collectAnalysis } from './views/data.js';
 import { CausticLayer } from './views/caustic.js';
@@ -846,9 +846,11 @@ class App {
       span.title = `${info.title}${extra}`;
       span.dataset.readout = key;
       const b = document.createElement('b');
-      // Large micrometre figures read better in millimetres.
+      // The statistics table's formatter: lengths switch unit (µm → mm → m),
+      // shifts below the scene's noise read 0.
+      const unit = statUnit(key, Math.abs(value));
       b.textContent = key === 'hits' ? fmtInt(value)
-        : info.unit === 'µm' && Math.abs(value) >= 1e4 ? withUnit(value / 1000, 'mm') : withUnit(value, info.unit);
+        : `${fmtStat(key, value, { unit, scale: sceneScale(this.layout) })}${unit ? `\u2009${unit}` : ''}`;
       span.append(`${info.label} `, b);
       box.append(span);
     };

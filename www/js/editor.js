@@ -7,6 +7,7 @@
 
 import { sourceColour } from './palette.js';
 import { fmtLength } from './format.js';
+import { scaleBar } from './views/plot.js';
 
 const HANDLE = 7;      // px, half-size of square handles / radius of round ones
 const ROT_ARM = 64;    // px, rotation handle distance from the anchor
@@ -91,13 +92,14 @@ export class Editor {
     const dpr = window.devicePixelRatio || 1;
     // While the view is still the automatic fit (nothing panned, zoomed or
     // clicked since), a new size fits again: a caution or message strip that
-    // appears after a file opens must not clip the layout. Otherwise, when
-    // the canvas's top edge moves (such a strip appears above it while the
-    // user works), the drawing stays where it is on the page instead of
-    // jumping under the pointer; other size changes keep the centre.
+    // appears after a file opens must not clip the layout. Otherwise the
+    // drawing stays where it is on the page when the canvas's top or bottom
+    // edge moves (a strip appears above it, the readout below wraps to a
+    // second line, the drawer is dragged) instead of jumping under the
+    // pointer; a change of width keeps the centre.
     const top = this.pageTop;
     this.pageTop = r.top;
-    if (!this.autoFit && top !== undefined && r.top !== top && this.size.h > 1) {
+    if (!this.autoFit && top !== undefined && (r.top !== top || r.height !== this.size.h) && this.size.h > 1) {
       this.view.cy -= (r.top - top + (r.height - this.size.h) / 2) / this.view.k;
     }
     this.size = { w: Math.max(1, r.width), h: Math.max(1, r.height), dpr };
@@ -127,12 +129,16 @@ export class Editor {
     const span = Math.max(ymax - ymin, zmax - zmin, 1e-3);
     const pad = 0.1 * span;
     const w = Math.max(50, this.size.w - 190); // room for the toolbox
-    const h = Math.max(50, this.size.h - 40);
+    // The folded sun caution lies over the top of the drawing.
+    const caution = document.getElementById('sun-caution');
+    const inset = caution && !caution.hidden && caution.dataset.expanded !== 'true' ? caution.getBoundingClientRect().height : 0;
+    const h = Math.max(50, this.size.h - 40 - inset);
     const k = Math.min(w / (zmax - zmin + 2 * pad), h / (ymax - ymin + 2 * pad));
+    const kk = Number.isFinite(k) && k > 0 ? k : 1;
     this.view = {
-      k: Number.isFinite(k) && k > 0 ? k : 1,
-      cy: (ymin + ymax) / 2,
-      cz: (zmin + zmax) / 2 - 80 / (Number.isFinite(k) && k > 0 ? k : 1),
+      k: kk,
+      cy: (ymin + ymax) / 2 + inset / (2 * kk),
+      cz: (zmin + zmax) / 2 - 80 / kk,
     };
     this.app.requestDraw();
   }
@@ -225,15 +231,8 @@ export class Editor {
     const { h } = this.size;
     const len = niceStep(110 / this.view.k);
     const px = len * this.view.k;
-    const x = 16, y = h - 16;
-    ctx.strokeStyle = th.ink;
-    ctx.fillStyle = th.ink;
-    ctx.lineWidth = 2;
-    ctx.beginPath();
-    ctx.moveTo(x, y - 5); ctx.lineTo(x, y); ctx.lineTo(x + px, y); ctx.lineTo(x + px, y - 5);
-    ctx.stroke();
     ctx.font = '12px system-ui, sans-serif';
-    ctx.fillText(fmtLength(len), x + px + 6, y + 1);
+    scaleBar(ctx, 16, h - 16, px, fmtLength(len), th.ink);
   }
 
   drawFan(th) {

@@ -33,6 +33,17 @@ export function prepareCanvas(canvas, minSide, bg) {
 }
 
 
+/** A scale bar of `px` pixels with its end ticks at (x, y), labelled `text`. */
+export function scaleBar(ctx, x, y, px, text, ink) {
+  ctx.strokeStyle = ink;
+  ctx.fillStyle = ink;
+  ctx.lineWidth = 2;
+  ctx.beginPath();
+  ctx.moveTo(x, y - 5); ctx.lineTo(x, y); ctx.lineTo(x + px, y); ctx.lineTo(x + px, y - 5);
+  ctx.stroke();
+  ctx.fillText(text, x + px + 6, y + 1);
+}
+
 const M = { left: 62, right: 14, top: 24, bottom: 38 };
 const MINUS = '\u2212';
 
