@@ -73,7 +73,7 @@ export class DrawerSize {
       if (pos === 'absolute' || pos === 'fixed') continue;
       other += el.getBoundingClientRect().height;
     }
-    return Math.max(MIN_DRAWER_PX, window.innerHeight - other - this.cautionLine() - MIN_DRAWING_PX);
+    return Math.max(MIN_DRAWER_PX, Math.floor(window.innerHeight - other - this.cautionLine() - MIN_DRAWING_PX));
   }
 
   /** Height of the folded sun caution over the drawing (0 without one). */

@@ -251,6 +251,7 @@ export class SpotView {
       }
       airyDrawn = this.drawPanel(ctx, { x0, y0, w: pw, h: ph }, g, hits, srcIndex, scale, sc, n > 1) || airyDrawn;
     });
+    this.airyDrawn = airyDrawn;
     if (airyDrawn) {
       ctx.fillStyle = th.ink2;
       ctx.textAlign = 'right';
