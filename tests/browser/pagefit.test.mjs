@@ -215,4 +215,33 @@ describe('the page at laptop sizes', () => {
       await ctx.close();
     }
   });
+
+  test('free-form: revolved when chosen while drawing, knots off the 10 mm grid with Alt, edge sag including the departure', async () => {
+    const { ctx, page, seen } = await openPage(1280, 800);
+    try {
+      await page.click('#toolbox [data-tool="freeform"]');
+      await page.selectOption('#freeform-form', 'revolved');
+      const c = await page.locator('#canvas').boundingBox();
+      const clicks = [[400, 150], [437, 300], [400, 450]];
+      for (const [x, y] of clicks) await page.mouse.click(c.x + x, c.y + y, { modifiers: ['Alt'] });
+      const world = await page.evaluate((pts) => pts.map(([x, y]) => window.catoptric.editor.toWorld(x, y)), clicks);
+      await page.keyboard.press('Enter');
+      await settled(page);
+      const m = await page.evaluate(() => window.catoptric.layout.elements.at(-1));
+      assert.equal(m.form, 'revolved');
+      // The middle knot's distance from the chord (plane geometry) is the
+      // sag of the rim measured from the surface on the axis.
+      const [a, mid, b] = world;
+      const ty = b[0] - a[0], tz = b[1] - a[1];
+      const dist = Math.abs((mid[0] - a[0]) * tz - (mid[1] - a[1]) * ty) / Math.hypot(ty, tz);
+      const text = await page.textContent('#props .derived');
+      const got = Number(/edge sag ([\d.]+)\u2009mm/.exec(text)?.[1]);
+      assert.ok(Math.abs(got - dist) < 0.2, `edge sag ${text}, drawn ${dist} mm`);
+      // Alt placed the middle knot off the grid step.
+      assert.ok(m.profile.departure.some(([, z]) => Math.abs(z - Math.round(z / 10) * 10) > 1e-6), JSON.stringify(m.profile.departure));
+      assert.deepEqual(seen.errors, []);
+    } finally {
+      await ctx.close();
+    }
+  });
 });

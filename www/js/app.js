@@ -523,9 +523,9 @@ class App {
     this.select({ list, index: this.layout[list].length - 1 });
   }
 
-  addFreeform({ vertex, axis_deg, knots, diameter, offset }) {
-    const item = { kind: 'mirror', id: this.uniqueId('freeform'), vertex, axis_deg, form: 'extruded',
-      length: diameter, profile: { radius: null, departure: knots }, aperture: { diameter, offset } };
+  addFreeform({ vertex, axis_deg, form = 'extruded', knots, diameter, offset }) {
+    const item = { kind: 'mirror', id: this.uniqueId('freeform'), vertex, axis_deg, form,
+      ...(form === 'extruded' ? { length: diameter } : {}), profile: { radius: null, departure: knots }, aperture: { diameter, offset } };
     const err = this.edit((L) => { L.elements.push(item); });
     if (err) { this.message(`Could not make the free-form mirror: ${err}`); return; }
     this.select({ list: 'elements', index: this.layout.elements.length - 1 });

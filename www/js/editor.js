@@ -13,6 +13,10 @@ const HANDLE = 7;      // px, half-size of square handles / radius of round ones
 const ROT_ARM = 64;    // px, rotation handle distance from the anchor
 const PICK = 7;        // px, pick distance for lines
 const DRAG_START = 3;  // px of motion before a press becomes a drag
+/** Free-form knots snap to the grid step over this (a 10 mm grid places knots to 1 mm)… */
+const KNOT_SNAP_DIVISOR = 10;
+/** …or over this with Alt held (practically where the pointer is). */
+const FREE_SNAP_DIVISOR = 1000;
 
 const deg = Math.PI / 180;
 
@@ -65,6 +69,7 @@ export class Editor {
     this.grid = true;
     this.tool = 'select';
     this.draft = [];        // free-form knots being drawn (world [y, z])
+    this.freeformForm = 'extruded'; // the form the free-form tool makes (chosen in its hint)
     this.pointer = null;    // current press: {kind, ...}
     this.hover = null;      // world point under the pointer
     this.size = { w: 1, h: 1, dpr: 1 };
@@ -164,11 +169,29 @@ export class Editor {
       beam: 'Click where the beam’s centre goes (Esc cancels)',
       lamp: 'Click where the lamp goes (Esc cancels)',
       sun: 'Click where the sunlight enters (Esc cancels)',
-      freeform: 'Click knots along the mirror face; double-click or Enter finishes, Backspace removes the last knot, Esc cancels',
+      freeform: 'Click knots along the mirror face (Alt: no snap); double-click or Enter finishes, Backspace removes the last knot, Esc cancels.',
     };
     this.app.showHint(hints[tool] || '');
+    if (tool === 'freeform') this.formChooser();
     this.app.toolChanged(tool);
     this.app.requestDraw();
+  }
+
+  /** The revolved / extruded choice in the free-form tool's hint. */
+  formChooser() {
+    const hint = document.getElementById('tool-hint');
+    if (!hint) return;
+    const label = document.createElement('label');
+    label.className = 'hint-choice';
+    label.title = 'Revolved: a mirror of revolution about the middle of the drawn chord. Extruded: the drawn section swept along x (a trough).';
+    const sel = document.createElement('select');
+    sel.id = 'freeform-form';
+    sel.setAttribute('aria-label', 'Free-form mirror form');
+    sel.append(new Option('revolved', 'revolved'), new Option('extruded (trough)', 'extruded'));
+    sel.value = this.freeformForm;
+    sel.onchange = () => { this.freeformForm = sel.value; this.canvas.focus({ preventScroll: true }); };
+    label.append(' Form: ', sel);
+    hint.append(label);
   }
 
   // ---- drawing ----------------------------------------------------------
@@ -539,8 +562,7 @@ export class Editor {
     if (e.button !== 0) return;
     if (this.tool === 'freeform') {
       if (e.detail > 1) return; // the second click of a double-click
-      const st = this.step();
-      this.draft.push([roundTo(w[0], st), roundTo(w[1], st)]);
+      this.draft.push(this.knotAt(w, e.altKey));
       this.app.requestDraw();
       return;
     }
@@ -639,7 +661,22 @@ export class Editor {
     if (p && p.kind !== 'pan' && p.moved) this.app.endGesture();
   }
 
-  /** Turns the drawn knots into an extruded free-form mirror. */
+  /**
+   * Where a free-form knot goes for the pointer at `w`: on a tenth of the
+   * grid step, so a sag comes in fine steps (1 mm on a 10 mm grid), or
+   * where the pointer is (to a thousandth of the step) with Alt held.
+   */
+  knotAt(w, free) {
+    const st = this.step() / (free ? FREE_SNAP_DIVISOR : KNOT_SNAP_DIVISOR);
+    return [roundTo(w[0], st), roundTo(w[1], st)];
+  }
+
+  /**
+   * Turns the drawn knots into a free-form mirror of the form chosen in the
+   * hint (`this.freeformForm`): extruded, the knots' signed distance along
+   * the chord; revolved, about the chord's middle, each knot at its
+   * distance from the middle (a knot on either side gives the same ring).
+   */
   finishFreeform() {
     const pts = this.draft;
     this.draft = [];
@@ -663,22 +700,25 @@ export class Editor {
       th += Math.PI;
       knots = pts.map((p) => local(p, th));
     }
+    const revolved = this.freeformForm === 'revolved';
+    if (revolved) knots = knots.map(([r, z]) => [Math.abs(r), z]);
     knots.sort((p, q) => p[0] - q[0]);
     const st = this.step() / 10;
     const clean = [];
     for (const [r, z] of knots) {
-      const rr = roundTo(r, st), zz = roundTo(z, st / 10);
+      const rr = roundTo(r, st / 10), zz = roundTo(z, st / 100);
       if (!clean.length || rr > clean[clean.length - 1][0]) clean.push([rr, zz]);
     }
     if (clean.length < 2) { this.setTool('select'); return; }
-    const lo = clean[0][0], hi = clean[clean.length - 1][0];
+    const lo = revolved ? -clean[clean.length - 1][0] : clean[0][0], hi = clean[clean.length - 1][0];
     const axis = roundTo(((th / deg) % 360 + 360) % 360, 0.01);
     this.app.addFreeform({
       vertex: [roundTo(mid[0], st), roundTo(mid[1], st)],
       axis_deg: axis,
+      form: revolved ? 'revolved' : 'extruded',
       knots: clean,
-      diameter: roundTo(hi - lo, st),
-      offset: roundTo((hi + lo) / 2, st),
+      diameter: roundTo(hi - lo, st / 10),
+      offset: revolved ? 0 : roundTo((hi + lo) / 2, st / 10),
     });
     this.setTool('select');
   }

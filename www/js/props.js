@@ -4,7 +4,7 @@
 // with the session's message under it, while the layout keeps its last
 // valid state.
 
-import { fmtInt, fmtNum, withUnit } from './format.js';
+import { fmtInt, fmtLength, fmtNum, withUnit } from './format.js';
 import { dayDate } from './views/day.js';
 
 /** Dotted field path as the session reports it: elements[0].profile.conic. */
@@ -360,13 +360,22 @@ export class Props {
       if (!it || it.kind !== 'mirror') return;
       const r = it.profile.radius;
       const d = it.aperture.diameter;
-      const rhoMax = Math.abs(it.aperture.offset ?? 0) + d / 2;
-      const sag = app.session.sag_at(ei, rhoMax);
+      // The rim's sag from the surface on the axis, departure included (a
+      // drawn free-form mirror's knots may put the axis point well off the
+      // vertex); an extruded strip's farther edge.
+      const off = it.aperture.offset ?? 0;
+      const rims = it.form === 'extruded' ? [off - d / 2, off + d / 2] : [Math.abs(off) + d / 2];
+      const s0 = app.session.sag_at(ei, 0);
+      let sag;
+      for (const rho of rims) {
+        const v = app.session.sag_at(ei, rho);
+        if (v !== undefined && s0 !== undefined && (sag === undefined || Math.abs(v - s0) > Math.abs(sag))) sag = v - s0;
+      }
       const parts = [];
       if (r) parts.push(`f = ${withUnit(r / 2, 'mm')}`, `f/${fmtNum(Math.abs(r / 2) / d, 3)}`);
-      if (sag !== undefined) parts.push(`edge sag ${withUnit(sag, 'mm')}`);
+      if (sag !== undefined) parts.push(`edge sag ${fmtLength(sag)}`);
       info.textContent = parts.join(' · ');
-      info.title = 'Paraxial focal length f = R/2, focal ratio f/D, and the sag at the edge of the aperture';
+      info.title = 'Paraxial focal length f = R/2, focal ratio f/D, and the sag at the edge of the aperture measured from the surface on the mirror axis (conic, aspheric terms and departure)';
     };
     update();
     this.derived.push(update);
