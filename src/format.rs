@@ -4,8 +4,9 @@
 //! against.
 //!
 //! - [`sig`]: about `n` significant digits, trailing zeros dropped, an
-//!   exponent form (`1.58×10⁷`) below 10⁻⁴ and from 10⁶, thin-space
-//!   thousands from 10⁴, a true minus sign, never a signed zero.
+//!   exponent form (`1.58×10⁷`) below 10⁻⁴ and from 10⁶, thousands
+//!   grouped from 10⁴ by a narrow no-break space (U+202F: thin, and no line
+//!   breaks inside a number or between it and its unit), a true minus sign, never a signed zero.
 //! - [`length_mm`] / [`spot_um`]: a length in the readable unit — µm below
 //!   1 mm, mm, m from 1 m (a sun's spot on a facade reads 8.6 m, not
 //!   8.6×10⁶ µm).
@@ -25,7 +26,7 @@ pub const LENGTH_NOISE_MM: f64 = 1e-8;
 /// A position or shift below this fraction of the scene's size reads 0.
 pub const SCENE_NOISE_REL: f64 = 1e-6;
 
-const THIN: char = '\u{2009}';
+const THIN: char = '\u{202f}';
 const MINUS: char = '\u{2212}';
 
 /// `v` with about `n` significant digits (see the module docs).

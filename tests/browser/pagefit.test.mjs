@@ -235,7 +235,7 @@ describe('the page at laptop sizes', () => {
       const ty = b[0] - a[0], tz = b[1] - a[1];
       const dist = Math.abs((mid[0] - a[0]) * tz - (mid[1] - a[1]) * ty) / Math.hypot(ty, tz);
       const text = await page.textContent('#props .derived');
-      const got = Number(/edge sag ([\d.]+)\u2009mm/.exec(text)?.[1]);
+      const got = Number(/edge sag ([\d.]+)\u202fmm/.exec(text)?.[1]);
       assert.ok(Math.abs(got - dist) < 0.2, `edge sag ${text}, drawn ${dist} mm`);
       // Alt placed the middle knot off the grid step.
       assert.ok(m.profile.departure.some(([, z]) => Math.abs(z - Math.round(z / 10) * 10) > 1e-6), JSON.stringify(m.profile.departure));

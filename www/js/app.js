@@ -850,7 +850,7 @@ class App {
       // shifts below the scene's noise read 0.
       const unit = statUnit(key, Math.abs(value));
       b.textContent = key === 'hits' ? fmtInt(value)
-        : `${fmtStat(key, value, { unit, scale: sceneScale(this.layout) })}${unit ? `\u2009${unit}` : ''}`;
+        : `${fmtStat(key, value, { unit, scale: sceneScale(this.layout) })}${unit ? `\u202f${unit}` : ''}`;
       span.append(`${info.label} `, b);
       box.append(span);
     };

@@ -18,6 +18,9 @@ const KNOT_SNAP_DIVISOR = 10;
 /** …or over this with Alt held (practically where the pointer is). */
 const FREE_SNAP_DIVISOR = 1000;
 
+/** Height of a drawing label's box, px (12 px type). */
+const LABEL_H = 13;
+
 const deg = Math.PI / 180;
 
 /** Direction (y, z) of an angle in degrees from +z toward +y. */
@@ -194,10 +197,26 @@ export class Editor {
     hint.append(label);
   }
 
+  /**
+   * Writes a label at (x, y) (baseline, left), or at the first nearby
+   * place (below, above, to the left, further off) where it overlaps no
+   * label written earlier in this frame; `fixed` labels stay where asked.
+   */
+  placeLabel(text, x, y, fixed = false) {
+    const { ctx } = this;
+    const w = ctx.measureText(text).width;
+    const free = (bx, by) => !this.labelBoxes.some((b) => bx < b.x + b.w + 3 && b.x < bx + w + 3 && by - LABEL_H < b.y && b.y - LABEL_H < by);
+    const tries = fixed ? [[0, 0]] : [[0, 0], [0, LABEL_H + 2], [0, -LABEL_H - 2], [-w - 14, 0], [0, 2 * LABEL_H + 4], [0, -2 * LABEL_H - 4], [-w - 14, LABEL_H + 2]];
+    const [dx, dy] = tries.find(([ax, ay]) => free(x + ax, y + ay)) ?? [0, 0];
+    ctx.fillText(text, x + dx, y + dy);
+    this.labelBoxes.push({ x: x + dx, y: y + dy, w });
+  }
+
   // ---- drawing ----------------------------------------------------------
   draw() {
     const { ctx } = this;
     const { w, h, dpr } = this.size;
+    this.labelBoxes = [];
     const th = this.app.theme;
     ctx.setTransform(dpr, 0, 0, dpr, 0, 0);
     ctx.fillStyle = th.bg;
@@ -245,8 +264,8 @@ export class Editor {
     // axis names
     ctx.fillStyle = th.label;
     ctx.font = '11px system-ui, sans-serif';
-    ctx.fillText('z', w - 14, Math.min(h - 6, Math.max(12, oy - 4)));
-    ctx.fillText('y', Math.min(w - 10, Math.max(4, ox + 4)), 12);
+    this.placeLabel('z', w - 14, Math.min(h - 6, Math.max(12, oy - 4)), true);
+    this.placeLabel('y', Math.min(w - 10, Math.max(4, ox + 4)), 12, true);
   }
 
   drawScaleBar(th) {
@@ -341,7 +360,7 @@ export class Editor {
         const j = start + count - 1;
         const [x, y] = this.toScreen(g.outline[2 * j], g.outline[2 * j + 1]);
         ctx.fillStyle = th.label;
-        ctx.fillText(el.id, x + 6, y - 6);
+        this.placeLabel(el.id, x + 6, y - 6);
       }
     }
   }
@@ -390,7 +409,7 @@ export class Editor {
           ctx.stroke();
         }
         ctx.fillStyle = th.label;
-        ctx.fillText(s.id, cx + px * r + 6, cy + py * r + 4);
+        this.placeLabel(s.id, cx + px * r + 6, cy + py * r + 4);
       } else {
         const half = Math.min(180, s.cone_half_angle_deg) * deg;
         const len = 42;
@@ -412,7 +431,7 @@ export class Editor {
         ctx.arc(cx, cy, 5, 0, 2 * Math.PI);
         ctx.fill();
         ctx.fillStyle = th.label;
-        ctx.fillText(s.id, cx + 8, cy - 8);
+        this.placeLabel(s.id, cx + 8, cy - 8);
       }
     });
   }

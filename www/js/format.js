@@ -2,9 +2,9 @@
 // A figure's key is the JSON key of the statistics report (docs/FORMATS.md §3);
 // its unit comes from the key's suffix.
 
-const THIN = '\u2009';
+const THIN = '\u202f'; // narrow no-break space: thin, and never a line break
 
-/** Integer with thin-space thousands separators: 20 000. */
+/** Integer with thousands grouped by a narrow no-break space: 20 000 (never split across lines). */
 export function fmtInt(n) {
   if (!Number.isFinite(n)) return '–';
   const s = Math.round(Math.abs(n)).toString().replace(/\B(?=(\d{3})+(?!\d))/g, THIN);

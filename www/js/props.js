@@ -230,7 +230,7 @@ export class Props {
     const ns = L.elements.length - nm;
     const rays = L.sources.reduce((a, x) => a + x.rays, 0);
     this.note(s, `${nm} mirror${nm === 1 ? '' : 's'}, ${ns} screen${ns === 1 ? '' : 's'}, ${L.sources.length} source${L.sources.length === 1 ? '' : 's'}; ${fmtInt(rays)} rays in a full trace.`);
-    this.note(s, 'Click an item in the drawing to edit it, or add one with the toolbox on the left. Above 20 000 rays (or with many bounces) the full trace runs in the background while a quicker preview follows your edits; a layout that could take minutes waits until you ask for it.');
+    this.note(s, 'Click an item in the drawing to edit it, or add one with the toolbox on the left. Above 20\u202f000 rays (or with many bounces) the full trace runs in the background while a quicker preview follows your edits; a layout that could take minutes waits until you ask for it.');
     this.derived = [];
     this.siteForm(L);
   }
@@ -386,7 +386,7 @@ export class Props {
     const g0 = this.group('Identity and placement');
     this.idField(g0, base);
     this.placement(g0, base, s, 'center', 'axis_deg', 'facing', 'Direction the sensitive face looks, degrees from +z toward +y; light arriving against this direction is recorded');
-    const g = this.group('Detector');
+    const g = this.group('Screen');
     this.field(g, { label: 'size', unit: 'mm', type: 'number', path: [...base, 'size'], title: 'Side of a square screen or diameter of a round one' });
     this.field(g, { label: 'shape', type: 'select', path: [...base, 'shape'], options: [['square', 'square'], ['circle', 'round']], title: 'Outline of the screen' });
     this.field(g, { label: 'opaque', type: 'check', path: [...base, 'opaque'], def: false, title: 'An opaque screen stops the light it records; a clear one lets it pass (a virtual detector)' });

@@ -155,7 +155,7 @@ fn source_lines(s: &mut String, b: &catoptric::analysis::SourceReport, scale: f6
     let _ = writeln!(
         s,
         "    best focus {} (+ along the screen axis), RMS at best {}; working f/{}, Airy radius {} (1.22 λN)",
-        opt(b.best_focus_shift_mm.map(|x| format!("{}\u{2009}mm", position_mm(x, scale, 5))), "—"),
+        opt(b.best_focus_shift_mm.map(|x| format!("{}\u{202f}mm", position_mm(x, scale, 5))), "—"),
         spot(b.rms_radius_at_best_um),
         opt(b.f_number.map(|x| sig(x, 4)), "—"),
         spot(b.airy_radius_um),
