@@ -244,4 +244,52 @@ describe('the page at laptop sizes', () => {
       await ctx.close();
     }
   });
+
+  test('messages: the page’s labels and plain words, shown once, cleared by the next good edit', async () => {
+    const { ctx, page, seen } = await openPage(1280, 800);
+    try {
+      // A radius too short for the aperture: the core names the diameter
+      // ((1+K)c²ρ² ≥ 1 past the conic's domain, docs/FORMATS.md §2).
+      const v = await page.evaluate(() => window.catoptric.layout.elements[0].vertex);
+      await page.evaluate((vv) => window.catoptric.select({ list: 'elements', index: 0 }), v);
+      await page.locator('#props input[data-path$="profile.conic"]').fill('0');
+      await settled(page);
+      const radius = page.locator('#props input[data-path$="profile.radius"]:visible').first();
+      await radius.waitFor();
+      // R (or f) of 40 mm: a sphere of that radius cannot reach 100 mm out.
+      await radius.fill('40');
+      await page.waitForFunction(() => document.querySelectorAll('#props .field-error:not([hidden])').length > 0);
+      const errs = await page.$$eval('#props .field-error:not([hidden])', (els) => els.map((e) => e.textContent));
+      assert.equal(errs.length, 1, `one message: ${JSON.stringify(errs)}`);
+      assert.match(errs[0], /^diameter: /);
+      assert.doesNotMatch(errs[0], /elements\[|expected f64/);
+      assert.equal(await page.locator('#props .field.invalid').count(), 2, 'both fields are marked');
+      await radius.fill('2000');
+      await page.waitForFunction(() => document.querySelectorAll('#props .field.invalid').length === 0);
+
+      // A message about an entry goes when the next edit goes through.
+      await page.evaluate(() => window.catoptric.message('elements[0].aperture.diameter: must be a number, not the text "x"', 'error', { input: true }));
+      assert.equal(await page.textContent('#message-text'), 'mirror “primary”, diameter: must be a number, not the text "x"');
+      await radius.fill('2100');
+      await page.waitForFunction(() => document.getElementById('message').hidden);
+
+      // Designers: an impossible off-axis segment and a very fast primary are flagged.
+      await openDrawer(page, 'designers');
+      const off = page.locator('#off-axis-form [name="offset"]');
+      await off.fill('50');
+      await page.waitForFunction(() => /across the parent axis/.test(document.querySelector('#off-axis .design-warning')?.textContent ?? ''));
+      await page.fill('#two-mirror-form [name="primary_focal"]', '300');
+      await page.waitForFunction(() => /faster than f\/1\.5/.test(document.querySelector('#two-mirror .design-warning')?.textContent ?? ''));
+
+      // The conic list takes commas, semicolons and spaces.
+      await openDrawer(page, 'conics');
+      await page.fill('#conics-form [name="conics"]', '0; -1 -2');
+      await page.waitForFunction(() => document.getElementById('conics-out')?.dataset.state === 'ok');
+      const ks = await page.$$eval('#conics-table thead th', (els) => els.map((e) => e.textContent).slice(1));
+      assert.deepEqual(ks, ['0', '−1', '−2']);
+      assert.deepEqual(seen.errors, []);
+    } finally {
+      await ctx.close();
+    }
+  });
 });

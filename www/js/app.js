@@ -23,6 +23,7 @@ import { History, LISTED, isQuotaError } from './history.js';
 import { Editor, niceStep, roundTo } from './editor.js';
 import { Props } from './props.js';
 import { Drawer } from './drawer.js';
+import { plainError } from './messages.js';
 import { TracePool } from './pool.js';
 import { applyTheme, initialTheme, readTheme } from './theme.js';
 import { fmtInt, fmtNum, fmtStat, sceneScale, statInfo, statUnit } from './format.js';
@@ -149,12 +150,18 @@ class App {
   }
 
   // ---- messages -----------------------------------------------------------
-  message(text, kind = 'error') {
+  /**
+   * Shows a message; errors in the page's words (messages.js). `input`:
+   * an error about what the user just entered, cleared by the next edit
+   * that goes through.
+   */
+  message(text, kind = 'error', { input = false } = {}) {
     const box = $('message');
-    $('message-text').textContent = text;
+    $('message-text').textContent = kind === 'error' ? plainError(text, this.layout) : text;
     box.classList.toggle('info', kind === 'info');
     box.hidden = false;
     box.dataset.kind = kind;
+    box.dataset.input = String(input);
     clearTimeout(this.msgTimer);
     if (kind === 'info') this.msgTimer = setTimeout(() => { box.hidden = true; }, 5000);
   }
@@ -232,6 +239,7 @@ class App {
     const before = this.currentJson();
     const err = this.tryApply(mutator);
     if (err) return err;
+    if ($('message').dataset.input === 'true') this.clearMessage(); // the input it was about has changed
     if (before === this.currentJson()) return null;
     const now = performance.now();
     const merge = coalesce && this.lastEdit.key === coalesce && now - this.lastEdit.t < 2000;
@@ -247,7 +255,7 @@ class App {
   }
   gestureEdit(mutator) {
     const err = this.tryApply(mutator);
-    if (err) { this.message(err); return; }
+    if (err) { this.message(err, 'error', { input: true }); return; }
     this.changed({ live: true });
   }
   endGesture() {
@@ -519,7 +527,7 @@ class App {
         cone_half_angle_deg: 20, rays: 20000, pattern: 'random', power_w: 100 };
     } else return;
     const err = this.edit((L) => { L[list].push(item); });
-    if (err) { this.message(`Could not add the ${tool}: ${err}`); return; }
+    if (err) { this.message(`Could not add the ${tool}: ${err}`, 'error', { input: true }); return; }
     this.select({ list, index: this.layout[list].length - 1 });
   }
 
@@ -527,7 +535,7 @@ class App {
     const item = { kind: 'mirror', id: this.uniqueId('freeform'), vertex, axis_deg, form,
       ...(form === 'extruded' ? { length: diameter } : {}), profile: { radius: null, departure: knots }, aperture: { diameter, offset } };
     const err = this.edit((L) => { L.elements.push(item); });
-    if (err) { this.message(`Could not make the free-form mirror: ${err}`); return; }
+    if (err) { this.message(`Could not make the free-form mirror: ${err}`, 'error', { input: true }); return; }
     this.select({ list: 'elements', index: this.layout.elements.length - 1 });
   }
 
@@ -536,7 +544,7 @@ class App {
     if (!sel) return;
     this.selection = null;
     const err = this.edit((L) => { L[sel.list].splice(sel.index, 1); });
-    if (err) this.message(err);
+    if (err) this.message(err, 'error', { input: true });
     this.props.render();
   }
 
@@ -563,7 +571,7 @@ class App {
       }
       if (it.aperture.offset) it.aperture.offset = -it.aperture.offset;
     });
-    if (err) this.message(err);
+    if (err) this.message(err, 'error', { input: true });
   }
 
   duplicateSelected() {
@@ -575,7 +583,7 @@ class App {
     const key = item.kind === 'mirror' ? 'vertex' : 'center';
     item[key] = [roundTo(item[key][0] - st, st / 20), roundTo(item[key][1] + st, st / 20)];
     const err = this.edit((L) => { L[sel.list].push(item); });
-    if (err) { this.message(err); return; }
+    if (err) { this.message(err, 'error', { input: true }); return; }
     this.select({ list: sel.list, index: this.layout[sel.list].length - 1 });
   }
 
@@ -998,7 +1006,7 @@ class App {
     name.addEventListener('input', () => {
       const v = name.value;
       const err = this.edit((L) => { L.name = v; }, { coalesce: 'name' });
-      if (err) this.message(err);
+      if (err) this.message(err, 'error', { input: true });
     });
 
     // toolbox

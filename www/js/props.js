@@ -5,6 +5,7 @@
 // valid state.
 
 import { fmtInt, fmtLength, fmtNum, withUnit } from './format.js';
+import { plainError } from './messages.js';
 import { dayDate } from './views/day.js';
 
 /** Dotted field path as the session reports it: elements[0].profile.conic. */
@@ -146,11 +147,12 @@ export class Props {
         else if (spec.type === 'number') input.value = v === undefined || v === null ? '' : String(v);
         else input.value = v ?? '';
       },
-      setError: (msg) => {
+      // `quiet`: only mark the field (its message shows under another one).
+      setError: (msg, quiet = false) => {
         f.invalid = !!msg;
         row.classList.toggle('invalid', !!msg);
-        err.hidden = !msg;
-        err.textContent = msg || '';
+        err.hidden = !msg || quiet;
+        err.textContent = quiet ? '' : msg || '';
         input.setAttribute('aria-invalid', msg ? 'true' : 'false');
       },
     };
@@ -184,17 +186,21 @@ export class Props {
     return f;
   }
 
-  /** Shows a session error under the field it names (else under `fallback`). */
+  /**
+   * Shows a session error once: under the field being edited (`fallback`),
+   * naming the field it is about by its label when that is another one,
+   * which is only marked.
+   */
   showError(text, fallback) {
     const i = text.indexOf(': ');
     const path = i > 0 ? text.slice(0, i) : '';
     const msg = i > 0 ? text.slice(i + 2) : text;
     const target = this.fields.find((g) => g.input.dataset.path === path)
       ?? this.fields.find((g) => path.startsWith(`${g.input.dataset.path}[`) || path.startsWith(`${g.input.dataset.path}.`));
-    if (target === fallback) fallback.setError(msg);
+    if (target === fallback) fallback.setError(`${fallback.spec.label}: ${msg}`);
     else {
-      target?.setError(msg);
-      fallback.setError(text);
+      target?.setError(msg, true);
+      fallback.setError(target ? `${target.spec.label}: ${msg}` : plainError(text, this.app.layout));
     }
   }
 
