@@ -348,7 +348,8 @@ describe('the workbench page', () => {
       await page.locator('#message:not([hidden])').waitFor();
       const text = await page.textContent('#message-text');
       assert.match(text, /broken\.json/);
-      assert.match(text, /elements\[0\]\.aperture\.diameter/, text);
+      // The field in the page's words: the file's first element, its diameter.
+      assert.match(text, /element 1, diameter: must be greater than 0/, text);
       assert.deepEqual(await layoutOf(page), layout);
       assert.deepEqual(await readStats(page), stats);
 

@@ -155,9 +155,10 @@ class App {
    * an error about what the user just entered, cleared by the next edit
    * that goes through.
    */
-  message(text, kind = 'error', { input = false } = {}) {
+  message(text, kind = 'error', { input = false, about = this.layout } = {}) {
     const box = $('message');
-    $('message-text').textContent = kind === 'error' ? plainError(text, this.layout) : text;
+    // `about`: the layout the error's field paths point into (null: another one, e.g. a file that did not open).
+    $('message-text').textContent = kind === 'error' ? plainError(text, about) : text;
     box.classList.toggle('info', kind === 'info');
     box.hidden = false;
     box.dataset.kind = kind;
@@ -281,7 +282,7 @@ class App {
     try {
       if (viaLink) this.session.load_link(text); else this.session.load_json(text);
     } catch (e) {
-      this.message(`Could not open ${what}: ${errText(e).replace(/\.+$/, '')}. The current layout is unchanged.`);
+      this.message(`Could not open ${what}: ${errText(e).replace(/\.+$/, '')}. The current layout is unchanged.`, 'error', { about: null });
       return false;
     }
     this.pushUndo(before);
