@@ -93,7 +93,7 @@ fn superscript(e: i32) -> String {
 /// The readable unit of a length of `mm`: `µm` below 1 mm, `m` from 1 m.
 pub fn length_unit(mm: f64) -> &'static str {
     let a = mm.abs();
-    if !(a > 0.0) || !a.is_finite() {
+    if a == 0.0 || !a.is_finite() {
         "mm"
     } else if a < 1.0 {
         "µm"

@@ -200,7 +200,8 @@ export class LinePlot {
       if (m.label) {
         ctx.fillStyle = m.colour ?? th.ink2;
         if (m.kind === 'vline') ctx.fillText(m.label, Math.min(X(m.x) + 4, M.left + pw - ctx.measureText(m.label).width - 3), M.top + 13 + (vrow.get(m) ?? 0) * 14);
-        else ctx.fillText(m.label, M.left + pw - ctx.measureText(m.label).width - 4, Y(m.y) - 4);
+        // A horizontal guide near the top has its label below the line, not cut by the frame.
+        else ctx.fillText(m.label, M.left + pw - ctx.measureText(m.label).width - 4, Y(m.y) - 4 < M.top + 12 ? Y(m.y) + 13 : Y(m.y) - 4);
       }
     }
     // series
