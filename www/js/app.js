@@ -852,7 +852,8 @@ class App {
     const add = (key, value, extra = '') => {
       const info = statInfo(key);
       const span = document.createElement('span');
-      span.title = `${info.title}${extra}`;
+      // The hover keeps the raw value (a figure shown as 0 may be rounding noise).
+      span.title = `${info.title}${extra}: ${value}${info.unit ? ` ${info.unit}` : ''}`;
       span.dataset.readout = key;
       const b = document.createElement('b');
       // The statistics table's formatter: lengths switch unit (µm → mm → m),

@@ -252,6 +252,8 @@ export class SpotView {
       airyDrawn = this.drawPanel(ctx, { x0, y0, w: pw, h: ph }, g, hits, srcIndex, scale, sc, n > 1) || airyDrawn;
     });
     this.airyDrawn = airyDrawn;
+    // The hover keeps the raw centroids (a centre drawn as 0 may be rounding noise).
+    this.canvas.title = `${rows.map((r) => `${r.source}: centroid u ${r.centroid_mm[0]} mm, v ${r.centroid_mm[1]} mm`).join('\n')}\nWheel to zoom, drag to pan, double-click to fit.`;
     if (airyDrawn) {
       ctx.fillStyle = th.ink2;
       ctx.textAlign = 'right';
