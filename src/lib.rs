@@ -43,6 +43,7 @@ pub mod analysis;
 pub mod bench_scenes;
 pub mod design;
 pub mod error;
+pub mod format;
 pub mod geometry;
 pub mod layout;
 pub mod pixels;

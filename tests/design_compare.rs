@@ -136,3 +136,12 @@ fn bad_input_names_the_field() {
     assert_eq!(compare_conics(100.0, 50.0, &[0.0], 0.0).unwrap_err().field, "wavelength");
     assert_eq!(compare_conics(100.0, 50.0, &[], 550.0).unwrap_err().field, "conics");
 }
+
+/// The conic list takes commas, semicolons and spaces, in any mix, and the
+/// typographic minus the page prints (common practice for number lists).
+#[test]
+fn conic_lists_take_commas_semicolons_and_spaces() {
+    assert_eq!(parse_conics("0, -1; -2 -0.5").unwrap(), vec![0.0, -1.0, -2.0, -0.5]);
+    assert_eq!(parse_conics("0 \u{2212}1").unwrap(), vec![0.0, -1.0]);
+    assert_eq!(parse_conics("0;;1").unwrap_err().field, "conics[1]");
+}

@@ -76,3 +76,15 @@ fn bad_parameters_name_the_field() {
     assert_eq!(e(500.0, f64::INFINITY, 10.0), "offset");
     assert_eq!(e(500.0, 100.0, -3.0), "diameter");
 }
+
+/// Symptom: an offset below D/2 was accepted while the page said the
+/// segment is clear of the beam. Plane geometry: the segment spans
+/// H ± D/2 from the parent axis and the focus lies on that axis, so the
+/// focus is in the beam exactly when H < D/2.
+#[test]
+fn a_segment_reaching_across_the_parent_axis_is_flagged() {
+    assert!(design(500.0, 50.0, 150.0).warnings.iter().any(|w| w.contains("D/2")), "H 50 < D/2 75");
+    assert!(design(500.0, 0.0, 150.0).warnings.len() == 1, "on axis");
+    assert!(design(500.0, 75.0, 150.0).warnings.is_empty(), "H = D/2: the rim just touches the axis");
+    assert!(design(500.0, 200.0, 150.0).warnings.is_empty());
+}

@@ -198,3 +198,14 @@ fn bad_parameters_name_the_field() {
     assert_eq!(TwoMirrorKind::parse("dall-kirkham").unwrap(), TwoMirrorKind::DallKirkham);
 }
 
+
+/// Extreme primary speeds are flagged: faster than f/1.5 (f₁/D) is past
+/// common practice for primaries that can be figured, tested and aligned.
+#[test]
+fn a_primary_faster_than_f_1_5_is_flagged() {
+    let fast = TwoMirrorSpec { primary_focal: 300.0, focal: 3000.0, back_focus: 200.0, ..spec(TwoMirrorKind::Cassegrain, 0.0) };
+    let d = design_two_mirror(&fast).expect("f/1 primary is still a valid design");
+    assert_eq!(d.warnings.len(), 1, "{:?}", d.warnings);
+    assert!(d.warnings[0].contains("f/1 ") && d.warnings[0].contains("f/1.5"), "{}", d.warnings[0]);
+    assert!(design(TwoMirrorKind::RitcheyChretien, 0.0).warnings.is_empty(), "the f/4 primary of the worked example");
+}

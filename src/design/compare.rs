@@ -36,7 +36,7 @@
 //! P-V.
 
 use super::{bad, conic_reaches, conic_sag, conic_sag_slope, finite_result, positive, wavelength};
-use crate::error::{InputError, Num};
+use crate::error::{printable, InputError, Num};
 use serde::Serialize;
 
 /// Pupil rings used for the wavefront.
@@ -259,13 +259,24 @@ pub fn best_fit_sphere(radius: f64, conic: f64, d: f64) -> BestFitSphere {
     BestFitSphere { radius_mm: 1.0 / cb, conic_radius_mm: radius, conic, offset_mm: -lo, removal_depth_mm: hi - lo }
 }
 
-/// Parses a comma-separated list of conic constants (field `conics`).
+/// Parses a list of conic constants (field `conics`) separated by commas,
+/// semicolons or spaces (any mix: "0, -1; -2 -0.5").
 pub fn parse_conics(s: &str) -> Result<Vec<f64>, InputError> {
     let mut out = Vec::new();
-    for (i, part) in s.split(',').enumerate() {
+    // Commas and semicolons separate entries (an empty one is an error);
+    // within an entry, spaces separate constants.
+    let mut tokens = Vec::new();
+    for part in s.split([',', ';']) {
+        let words: Vec<&str> = part.split_whitespace().collect();
+        if words.is_empty() {
+            tokens.push("");
+        }
+        tokens.extend(words);
+    }
+    for (i, t) in tokens.into_iter().enumerate() {
         let field = format!("conics[{i}]");
-        let t = part.trim();
-        let v: f64 = t.parse().map_err(|_| bad(&field, format!("\"{t}\" is not a number")))?;
+        // A typographic minus (as the page prints numbers) reads as a minus.
+        let v: f64 = t.replace('\u{2212}', "-").parse().map_err(|_| bad(&field, format!("\"{}\" is not a number", printable(t))))?;
         out.push(v);
     }
     Ok(out)

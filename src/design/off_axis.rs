@@ -77,6 +77,10 @@ pub struct OffAxisDesign {
     /// Sag difference between the segment's far and near edges, mm.
     pub segment_depth_mm: f64,
     pub feed: Feed,
+    /// Plain-language warnings on the input (empty when none): a segment
+    /// that reaches the parent axis (H < D/2) puts the focus inside the
+    /// incoming beam.
+    pub warnings: Vec<String>,
     pub layout: Layout,
 }
 
@@ -131,6 +135,17 @@ pub fn design_off_axis(spec: &OffAxisSpec) -> Result<OffAxisDesign, InputError> 
         fmt_num(f_refl)
     );
     let layout = checked(new_layout(name, notes, vec![mirror, screen], vec![beam]))?;
+    let mut warnings = Vec::new();
+    if h < 0.5 * d {
+        // The segment spans local y from H − D/2 to H + D/2; the focus lies
+        // on the parent axis (y = 0), so it is in the beam when H < D/2.
+        warnings.push(format!(
+            "The offset H = {} mm is less than half the diameter (D/2 = {} mm): the segment reaches across the parent axis, \
+             so the focus lies inside the incoming beam, not clear of it. Use an offset of at least D/2 for a clear focus.",
+            fmt_num(h),
+            fmt_num(0.5 * d)
+        ));
+    }
     Ok(OffAxisDesign {
         off_axis_angle_deg: theta.to_degrees(),
         reflected_focal_mm: f_refl,
@@ -147,6 +162,7 @@ pub fn design_off_axis(spec: &OffAxisSpec) -> Result<OffAxisDesign, InputError> 
             bisector_off_axis_deg: 0.5 * (lo + hi).to_degrees(),
             half_angle_deg: 0.5 * (hi - lo).to_degrees(),
         },
+        warnings,
         layout,
     })
 }

@@ -170,8 +170,15 @@ pub struct TwoMirrorDesign {
     /// β = B/f₁.
     pub back_focus_ratio: f64,
     pub field_deg: f64,
+    /// Plain-language warnings on extreme input (empty when none).
+    pub warnings: Vec<String>,
     pub layout: Layout,
 }
+
+/// Primary focal ratios f₁/D below this are flagged as extreme: such a
+/// primary is hard to figure and test and its alignment tolerances are
+/// tight (common practice among telescope makers).
+pub const FAST_PRIMARY_F_RATIO: f64 = 1.5;
 
 /// Conic constants (K₁, K₂) of a family for signed magnification `m` and
 /// back-focus ratio `beta` (Schroeder, 2nd ed., ch. 6).
@@ -268,6 +275,14 @@ pub fn design_two_mirror(spec: &TwoMirrorSpec) -> Result<TwoMirrorDesign, InputE
     finite_result("focal", "design", &[m, k, sep, r1, k1, hole, r2, k2, d_sec])?;
 
     let layout = build_layout(spec.kind, d_prim, f, b, field, sep, (r1, k1, hole), (r2, k2, d_sec))?;
+    let mut warnings = Vec::new();
+    if f1 / d_prim < FAST_PRIMARY_F_RATIO {
+        warnings.push(format!(
+            "The primary is f/{} (f₁/D), faster than f/{FAST_PRIMARY_F_RATIO}: hard to figure and test, with very tight alignment \
+             and collimation tolerances; common practice keeps primaries at f/{FAST_PRIMARY_F_RATIO} or slower.",
+            fmt_num((f1 / d_prim * 100.0).round() / 100.0)
+        ));
+    }
     Ok(TwoMirrorDesign {
         kind: spec.kind.name().to_string(),
         focal_mm: f,
@@ -281,6 +296,7 @@ pub fn design_two_mirror(spec: &TwoMirrorSpec) -> Result<TwoMirrorDesign, InputE
         height_ratio: k,
         back_focus_ratio: beta,
         field_deg: field,
+        warnings,
         layout,
     })
 }

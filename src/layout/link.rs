@@ -2,7 +2,7 @@
 //! minified layout JSON. Decoding is pure data and bounded in size.
 
 use super::{parse_layout, Layout};
-use crate::error::InputError;
+use crate::error::{printable, InputError};
 use base64::engine::general_purpose::URL_SAFE_NO_PAD;
 use base64::Engine as _;
 
@@ -54,7 +54,17 @@ pub fn decode_link(text: &str) -> Result<Layout, InputError> {
     }
     let packed = URL_SAFE_NO_PAD
         .decode(body.as_bytes())
-        .map_err(|e| InputError::new("link", format!("is not valid base64url: {e}")))?;
+        .map_err(|e| InputError::new("link", match e {
+            base64::DecodeError::InvalidByte(at, b) => format!(
+                "has a character that cannot be in a link ({} at position {}); copy the whole link again",
+                printable(&char::from(b).to_string()),
+                at + 1 + t.len() - body.len()
+            ),
+            base64::DecodeError::InvalidLength(_) | base64::DecodeError::InvalidLastSymbol(..) => {
+                "is cut short or has extra characters at its end; copy the whole link again".to_string()
+            }
+            base64::DecodeError::InvalidPadding => "has padding a link never has; copy the whole link again".to_string(),
+        }))?;
     let json = miniz_oxide::inflate::decompress_to_vec_with_limit(&packed, MAX_LINK_LAYOUT_BYTES)
         .map_err(|_| InputError::new("link", "is damaged: its compressed data does not unpack (or unpacks past 4 MiB)"))?;
     let json = String::from_utf8(json).map_err(|_| InputError::new("link", "does not unpack to UTF-8 text"))?;

@@ -11,6 +11,49 @@ use serde::de::{DeserializeOwned, Error as _, Unexpected, Visitor};
 use serde::{Deserialize, Deserializer};
 use serde_json::Value;
 
+/// serde's wording in plain words: "invalid type: string \"x\", expected
+/// f64" reads "must be a number, not the text \"x\"".
+pub fn plain_words(msg: &str) -> String {
+    const WANTS: [(&str, &str); 10] = [
+        ("f64", "a number"),
+        ("f32", "a number"),
+        ("u64", "a whole number of at least 0"),
+        ("u32", "a whole number of at least 0"),
+        ("usize", "a whole number of at least 0"),
+        ("i64", "a whole number"),
+        ("a string", "text in quotes"),
+        ("a sequence", "a list [ … ]"),
+        ("a boolean", "true or false"),
+        ("an array of length 2", "a pair [y, z]"),
+    ];
+    if let Some(rest) = msg.strip_prefix("invalid length ") {
+        if let Some((n, want)) = rest.split_once(", expected ") {
+            let want = WANTS.iter().find(|(k, _)| *k == want).map_or(want, |(_, v)| v);
+            return format!("must be {want}, not {n} item{}", if n == "1" { "" } else { "s" });
+        }
+    }
+    let Some(rest) = msg.strip_prefix("invalid type: ").or_else(|| msg.strip_prefix("invalid value: ")) else {
+        return msg.to_string();
+    };
+    let Some((got, want)) = rest.rsplit_once(", expected ") else {
+        return msg.to_string();
+    };
+    let want = WANTS.iter().find(|(k, _)| *k == want).map_or(want, |(_, v)| v);
+    let want = if want.starts_with("struct ") || want.starts_with("a map") { "an object { … }" } else { want };
+    let got = match got.split_once(' ') {
+        Some(("string", text)) => format!("the text {text}"),
+        Some(("floating", n)) => format!("the number {}", n.trim_start_matches("point ").trim_matches('`')),
+        Some(("integer", n)) => format!("the number {}", n.trim_matches('`')),
+        _ => match got {
+            "sequence" => "a list".to_string(),
+            "map" => "an object".to_string(),
+            "null" => "null".to_string(),
+            g => g.replace("boolean", "").replace('`', "").trim().to_string(),
+        },
+    };
+    format!("must be {want}, not {got}")
+}
+
 /// Marks an error message that carries a nested path: `\u{1}path\u{1}message`.
 const NEST: char = '\u{1}';
 
@@ -157,7 +200,7 @@ pub fn parse_layout(text: &str) -> Result<Layout, InputError> {
         let path = e.path().to_string();
         let msg = e.into_inner().to_string();
         let (path, msg) = split_nested(&path, &msg);
-        InputError::new(path, shorten_numbers(&msg))
+        InputError::new(path, shorten_numbers(&plain_words(&msg)))
     })?;
     super::validate(&layout)?;
     Ok(layout)

@@ -228,14 +228,14 @@ describe('designer and testing views', () => {
       const fieldError = (form, name) => page.locator(`#${form} .field[data-field="${name}"] .field-error`).textContent();
       // A negative diameter: the core refuses it, naming the field.
       assert.equal(await fill(page, 'two-mirror-form', '#two-mirror .dcard-out', { diameter: -300 }), 'error');
-      assert.match(await fieldError('two-mirror-form', 'diameter'), /^diameter: .*greater than 0/);
+      assert.match(await fieldError('two-mirror-form', 'diameter'), /^diameter D: .*greater than 0/);
       assert.equal(await page.inputValue('#two-mirror-form [name="diameter"]'), '-300');
       assert.equal(await page.inputValue('#two-mirror-form [name="focal"]'), '3200');
       assert.ok(await page.locator('#two-mirror-form .field[data-field="diameter"]').evaluate((e) => e.classList.contains('invalid')));
       assert.ok(await page.locator('[data-open="two-mirror"]').isDisabled(), 'nothing to open while the input is bad');
       // Text that is not a number.
       assert.equal(await fill(page, 'off-axis-form', '#off-axis .dcard-out', { offset: '2oo' }), 'error');
-      assert.match(await fieldError('off-axis-form', 'offset'), /^offset: "2oo" is not a number/);
+      assert.match(await fieldError('off-axis-form', 'offset'), /^offset H: "2oo" is not a number/);
       assert.equal(await page.inputValue('#off-axis-form [name="offset"]'), '2oo');
       await shot(page, 'designers-error');
       // Fixed: the figures return and the marks go.
@@ -246,13 +246,13 @@ describe('designer and testing views', () => {
       await page.click('[role="tab"][data-view="conics"]');
       await waitOut(page, '#conics-out');
       assert.equal(await fill(page, 'conics-form', '#conics-out', { conics: '0, x, -1' }), 'error');
-      assert.match(await fieldError('conics-form', 'conics'), /^conics\[1\]: "x" is not a number/);
+      assert.match(await fieldError('conics-form', 'conics'), /^conic constants, entry 2: "x" is not a number/);
       assert.equal(await page.inputValue('#conics-form [name="conics"]'), '0, x, -1');
       // Testing: too many zones.
       await page.click('[role="tab"][data-view="testing"]');
       await waitOut(page, '#testing-out');
       assert.equal(await fill(page, 'testing-form', '#testing-out', { zones: 0 }), 'error');
-      assert.match(await fieldError('testing-form', 'zones'), /^zones: /);
+      assert.match(await fieldError('testing-form', 'zones'), /^zones N: /);
       assert.deepEqual(seen.errors, []);
     } finally {
       await ctx.close();

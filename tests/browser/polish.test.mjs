@@ -63,7 +63,7 @@ describe('acceptance-pass regressions', () => {
     try {
       const raw = Number(await page.getAttribute('#stats td[data-stat="rms_radius_um"]', 'data-value'));
       assert.ok(raw < 1e-6, `the trace is exact to rounding (${raw} µm)`);
-      assert.equal(await page.textContent('#ro-figures [data-readout="rms_radius_um"] b'), '0\u2009µm');
+      assert.equal(await page.textContent('#ro-figures [data-readout="rms_radius_um"] b'), '0\u202fµm');
       assert.equal(await page.textContent('#stats td[data-stat="rms_radius_um"]'), '0');
       assert.equal(await page.textContent('#stats td[data-stat="best_focus_shift_mm"]'), '0');
       // The hover title keeps the raw value for the curious.
@@ -235,8 +235,8 @@ describe('acceptance-pass regressions', () => {
       await page.waitForFunction(() => document.body.dataset.trace === 'full' && window.catoptric.result.launched > 900000, null, { timeout: READY_MS });
       const hits = await page.evaluate(() => window.catoptric.result.report.screens[0].hits);
       const text = await page.textContent('#ro-figures [data-readout="hits"] b');
-      assert.match(text, /^\d{1,3}(\u2009\d{3})+$/);
-      assert.equal(Number(text.replace(/\u2009/g, '')), hits);
+      assert.match(text, /^\d{1,3}(\u202f\d{3})+$/);
+      assert.equal(Number(text.replace(/\u202f/g, '')), hits);
     } finally {
       await ctx.close();
     }

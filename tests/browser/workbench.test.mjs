@@ -309,7 +309,9 @@ describe('the workbench page', () => {
       await page.evaluate((h) => { location.hash = h; }, linkFor(JSON.stringify(bad)));
       await page.locator('#message:not([hidden])').waitFor();
       const text = await page.textContent('#message-text');
-      assert.match(text, /elements\[0\]\.profile\.conic/, text);
+      // The field in the page's words (the link's first element, its conic), not the file's key.
+      assert.match(text, /element 1, conic K: must be a number, not the text "steep"/, text);
+      assert.doesNotMatch(text, /elements\[0\]|expected f64|link: link:/, text);
       assert.match(text, /unchanged/);
       assert.deepEqual(await layoutOf(page), layout);
       assert.deepEqual(await readStats(page), stats);
@@ -317,7 +319,8 @@ describe('the workbench page', () => {
       await page.click('#message-close');
       await page.evaluate(() => { location.hash = '#L=@@not-base64@@'; });
       await page.locator('#message:not([hidden])').waitFor();
-      assert.match(await page.textContent('#message-text'), /link: .*base64/);
+      // Plain words, not the decoder's "Invalid symbol 64, offset 0".
+      assert.match(await page.textContent('#message-text'), /link: it has a character that cannot be in a link \(@ at position 4\)/);
       assert.deepEqual(await layoutOf(page), layout);
     } finally {
       await ctx.close();
@@ -345,7 +348,8 @@ describe('the workbench page', () => {
       await page.locator('#message:not([hidden])').waitFor();
       const text = await page.textContent('#message-text');
       assert.match(text, /broken\.json/);
-      assert.match(text, /elements\[0\]\.aperture\.diameter/, text);
+      // The field in the page's words: the file's first element, its diameter.
+      assert.match(text, /element 1, diameter: must be greater than 0/, text);
       assert.deepEqual(await layoutOf(page), layout);
       assert.deepEqual(await readStats(page), stats);
 

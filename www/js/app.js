@@ -23,9 +23,10 @@ import { History, LISTED, isQuotaError } from './history.js';
 import { Editor, niceStep, roundTo } from './editor.js';
 import { Props } from './props.js';
 import { Drawer } from './drawer.js';
+import { plainError } from './messages.js';
 import { TracePool } from './pool.js';
 import { applyTheme, initialTheme, readTheme } from './theme.js';
-import { fmtInt, fmtNum, statInfo, withUnit } from './format.js';
+import { fmtInt, fmtNum, fmtStat, sceneScale, statInfo, statUnit } from './format.js';
 import { exportCsv, exportSvg, download, slug } from './export.js';
 import { collectAnalysis } from './views/data.js';
 import { CausticLayer } from './views/caustic.js';
@@ -153,12 +154,19 @@ class App {
   }
 
   // ---- messages -----------------------------------------------------------
-  message(text, kind = 'error') {
+  /**
+   * Shows a message; errors in the page's words (messages.js). `input`:
+   * an error about what the user just entered, cleared by the next edit
+   * that goes through.
+   */
+  message(text, kind = 'error', { input = false, about = this.layout } = {}) {
     const box = $('message');
-    $('message-text').textContent = text;
+    // `about`: the layout the error's field paths point into (null: another one, e.g. a file that did not open).
+    $('message-text').textContent = kind === 'error' ? plainError(text, about) : text;
     box.classList.toggle('info', kind === 'info');
     box.hidden = false;
     box.dataset.kind = kind;
+    box.dataset.input = String(input);
     clearTimeout(this.msgTimer);
     if (kind === 'info') this.msgTimer = setTimeout(() => { box.hidden = true; }, 5000);
   }
@@ -236,6 +244,7 @@ class App {
     const before = this.currentJson();
     const err = this.tryApply(mutator);
     if (err) return err;
+    if ($('message').dataset.input === 'true') this.clearMessage(); // the input it was about has changed
     if (before === this.currentJson()) return null;
     const now = performance.now();
     const merge = coalesce && this.lastEdit.key === coalesce && now - this.lastEdit.t < 2000;
@@ -251,7 +260,7 @@ class App {
   }
   gestureEdit(mutator) {
     const err = this.tryApply(mutator);
-    if (err) { this.message(err); return; }
+    if (err) { this.message(err, 'error', { input: true }); return; }
     this.changed({ live: true });
   }
   endGesture() {
@@ -277,7 +286,7 @@ class App {
     try {
       if (viaLink) this.session.load_link(text); else this.session.load_json(text);
     } catch (e) {
-      this.message(`Could not open ${what}: ${errText(e).replace(/\.+$/, '')}. The current layout is unchanged.`);
+      this.message(`Could not open ${what}: ${errText(e).replace(/\.+$/, '')}. The current layout is unchanged.`, 'error', { about: null });
       return false;
     }
     this.pushUndo(before);
@@ -523,15 +532,15 @@ class App {
         cone_half_angle_deg: 20, rays: 20000, pattern: 'random', power_w: 100 };
     } else return;
     const err = this.edit((L) => { L[list].push(item); });
-    if (err) { this.message(`Could not add the ${tool}: ${err}`); return; }
+    if (err) { this.message(`Could not add the ${tool}: ${err}`, 'error', { input: true }); return; }
     this.select({ list, index: this.layout[list].length - 1 });
   }
 
-  addFreeform({ vertex, axis_deg, knots, diameter, offset }) {
-    const item = { kind: 'mirror', id: this.uniqueId('freeform'), vertex, axis_deg, form: 'extruded',
-      length: diameter, profile: { radius: null, departure: knots }, aperture: { diameter, offset } };
+  addFreeform({ vertex, axis_deg, form = 'extruded', knots, diameter, offset }) {
+    const item = { kind: 'mirror', id: this.uniqueId('freeform'), vertex, axis_deg, form,
+      ...(form === 'extruded' ? { length: diameter } : {}), profile: { radius: null, departure: knots }, aperture: { diameter, offset } };
     const err = this.edit((L) => { L.elements.push(item); });
-    if (err) { this.message(`Could not make the free-form mirror: ${err}`); return; }
+    if (err) { this.message(`Could not make the free-form mirror: ${err}`, 'error', { input: true }); return; }
     this.select({ list: 'elements', index: this.layout.elements.length - 1 });
   }
 
@@ -540,7 +549,7 @@ class App {
     if (!sel) return;
     this.selection = null;
     const err = this.edit((L) => { L[sel.list].splice(sel.index, 1); });
-    if (err) this.message(err);
+    if (err) this.message(err, 'error', { input: true });
     this.props.render();
   }
 
@@ -567,7 +576,7 @@ class App {
       }
       if (it.aperture.offset) it.aperture.offset = -it.aperture.offset;
     });
-    if (err) this.message(err);
+    if (err) this.message(err, 'error', { input: true });
   }
 
   duplicateSelected() {
@@ -579,7 +588,7 @@ class App {
     const key = item.kind === 'mirror' ? 'vertex' : 'center';
     item[key] = [roundTo(item[key][0] - st, st / 20), roundTo(item[key][1] + st, st / 20)];
     const err = this.edit((L) => { L[sel.list].push(item); });
-    if (err) { this.message(err); return; }
+    if (err) { this.message(err, 'error', { input: true }); return; }
     this.select({ list: sel.list, index: this.layout[sel.list].length - 1 });
   }
 
@@ -847,12 +856,15 @@ class App {
     const add = (key, value, extra = '') => {
       const info = statInfo(key);
       const span = document.createElement('span');
-      span.title = `${info.title}${extra}`;
+      // The hover keeps the raw value (a figure shown as 0 may be rounding noise).
+      span.title = `${info.title}${extra}: ${value}${info.unit ? ` ${info.unit}` : ''}`;
       span.dataset.readout = key;
       const b = document.createElement('b');
-      // Large micrometre figures read better in millimetres.
+      // The statistics table's formatter: lengths switch unit (µm → mm → m),
+      // shifts below the scene's noise read 0.
+      const unit = statUnit(key, Math.abs(value));
       b.textContent = key === 'hits' ? fmtInt(value)
-        : info.unit === 'µm' && Math.abs(value) >= 1e4 ? withUnit(value / 1000, 'mm') : withUnit(value, info.unit);
+        : `${fmtStat(key, value, { unit, scale: sceneScale(this.layout) })}${unit ? `\u202f${unit}` : ''}`;
       span.append(`${info.label} `, b);
       box.append(span);
     };
@@ -1001,7 +1013,7 @@ class App {
     name.addEventListener('input', () => {
       const v = name.value;
       const err = this.edit((L) => { L.name = v; }, { coalesce: 'name' });
-      if (err) this.message(err);
+      if (err) this.message(err, 'error', { input: true });
     });
 
     // toolbox

@@ -7,11 +7,19 @@
 
 import { sourceColour } from './palette.js';
 import { fmtLength } from './format.js';
+import { scaleBar } from './views/plot.js';
 
 const HANDLE = 7;      // px, half-size of square handles / radius of round ones
 const ROT_ARM = 64;    // px, rotation handle distance from the anchor
 const PICK = 7;        // px, pick distance for lines
 const DRAG_START = 3;  // px of motion before a press becomes a drag
+/** Free-form knots snap to the grid step over this (a 10 mm grid places knots to 1 mm)… */
+const KNOT_SNAP_DIVISOR = 10;
+/** …or over this with Alt held (practically where the pointer is). */
+const FREE_SNAP_DIVISOR = 1000;
+
+/** Height of a drawing label's box, px (12 px type). */
+const LABEL_H = 13;
 
 const deg = Math.PI / 180;
 
@@ -64,6 +72,7 @@ export class Editor {
     this.grid = true;
     this.tool = 'select';
     this.draft = [];        // free-form knots being drawn (world [y, z])
+    this.freeformForm = 'extruded'; // the form the free-form tool makes (chosen in its hint)
     this.pointer = null;    // current press: {kind, ...}
     this.hover = null;      // world point under the pointer
     this.size = { w: 1, h: 1, dpr: 1 };
@@ -91,13 +100,14 @@ export class Editor {
     const dpr = window.devicePixelRatio || 1;
     // While the view is still the automatic fit (nothing panned, zoomed or
     // clicked since), a new size fits again: a caution or message strip that
-    // appears after a file opens must not clip the layout. Otherwise, when
-    // the canvas's top edge moves (such a strip appears above it while the
-    // user works), the drawing stays where it is on the page instead of
-    // jumping under the pointer; other size changes keep the centre.
+    // appears after a file opens must not clip the layout. Otherwise the
+    // drawing stays where it is on the page when the canvas's top or bottom
+    // edge moves (a strip appears above it, the readout below wraps to a
+    // second line, the drawer is dragged) instead of jumping under the
+    // pointer; a change of width keeps the centre.
     const top = this.pageTop;
     this.pageTop = r.top;
-    if (!this.autoFit && top !== undefined && r.top !== top && this.size.h > 1) {
+    if (!this.autoFit && top !== undefined && (r.top !== top || r.height !== this.size.h) && this.size.h > 1) {
       this.view.cy -= (r.top - top + (r.height - this.size.h) / 2) / this.view.k;
     }
     this.size = { w: Math.max(1, r.width), h: Math.max(1, r.height), dpr };
@@ -130,12 +140,16 @@ export class Editor {
     const span = Math.max(ymax - ymin, zmax - zmin, 1e-3);
     const pad = 0.1 * span;
     const w = Math.max(50, this.size.w - (toolbox ? 190 : 40)); // room for the toolbox
-    const h = Math.max(50, this.size.h - 40);
+    // The folded sun caution lies over the top of the drawing.
+    const caution = document.getElementById('sun-caution');
+    const inset = toolbox && caution && !caution.hidden && caution.dataset.expanded !== 'true' ? caution.getBoundingClientRect().height : 0;
+    const h = Math.max(50, this.size.h - 40 - inset);
     const k = Math.min(w / (zmax - zmin + 2 * pad), h / (ymax - ymin + 2 * pad));
+    const kk = Number.isFinite(k) && k > 0 ? k : 1;
     this.view = {
-      k: Number.isFinite(k) && k > 0 ? k : 1,
-      cy: (ymin + ymax) / 2,
-      cz: (zmin + zmax) / 2 - (toolbox ? 80 : 0) / (Number.isFinite(k) && k > 0 ? k : 1),
+      k: kk,
+      cy: (ymin + ymax) / 2 + inset / (2 * kk),
+      cz: (zmin + zmax) / 2 - (toolbox ? 80 : 0) / kk,
     };
     this.app.requestDraw();
   }
@@ -161,17 +175,51 @@ export class Editor {
       beam: 'Click where the beam’s centre goes (Esc cancels)',
       lamp: 'Click where the lamp goes (Esc cancels)',
       sun: 'Click where the sunlight enters (Esc cancels)',
-      freeform: 'Click knots along the mirror face; double-click or Enter finishes, Backspace removes the last knot, Esc cancels',
+      freeform: 'Click knots along the mirror face (Alt: no snap); double-click or Enter finishes, Backspace removes the last knot, Esc cancels.',
     };
     this.app.showHint(hints[tool] || '');
+    if (tool === 'freeform') this.formChooser();
     this.app.toolChanged(tool);
     this.app.requestDraw();
+  }
+
+  /** The revolved / extruded choice in the free-form tool's hint. */
+  formChooser() {
+    const hint = document.getElementById('tool-hint');
+    if (!hint) return;
+    const label = document.createElement('label');
+    label.className = 'hint-choice';
+    label.title = 'Revolved: a mirror of revolution about the middle of the drawn chord. Extruded: the drawn section swept along x (a trough).';
+    const sel = document.createElement('select');
+    sel.id = 'freeform-form';
+    sel.setAttribute('aria-label', 'Free-form mirror form');
+    sel.append(new Option('revolved', 'revolved'), new Option('extruded (trough)', 'extruded'));
+    sel.value = this.freeformForm;
+    sel.onchange = () => { this.freeformForm = sel.value; this.canvas.focus({ preventScroll: true }); };
+    label.append(' Form: ', sel);
+    hint.append(label);
+  }
+
+  /**
+   * Writes a label at (x, y) (baseline, left), or at the first nearby
+   * place (below, above, to the left, further off) where it overlaps no
+   * label written earlier in this frame; `fixed` labels stay where asked.
+   */
+  placeLabel(text, x, y, fixed = false) {
+    const { ctx } = this;
+    const w = ctx.measureText(text).width;
+    const free = (bx, by) => !this.labelBoxes.some((b) => bx < b.x + b.w + 3 && b.x < bx + w + 3 && by - LABEL_H < b.y && b.y - LABEL_H < by);
+    const tries = fixed ? [[0, 0]] : [[0, 0], [0, LABEL_H + 2], [0, -LABEL_H - 2], [-w - 14, 0], [0, 2 * LABEL_H + 4], [0, -2 * LABEL_H - 4], [-w - 14, LABEL_H + 2]];
+    const [dx, dy] = tries.find(([ax, ay]) => free(x + ax, y + ay)) ?? [0, 0];
+    ctx.fillText(text, x + dx, y + dy);
+    this.labelBoxes.push({ x: x + dx, y: y + dy, w });
   }
 
   // ---- drawing ----------------------------------------------------------
   draw() {
     const { ctx } = this;
     const { w, h, dpr } = this.size;
+    this.labelBoxes = [];
     const th = this.app.theme;
     ctx.setTransform(dpr, 0, 0, dpr, 0, 0);
     ctx.fillStyle = th.bg;
@@ -219,8 +267,8 @@ export class Editor {
     // axis names
     ctx.fillStyle = th.label;
     ctx.font = '11px system-ui, sans-serif';
-    ctx.fillText('z', w - 14, Math.min(h - 6, Math.max(12, oy - 4)));
-    ctx.fillText('y', Math.min(w - 10, Math.max(4, ox + 4)), 12);
+    this.placeLabel('z', w - 14, Math.min(h - 6, Math.max(12, oy - 4)), true);
+    this.placeLabel('y', Math.min(w - 10, Math.max(4, ox + 4)), 12, true);
   }
 
   drawScaleBar(th) {
@@ -228,15 +276,8 @@ export class Editor {
     const { h } = this.size;
     const len = niceStep(110 / this.view.k);
     const px = len * this.view.k;
-    const x = 16, y = h - 16;
-    ctx.strokeStyle = th.ink;
-    ctx.fillStyle = th.ink;
-    ctx.lineWidth = 2;
-    ctx.beginPath();
-    ctx.moveTo(x, y - 5); ctx.lineTo(x, y); ctx.lineTo(x + px, y); ctx.lineTo(x + px, y - 5);
-    ctx.stroke();
     ctx.font = '12px system-ui, sans-serif';
-    ctx.fillText(fmtLength(len), x + px + 6, y + 1);
+    scaleBar(ctx, 16, h - 16, px, fmtLength(len), th.ink);
   }
 
   drawFan(th) {
@@ -322,7 +363,7 @@ export class Editor {
         const j = start + count - 1;
         const [x, y] = this.toScreen(g.outline[2 * j], g.outline[2 * j + 1]);
         ctx.fillStyle = th.label;
-        ctx.fillText(el.id, x + 6, y - 6);
+        this.placeLabel(el.id, x + 6, y - 6);
       }
     }
   }
@@ -371,7 +412,7 @@ export class Editor {
           ctx.stroke();
         }
         ctx.fillStyle = th.label;
-        ctx.fillText(s.id, cx + px * r + 6, cy + py * r + 4);
+        this.placeLabel(s.id, cx + px * r + 6, cy + py * r + 4);
       } else {
         const half = Math.min(180, s.cone_half_angle_deg) * deg;
         const len = 42;
@@ -393,7 +434,7 @@ export class Editor {
         ctx.arc(cx, cy, 5, 0, 2 * Math.PI);
         ctx.fill();
         ctx.fillStyle = th.label;
-        ctx.fillText(s.id, cx + 8, cy - 8);
+        this.placeLabel(s.id, cx + 8, cy - 8);
       }
     });
   }
@@ -543,8 +584,7 @@ export class Editor {
     if (e.button !== 0) return;
     if (this.tool === 'freeform') {
       if (e.detail > 1) return; // the second click of a double-click
-      const st = this.step();
-      this.draft.push([roundTo(w[0], st), roundTo(w[1], st)]);
+      this.draft.push(this.knotAt(w, e.altKey));
       this.app.requestDraw();
       return;
     }
@@ -643,7 +683,22 @@ export class Editor {
     if (p && p.kind !== 'pan' && p.moved) this.app.endGesture();
   }
 
-  /** Turns the drawn knots into an extruded free-form mirror. */
+  /**
+   * Where a free-form knot goes for the pointer at `w`: on a tenth of the
+   * grid step, so a sag comes in fine steps (1 mm on a 10 mm grid), or
+   * where the pointer is (to a thousandth of the step) with Alt held.
+   */
+  knotAt(w, free) {
+    const st = this.step() / (free ? FREE_SNAP_DIVISOR : KNOT_SNAP_DIVISOR);
+    return [roundTo(w[0], st), roundTo(w[1], st)];
+  }
+
+  /**
+   * Turns the drawn knots into a free-form mirror of the form chosen in the
+   * hint (`this.freeformForm`): extruded, the knots' signed distance along
+   * the chord; revolved, about the chord's middle, each knot at its
+   * distance from the middle (a knot on either side gives the same ring).
+   */
   finishFreeform() {
     const pts = this.draft;
     this.draft = [];
@@ -667,22 +722,25 @@ export class Editor {
       th += Math.PI;
       knots = pts.map((p) => local(p, th));
     }
+    const revolved = this.freeformForm === 'revolved';
+    if (revolved) knots = knots.map(([r, z]) => [Math.abs(r), z]);
     knots.sort((p, q) => p[0] - q[0]);
     const st = this.step() / 10;
     const clean = [];
     for (const [r, z] of knots) {
-      const rr = roundTo(r, st), zz = roundTo(z, st / 10);
+      const rr = roundTo(r, st / 10), zz = roundTo(z, st / 100);
       if (!clean.length || rr > clean[clean.length - 1][0]) clean.push([rr, zz]);
     }
     if (clean.length < 2) { this.setTool('select'); return; }
-    const lo = clean[0][0], hi = clean[clean.length - 1][0];
+    const lo = revolved ? -clean[clean.length - 1][0] : clean[0][0], hi = clean[clean.length - 1][0];
     const axis = roundTo(((th / deg) % 360 + 360) % 360, 0.01);
     this.app.addFreeform({
       vertex: [roundTo(mid[0], st), roundTo(mid[1], st)],
       axis_deg: axis,
+      form: revolved ? 'revolved' : 'extruded',
       knots: clean,
-      diameter: roundTo(hi - lo, st),
-      offset: roundTo((hi + lo) / 2, st),
+      diameter: roundTo(hi - lo, st / 10),
+      offset: revolved ? 0 : roundTo((hi + lo) / 2, st / 10),
     });
     this.setTool('select');
   }

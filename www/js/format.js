@@ -2,9 +2,9 @@
 // A figure's key is the JSON key of the statistics report (docs/FORMATS.md §3);
 // its unit comes from the key's suffix.
 
-const THIN = '\u2009';
+const THIN = '\u202f'; // narrow no-break space: thin, and never a line break
 
-/** Integer with thin-space thousands separators: 20 000. */
+/** Integer with thousands grouped by a narrow no-break space: 20 000 (never split across lines). */
 export function fmtInt(n) {
   if (!Number.isFinite(n)) return '–';
   const s = Math.round(Math.abs(n)).toString().replace(/\B(?=(\d{3})+(?!\d))/g, THIN);
@@ -19,7 +19,8 @@ export function fmtNum(v, sig = 4) {
   const a = Math.abs(v);
   let s;
   if (a >= 1e6 || a < 1e-4) {
-    const [m, e] = v.toExponential(sig - 1).split('e');
+    let [m, e] = v.toExponential(sig - 1).split('e');
+    if (m.includes('.')) m = m.replace(/0+$/, '').replace(/\.$/, '');
     s = `${m}×10^${Number(e)}`.replace(/\^(-?\d+)/, (_, x) => sup(x));
   } else {
     const digits = Math.max(0, sig - 1 - Math.floor(Math.log10(a)));
@@ -55,12 +56,79 @@ export function withUnit(v, unit, sig) {
   return unit ? `${n}${THIN}${unit}` : n;
 }
 
-/** A length in mm shown in the most readable unit (µm, mm, m). */
-export function fmtLength(mm) {
+/**
+ * Lengths switch unit as they grow: below 1 mm in µm, from 1 m in m
+ * (a sun's spot on a facade is metres, not 10⁶ µm). The command line's
+ * tables follow the same rule (src/format.rs); tests/format_cases.json
+ * holds the cases both are checked against.
+ */
+const LENGTH_UNITS = [['µm', 1e-3], ['mm', 1], ['m', 1e3]];
+
+/** The readable unit for a length of `mm` (its magnitude): 'µm', 'mm' or 'm'. */
+export function lengthUnit(mm) {
   const a = Math.abs(mm);
-  if (a > 0 && a < 1) return withUnit(mm * 1000, 'µm', 3);
-  if (a >= 10000) return withUnit(mm / 1000, 'm', 4);
-  return withUnit(mm, 'mm', 4);
+  if (!(a > 0) || !Number.isFinite(a)) return 'mm';
+  if (a < 1) return 'µm';
+  if (a >= 1000) return 'm';
+  return 'mm';
+}
+
+/** `mm` expressed in `unit` ('µm', 'mm' or 'm'). */
+export function inUnit(mm, unit) {
+  const f = LENGTH_UNITS.find(([u]) => u === unit)?.[1] ?? 1;
+  return mm / f;
+}
+
+/**
+ * A length in mm shown in the most readable unit (µm, mm, m), `sig`
+ * digits; a length that is zero (or rounding noise) reads in `zeroUnit`.
+ */
+export function fmtLength(mm, sig = 4, zeroUnit = 'mm') {
+  if (typeof mm !== 'number' || Number.isNaN(mm)) return '–';
+  const clean = denoise(mm, 'mm');
+  // The unit of the value as rounded, so 999.96 µm reads 1 mm, not 1000 µm.
+  const unit = clean === 0 ? zeroUnit : lengthUnit(Number(clean.toPrecision(sig)));
+  return withUnit(inUnit(clean, unit), unit, sig);
+}
+
+/** A spot size given in µm, shown like any length: 4562 µm reads 4.562 mm. */
+export function fmtSpot(um, sig = 4) {
+  return fmtLength(denoise(um, 'µm') / 1000, sig, 'µm');
+}
+
+/**
+ * Fraction of the scene's size below which a position or a focus shift is
+ * rounding and sampling noise of an exact answer (a centred spot's
+ * centroid at 6.5×10⁻⁵ mm in a metre-sized layout): a micrometre per
+ * metre. Such a value shows as 0, and no digit finer than this is shown.
+ */
+export const SCENE_NOISE_REL = 1e-6;
+
+/** Size of a layout in mm: the largest coordinate or extent of its parts (at least 1 mm). */
+export function sceneScale(layout) {
+  let s = 1;
+  const grow = (v) => { if (typeof v === 'number' && Number.isFinite(v)) s = Math.max(s, Math.abs(v)); };
+  for (const e of [...(layout?.elements ?? []), ...(layout?.sources ?? [])]) {
+    for (const p of [e.vertex, e.center]) if (Array.isArray(p)) p.forEach(grow);
+    grow(e.aperture?.diameter); grow(e.size); grow(e.diameter); grow(e.length);
+    grow(e.profile?.radius);
+  }
+  return s;
+}
+
+/**
+ * A position or shift in mm in a scene of size `scale` mm: 0 when below
+ * the scene's noise (SCENE_NOISE_REL × scale), otherwise up to `sig`
+ * significant digits and none finer than that noise.
+ */
+export function fmtPos(mm, scale, sig = 5) {
+  if (typeof mm !== 'number' || Number.isNaN(mm)) return '–';
+  if (!Number.isFinite(mm)) return fmtNum(mm);
+  const res = SCENE_NOISE_REL * (scale > 0 ? scale : 1);
+  if (Math.abs(mm) < res) return '0';
+  const lead = Math.floor(Math.log10(Math.abs(mm)));
+  const finest = Math.floor(Math.log10(res));
+  return fmtNum(mm, Math.max(1, Math.min(sig, lead - finest + 1)));
 }
 
 /** Labels, units and hover explanations of report keys. */
@@ -112,12 +180,30 @@ export const STAT_ORDER = [
   'strehl_estimate', 'ee50_radius_um', 'ee80_radius_um',
 ];
 
-/** Formats a report value (number, [u, v] pair or other) for a cell. */
-export function fmtStat(key, v) {
-  // Positions below a picometre are rounding noise of a centred spot.
-  if (Array.isArray(v)) return v.map((x) => fmtNum(key.endsWith('_mm') && Math.abs(x) < 1e-9 ? 0 : x, 5)).join(', ');
+/**
+ * The unit a row of the statistics table (or a readout figure) shows
+ * `key` in, given its largest value: lengths in µm switch to mm or m.
+ */
+export function statUnit(key, largest) {
+  const u = statInfo(key).unit;
+  if (u !== 'µm' || typeof largest !== 'number' || !Number.isFinite(largest)) return u;
+  const clean = denoise(largest, 'µm');
+  return clean === 0 ? 'µm' : lengthUnit(Number((clean / 1000).toPrecision(4)));
+}
+
+/**
+ * Formats a report value (number, [u, v] pair or other) for a cell, in
+ * `unit` (statUnit) when given; `scale` is the scene's size in mm
+ * (sceneScale), below whose noise positions and shifts read 0.
+ */
+export function fmtStat(key, v, { unit, scale } = {}) {
+  const mm = key.endsWith('_mm');
+  if (Array.isArray(v)) return v.map((x) => (mm ? fmtPos(x, scale ?? 1) : fmtNum(x, 5))).join(', ');
   if (typeof v === 'boolean') return v ? 'yes' : 'no';
   if (typeof v !== 'number') return v === null || v === undefined ? '–' : String(v);
   if (key === 'hits' || key.startsWith('rays_')) return fmtInt(v);
-  return fmtNum(denoise(v, statInfo(key).unit), 4);
+  if (mm) return fmtPos(v, scale ?? 1, 4);
+  const base = statInfo(key).unit;
+  if (base === 'µm' && unit && unit !== 'µm') return fmtNum(inUnit(denoise(v, 'µm') / 1000, unit), 4);
+  return fmtNum(denoise(v, base), 4);
 }

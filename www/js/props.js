@@ -4,8 +4,9 @@
 // with the session's message under it, while the layout keeps its last
 // valid state.
 
-import { fmtInt, fmtNum, withUnit } from './format.js';
+import { fmtInt, fmtLength, fmtNum, withUnit } from './format.js';
 import { solveGroup, varyToggle } from './solve.js';
+import { plainError } from './messages.js';
 import { dayDate } from './views/day.js';
 
 /** Dotted field path as the session reports it: elements[0].profile.conic. */
@@ -150,11 +151,12 @@ export class Props {
         else if (spec.type === 'number') input.value = v === undefined || v === null ? '' : String(v);
         else input.value = v ?? '';
       },
-      setError: (msg) => {
+      // `quiet`: only mark the field (its message shows under another one).
+      setError: (msg, quiet = false) => {
         f.invalid = !!msg;
         row.classList.toggle('invalid', !!msg);
-        err.hidden = !msg;
-        err.textContent = msg || '';
+        err.hidden = !msg || quiet;
+        err.textContent = quiet ? '' : msg || '';
         input.setAttribute('aria-invalid', msg ? 'true' : 'false');
       },
     };
@@ -188,17 +190,21 @@ export class Props {
     return f;
   }
 
-  /** Shows a session error under the field it names (else under `fallback`). */
+  /**
+   * Shows a session error once: under the field being edited (`fallback`),
+   * naming the field it is about by its label when that is another one,
+   * which is only marked.
+   */
   showError(text, fallback) {
     const i = text.indexOf(': ');
     const path = i > 0 ? text.slice(0, i) : '';
     const msg = i > 0 ? text.slice(i + 2) : text;
     const target = this.fields.find((g) => g.input.dataset.path === path)
       ?? this.fields.find((g) => path.startsWith(`${g.input.dataset.path}[`) || path.startsWith(`${g.input.dataset.path}.`));
-    if (target === fallback) fallback.setError(msg);
+    if (target === fallback) fallback.setError(`${fallback.spec.label}: ${msg}`);
     else {
-      target?.setError(msg);
-      fallback.setError(text);
+      target?.setError(msg, true);
+      fallback.setError(target ? `${target.spec.label}: ${msg}` : plainError(text, this.app.layout));
     }
   }
 
@@ -234,7 +240,7 @@ export class Props {
     const ns = L.elements.length - nm;
     const rays = L.sources.reduce((a, x) => a + x.rays, 0);
     this.note(s, `${nm} mirror${nm === 1 ? '' : 's'}, ${ns} screen${ns === 1 ? '' : 's'}, ${L.sources.length} source${L.sources.length === 1 ? '' : 's'}; ${fmtInt(rays)} rays in a full trace.`);
-    this.note(s, 'Click an item in the drawing to edit it, or add one with the toolbox on the left. Above 20 000 rays (or with many bounces) the full trace runs in the background while a quicker preview follows your edits; a layout that could take minutes waits until you ask for it.');
+    this.note(s, 'Click an item in the drawing to edit it, or add one with the toolbox on the left. Above 20\u202f000 rays (or with many bounces) the full trace runs in the background while a quicker preview follows your edits; a layout that could take minutes waits until you ask for it.');
     this.derived = [];
     this.siteForm(L);
   }
@@ -364,13 +370,22 @@ export class Props {
       if (!it || it.kind !== 'mirror') return;
       const r = it.profile.radius;
       const d = it.aperture.diameter;
-      const rhoMax = Math.abs(it.aperture.offset ?? 0) + d / 2;
-      const sag = app.session.sag_at(ei, rhoMax);
+      // The rim's sag from the surface on the axis, departure included (a
+      // drawn free-form mirror's knots may put the axis point well off the
+      // vertex); an extruded strip's farther edge.
+      const off = it.aperture.offset ?? 0;
+      const rims = it.form === 'extruded' ? [off - d / 2, off + d / 2] : [Math.abs(off) + d / 2];
+      const s0 = app.session.sag_at(ei, 0);
+      let sag;
+      for (const rho of rims) {
+        const v = app.session.sag_at(ei, rho);
+        if (v !== undefined && s0 !== undefined && (sag === undefined || Math.abs(v - s0) > Math.abs(sag))) sag = v - s0;
+      }
       const parts = [];
       if (r) parts.push(`f = ${withUnit(r / 2, 'mm')}`, `f/${fmtNum(Math.abs(r / 2) / d, 3)}`);
-      if (sag !== undefined) parts.push(`edge sag ${withUnit(sag, 'mm')}`);
+      if (sag !== undefined) parts.push(`edge sag ${fmtLength(sag)}`);
       info.textContent = parts.join(' · ');
-      info.title = 'Paraxial focal length f = R/2, focal ratio f/D, and the sag at the edge of the aperture';
+      info.title = 'Paraxial focal length f = R/2, focal ratio f/D, and the sag at the edge of the aperture measured from the surface on the mirror axis (conic, aspheric terms and departure)';
     };
     update();
     this.derived.push(update);
@@ -381,7 +396,7 @@ export class Props {
     const g0 = this.group('Identity and placement');
     this.idField(g0, base);
     this.placement(g0, base, s, 'center', 'axis_deg', 'facing', 'Direction the sensitive face looks, degrees from +z toward +y; light arriving against this direction is recorded');
-    const g = this.group('Detector');
+    const g = this.group('Screen');
     this.field(g, { label: 'size', unit: 'mm', type: 'number', path: [...base, 'size'], title: 'Side of a square screen or diameter of a round one' });
     this.field(g, { label: 'shape', type: 'select', path: [...base, 'shape'], options: [['square', 'square'], ['circle', 'round']], title: 'Outline of the screen' });
     this.field(g, { label: 'opaque', type: 'check', path: [...base, 'opaque'], def: false, title: 'An opaque screen stops the light it records; a clear one lets it pass (a virtual detector)' });

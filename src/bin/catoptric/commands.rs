@@ -3,6 +3,7 @@
 use crate::Failure;
 use catoptric::analysis::{trace_report, TraceReport};
 use catoptric::error::{printable, Num};
+use catoptric::format::{position_mm, scene_scale, sig, spot_um};
 use catoptric::layout::{
     checked_link, decode_layout_bytes, decode_link, parse_layout, Layout, MAX_LAYOUT_BYTES, MAX_RAYS_PER_SOURCE, MAX_RAYS_TOTAL,
 };
@@ -96,6 +97,8 @@ pub fn within_budget(path: &str, layout: &Layout, scene: &Scene, total_rays: u64
 
 fn table(layout: &Layout, r: &TraceReport) -> String {
     let mut s = String::new();
+    // Positions and shifts below this scene's noise print 0 (src/format.rs).
+    let scale = scene_scale(layout);
     let _ = writeln!(s, "{}", printable(&layout.name));
     let _ = writeln!(
         s,
@@ -114,29 +117,28 @@ fn table(layout: &Layout, r: &TraceReport) -> String {
         let _ = writeln!(
             s,
             "  {:<14} {:>9} {:>12} {:>22} {:>14} {:>14}",
-            "source", "hits", "power W", "centroid u, v (mm)", "RMS radius µm", "max radius µm"
+            "source", "hits", "power W", "centroid u, v (mm)", "RMS radius", "max radius"
         );
         for b in &sc.by_source {
             let _ = writeln!(
                 s,
-                "  {:<14} {:>9} {:>12.5} {:>22} {:>14.3} {:>14.3}",
+                "  {:<14} {:>9} {:>12.5} {:>22} {:>14} {:>14}",
                 printable(&b.source),
                 b.hits,
                 Num(b.power_w),
-                format!("{:.5}, {:.5}", Num(b.centroid_mm[0]), Num(b.centroid_mm[1])),
-                Num(b.rms_radius_um),
-                Num(b.max_radius_um)
+                format!("{}, {}", position_mm(b.centroid_mm[0], scale, 5), position_mm(b.centroid_mm[1], scale, 5)),
+                spot_um(b.rms_radius_um, 4),
+                spot_um(b.max_radius_um, 4)
             );
-            source_lines(&mut s, b);
+            source_lines(&mut s, b, scale);
         }
         let f = &sc.flux;
         let _ = writeln!(
             s,
-            "  flux: peak {:.4e} W/m² ({}), mean {:.4e} W/m² (power / screen area), intercept {}",
-            // + 0.0 turns a negative zero (an empty sum) into 0.
-            f.peak_w_m2 + 0.0,
-            opt(f.peak_suns.map(|v| format!("{:.1} suns", Num(v))), "no beam"),
-            f.mean_w_m2 + 0.0,
+            "  flux: peak {} W/m² ({}), mean {} W/m² (power / screen area), intercept {}",
+            sig(f.peak_w_m2, 4),
+            opt(f.peak_suns.map(|v| format!("{} suns", sig(v, 4))), "no beam"),
+            sig(f.mean_w_m2, 4),
             opt(f.intercept.map(|v| format!("{:.4}", Num(v))), "—")
         );
     }
@@ -156,15 +158,16 @@ fn opt(v: Option<String>, none: &str) -> String {
 }
 
 /// The focus, wavefront and energy figures of one source, indented.
-fn source_lines(s: &mut String, b: &catoptric::analysis::SourceReport) {
+fn source_lines(s: &mut String, b: &catoptric::analysis::SourceReport, scale: f64) {
     let f3 = |v: Option<f64>, unit: &str| opt(v.map(|x| format!("{:.3} {unit}", Num(x))), "—");
+    let spot = |v: Option<f64>| opt(v.map(|x| spot_um(x, 4)), "—");
     let _ = writeln!(
         s,
         "    best focus {} (+ along the screen axis), RMS at best {}; working f/{}, Airy radius {} (1.22 λN)",
-        opt(b.best_focus_shift_mm.map(|x| format!("{:+.4} mm", Num(x))), "—"),
-        f3(b.rms_radius_at_best_um, "µm"),
-        opt(b.f_number.map(|x| format!("{:.3}", Num(x))), "—"),
-        f3(b.airy_radius_um, "µm"),
+        opt(b.best_focus_shift_mm.map(|x| format!("{}\u{202f}mm", position_mm(x, scale, 5))), "—"),
+        spot(b.rms_radius_at_best_um),
+        opt(b.f_number.map(|x| sig(x, 4)), "—"),
+        spot(b.airy_radius_um),
     );
     let _ = writeln!(
         s,
@@ -177,8 +180,8 @@ fn source_lines(s: &mut String, b: &catoptric::analysis::SourceReport) {
     let _ = writeln!(
         s,
         "    encircled energy about the centroid: 50 % within {}, 80 % within {}",
-        f3(b.ee50_radius_um, "µm"),
-        f3(b.ee80_radius_um, "µm"),
+        spot(b.ee50_radius_um),
+        spot(b.ee80_radius_um),
     );
 }
 

@@ -168,7 +168,15 @@ fn two_mirror(a: TwoMirrorArgs) -> Result<String, Failure> {
     let q = &d.secondary;
     let _ = writeln!(s, "{:<10} {:>13.3} {:>12.6} {:>14.3} {:>10}", "secondary", Num(q.radius_mm), Num(q.conic), Num(q.diameter_mm), "-");
     let _ = writeln!(s, "obstruction {:.1}% of the diameter (radii: concave +, convex −)", Num(100.0 * d.obstruction_fraction));
+    warnings(&mut s, &d.warnings);
     Ok(s)
+}
+
+/// The designers' warnings on extreme input, one line each.
+fn warnings(s: &mut String, list: &[String]) {
+    for w in list {
+        let _ = writeln!(s, "Warning: {w}");
+    }
 }
 
 fn off_axis(a: OffAxisArgs) -> Result<String, Failure> {
@@ -207,6 +215,7 @@ fn off_axis(a: OffAxisArgs) -> Result<String, Failure> {
         Num(f.bisector_off_axis_deg),
         Num(f.half_angle_deg)
     );
+    warnings(&mut s, &d.warnings);
     // The same geometry feeds an offset solar dish (the page's card says so too).
     let _ = writeln!(
         s,

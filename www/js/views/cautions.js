@@ -1,7 +1,10 @@
-// Sunlight cautions in the strip under the toolbar (#sun-caution, shown
+// Sunlight cautions over the top of the drawing (#sun-caution, shown
 // whenever a sun source exists): the concentration the layout reaches, a
 // stronger warning above CONCENTRATION_CAUTION_SUNS, and the solar-filter
-// warning when the sun feeds a telescope-like system.
+// warning when the sun feeds a telescope-like system. The box overlays the
+// drawing (it never pushes it) and folds to one line, the most serious
+// warning first, with a "more" toggle; it is never hidden while a sun is in
+// the layout.
 
 import { fmtNum } from '../format.js';
 
@@ -14,24 +17,44 @@ export const CONCENTRATION_CAUTION_SUNS = 10;
  */
 export const TELESCOPE_F_NUMBER = 3;
 
-function part(box, id, cls) {
+/** The caution line `id`, made before the general caution on first use. */
+function part(body, id, cls, after = false) {
   let el = document.getElementById(id);
   if (!el) {
     el = document.createElement('p');
     el.id = id;
     el.className = cls;
-    box.append(el);
+    if (after) body.append(el);
+    else body.insertBefore(el, body.querySelector('.caution-base'));
   }
   return el;
+}
+
+/** Folds the caution to one line or unfolds it. */
+export function expandCaution(box, on) {
+  box.dataset.expanded = String(on);
+  const more = box.querySelector('.caution-more');
+  if (!more) return;
+  more.textContent = on ? 'less' : 'more';
+  more.setAttribute('aria-expanded', String(on));
+}
+
+function wireToggle(box) {
+  if (box.dataset.wired) return;
+  box.dataset.wired = 'true';
+  const more = box.querySelector('.caution-more');
+  if (more) more.onclick = () => expandCaution(box, box.dataset.expanded !== 'true');
 }
 
 /** Refreshes the caution lines from the current layout and report. */
 export function updateCautions(app) {
   const box = document.getElementById('sun-caution');
   if (!box) return;
-  const conc = part(box, 'concentration-caution', 'caution-line');
-  const filter = part(box, 'filter-caution', 'caution-line');
-  const figure = part(box, 'concentration-figure', 'caution-line muted-line');
+  wireToggle(box);
+  const body = box.querySelector('.caution-body') ?? box;
+  const conc = part(body, 'concentration-caution', 'caution-line');
+  const filter = part(body, 'filter-caution', 'caution-line');
+  const figure = part(body, 'concentration-figure', 'caution-line muted-line', true);
   conc.hidden = filter.hidden = figure.hidden = true;
   const suns = new Set(app.layout.sources.filter((s) => s.kind === 'beam' && s.sun_half_angle_mrad > 0).map((s) => s.id));
   const rep = app.result?.report;

@@ -5,6 +5,7 @@
 // No optics here: every number comes from the wasm functions.
 
 import { denoise, fmtNum } from '../format.js';
+import { plainError } from '../messages.js';
 import { download, slug } from '../export.js';
 import { niceStep } from '../editor.js';
 import { sourceColour } from '../palette.js';
@@ -129,14 +130,17 @@ export class Form {
     const base = path.replace(/[[.(\s].*$/, '');
     const f = this.fields.get(path) ?? this.fields.get(base);
     if (f) {
+      // The field's visible label, not the core's key (`back_focus`); an
+      // entry of a list keeps its number (`conics[2]` → entry 3).
+      const entry = /\[(\d+)\]/.exec(path.slice(base.length));
       f.row.classList.add('invalid');
       f.err.hidden = false;
-      f.err.textContent = text;
+      f.err.textContent = `${f.spec.label}${entry ? `, entry ${Number(entry[1]) + 1}` : ''}: ${text.slice(i + 2)}`;
       f.input.setAttribute('aria-invalid', 'true');
       return f.spec.name;
     }
     this.general.hidden = false;
-    this.general.textContent = text;
+    this.general.textContent = plainError(text);
     return '';
   }
 }

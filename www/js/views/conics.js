@@ -48,7 +48,7 @@ export class ConicsView {
     const f = this.form;
     f.field({ name: 'radius', label: 'vertex radius R', unit: 'mm', value: '2400', title: 'Vertex radius of curvature of the concave mirror (twice its focal length), mm' });
     f.field({ name: 'diameter', label: 'diameter D', unit: 'mm', value: '150', title: 'Clear diameter of the mirror, mm' });
-    f.field({ name: 'conics', label: 'conic constants', unit: 'K', type: 'text', value: DEFAULT_CONICS.join(', '), title: 'Comma-separated conic constants: 0 sphere, −1 paraboloid, < −1 hyperboloid, between −1 and 0 prolate ellipsoid' });
+    f.field({ name: 'conics', label: 'conic constants', unit: 'K', type: 'text', value: DEFAULT_CONICS.join(', '), title: 'Conic constants separated by commas, semicolons or spaces: 0 sphere, −1 paraboloid, < −1 hyperboloid, between −1 and 0 prolate ellipsoid' });
     f.field({ name: 'wavelength', label: 'wavelength λ', unit: 'nm', value: '550', title: 'Wavelength for the wavefront figures, nm' });
     f.finish();
     const tools = document.createElement('div');

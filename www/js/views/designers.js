@@ -92,6 +92,16 @@ class Card {
     }
     this.form.clearErrors();
     this.out.replaceChildren(figureTable(this.figures, this.doc, { id: `${this.id}-figures`, caption: this.doc.layout.name }));
+    // The core's warnings on impossible or extreme input, above the figures.
+    for (const w of this.doc.warnings ?? []) {
+      const p = document.createElement('p');
+      p.className = 'design-warning';
+      p.setAttribute('role', 'alert');
+      const b = document.createElement('strong');
+      b.textContent = 'Check the input. ';
+      p.append(b, w);
+      this.out.prepend(p);
+    }
     this.out.dataset.state = 'ok';
     this.openBtn.disabled = this.csvBtn.disabled = false;
   }
@@ -152,7 +162,7 @@ export class DesignersView {
         { name: 'diameter', label: 'diameter D', unit: 'mm', value: '150', title: 'Diameter of the segment, mm' },
       ],
       figures: OFF_AXIS_FIGURES,
-      note: 'A segment of a paraboloid: light parallel to the parent axis meets at the parent focus, clear of the incoming beam. The same geometry places the feed of an offset dish.',
+      note: 'A segment of a paraboloid: light parallel to the parent axis meets at the parent focus, which is clear of the incoming beam when the offset H is at least D/2. The same geometry places the feed of an offset dish.',
       run: (f) => JSON.parse(api().off_axis_json(f.num('parent_focal'), f.num('offset'), f.num('diameter'))),
     });
     const caution = document.createElement('p');

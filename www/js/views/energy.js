@@ -3,7 +3,7 @@
 // diffraction-limited verdict with the criterion it rests on.
 
 import { sourceColour } from '../palette.js';
-import { denoise, fmtNum, withUnit } from '../format.js';
+import { denoise, fmtNum, fmtSpot, withUnit } from '../format.js';
 import { LinePlot } from './plot.js';
 import { chosen, figureList, unpair, viewSide, visible } from './data.js';
 
@@ -46,11 +46,11 @@ export class EnergyView {
     const airy = r?.airy_radius_um;
     const marks = [];
     if (radii) {
-      marks.push({ kind: 'point', x: radii[0], y: 50, label: `EE50 ${withUnit(radii[0], 'µm', 3)}`, colour: th.ink });
-      marks.push({ kind: 'point', x: radii[1], y: 80, label: `EE80 ${withUnit(radii[1], 'µm', 3)}`, colour: th.ink });
+      marks.push({ kind: 'point', x: radii[0], y: 50, label: `EE50 ${fmtSpot(radii[0])}`, colour: th.ink });
+      marks.push({ kind: 'point', x: radii[1], y: 80, label: `EE80 ${fmtSpot(radii[1])}`, colour: th.ink });
       marks.push({ kind: 'hline', y: 50, dash: [2, 4] }, { kind: 'hline', y: 80, dash: [2, 4] });
     }
-    if (airy > 0 && ee) marks.push({ kind: 'vline', x: airy, label: `Airy radius ${withUnit(airy, 'µm', 3)}` });
+    if (airy > 0 && ee) marks.push({ kind: 'vline', x: airy, label: `Airy radius ${fmtSpot(airy)}` });
     this.plot.set({
       title: `Encircled energy about the centroid — ${scId}${r ? `, ${r.source}` : ''}`,
       x: { label: 'radius', unit: 'µm', include: [0, airy > 0 ? 1.15 * airy : 0], minSpan: 1, min: 0 },
@@ -92,9 +92,9 @@ export class EnergyView {
       this.verdict.append(box);
     }
     this.figs.replaceChildren(r ? figureList([
-      { key: 'ee50_radius_um', label: 'EE50 radius', value: radii?.[0] ?? null, text: radii ? withUnit(radii[0], 'µm', 6) : '–', title: 'Radius about the centroid holding 50 % of the power on the screen' },
-      { key: 'ee80_radius_um', label: 'EE80 radius', value: radii?.[1] ?? null, text: radii ? withUnit(radii[1], 'µm', 6) : '–', title: 'Radius about the centroid holding 80 % of the power on the screen' },
-      { key: 'airy_radius_um', label: 'Airy radius', value: airy ?? null, text: airy ? withUnit(airy, 'µm', 4) : '–', title: 'First dark ring of a perfect focus, 1.22 λ N' },
+      { key: 'ee50_radius_um', label: 'EE50 radius', value: radii?.[0] ?? null, text: radii ? fmtSpot(radii[0]) : '–', title: 'Radius about the centroid holding 50 % of the power on the screen' },
+      { key: 'ee80_radius_um', label: 'EE80 radius', value: radii?.[1] ?? null, text: radii ? fmtSpot(radii[1]) : '–', title: 'Radius about the centroid holding 80 % of the power on the screen' },
+      { key: 'airy_radius_um', label: 'Airy radius', value: airy ?? null, text: airy ? fmtSpot(airy) : '–', title: 'First dark ring of a perfect focus, 1.22 λ N' },
       { key: 'ee80_over_airy', label: 'EE80 / Airy radius', value: radii && airy ? radii[1] / airy : null, text: radii && airy ? fmtNum(denoise(radii[1], 'µm') / airy, 3) : '–',
         title: 'Geometric EE80 radius against the diffraction spot; well below 1 means diffraction, not the geometry, sets the spot size' },
       { key: 'strehl_estimate', label: 'Strehl estimate', value: r.strehl_estimate, text: r.strehl_estimate === null ? '–' : fmtNum(r.strehl_estimate, 4) },

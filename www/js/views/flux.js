@@ -88,7 +88,7 @@ export class FluxView {
     if (!sc || !f) { this.figs.replaceChildren(); this.note.textContent = ''; return; }
     const pix = (2 * f.half) / f.nx;
     this.figs.replaceChildren(figureList([
-      { key: 'peak_w_m2', label: 'peak flux', value: f.peak, text: withUnit(f.peak, 'W/m²', 6), title: 'Highest pixel irradiance on the map' },
+      { key: 'peak_w_m2', label: 'peak flux', value: f.peak, text: withUnit(f.peak, 'W/m²', 4), title: 'Highest pixel irradiance on the map' },
       { key: 'peak_suns', label: 'peak concentration', value: f.suns, text: f.suns === null ? '– (no beam source)' : withUnit(f.suns, 'suns', 4),
         title: 'Peak flux over the incident irradiance of the beams' },
       { key: 'mean_w_m2', label: 'mean flux', value: f.mean, text: withUnit(f.mean, 'W/m²', 4), title: 'Power on the screen over its area' },

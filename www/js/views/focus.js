@@ -3,7 +3,7 @@
 // ray crosses the screen's axis against its height in the pupil).
 
 import { sourceColour } from '../palette.js';
-import { fmtNum, withUnit } from '../format.js';
+import { fmtNum, fmtPos, fmtSpot, sceneScale } from '../format.js';
 import { LinePlot } from './plot.js';
 import { chosen, figureList, unpair, viewSide, visible } from './data.js';
 
@@ -72,8 +72,8 @@ export class FocusView {
     // through focus
     const tf = p?.focus ? unpair(p.focus) : null;
     const marks = [{ kind: 'vline', x: 0, label: 'screen', row: 1 }];
-    if (best) marks.push({ kind: 'point', x: best[0], y: best[1], label: `best focus ${withUnit(best[0], 'mm', 4)}`, colour: th.ink });
-    if (airy > 0) marks.push({ kind: 'hline', y: airy, label: `Airy radius ${withUnit(airy, 'µm', 3)}` });
+    if (best) marks.push({ kind: 'point', x: best[0], y: best[1], label: `best focus ${fmtPos(best[0], sceneScale(app.layout), 4)}\u202fmm`, colour: th.ink });
+    if (airy > 0) marks.push({ kind: 'hline', y: airy, label: `Airy radius ${fmtSpot(airy)}` });
     this.tf.set({
       title: `RMS spot radius through focus — ${scId}${c.row ? `, ${c.row.source}` : ''}`,
       x: { label: 'screen shift', unit: 'mm', minSpan: 0.02 },
@@ -105,17 +105,20 @@ export class FocusView {
       laSpread = hi - lo;
     }
     const r = c.row;
+    // The statistics table's formatter: the same value reads the same here.
+    const scale = sceneScale(app.layout);
+    const mm = (v) => `${fmtPos(v, scale, 4)}\u202fmm`;
     this.figs.replaceChildren(r ? figureList([
       { key: 'best_focus_shift_mm', label: 'best focus shift', value: best?.[0] ?? null,
-        text: best ? withUnit(best[0], 'mm', 6) : 'none (rays arrive parallel)',
+        text: best ? mm(best[0]) : 'none (rays arrive parallel)',
         title: 'Screen shift along its axis where the RMS spot is smallest (positive: toward the arriving light)' },
-      { key: 'rms_radius_at_best_um', label: 'RMS radius at best focus', value: best?.[1] ?? null, text: best ? withUnit(best[1], 'µm', 4) : '–' },
-      { key: 'rms_radius_um', label: 'RMS radius on the screen', value: r.rms_radius_um, text: withUnit(r.rms_radius_um, 'µm', 4) },
+      { key: 'rms_radius_at_best_um', label: 'RMS radius at best focus', value: best?.[1] ?? null, text: best ? fmtSpot(best[1]) : '–' },
+      { key: 'rms_radius_um', label: 'RMS radius on the screen', value: r.rms_radius_um, text: fmtSpot(r.rms_radius_um) },
       { key: 'f_number', label: 'working f-number', value: r.f_number, text: r.f_number ? `f/${fmtNum(r.f_number, 3)}` : '–',
         title: '1 / (2 sin θ), θ the widest angle of the arriving cone' },
-      { key: 'airy_radius_um', label: 'Airy radius', value: airy ?? null, text: airy ? withUnit(airy, 'µm', 3) : '–', title: '1.22 λ N' },
+      { key: 'airy_radius_um', label: 'Airy radius', value: airy ?? null, text: airy ? fmtSpot(airy) : '–', title: '1.22 λ N' },
       { key: 'longitudinal_spread_mm', label: 'longitudinal spread', value: laSpread,
-        text: laSpread === null ? '–' : withUnit(laSpread, 'mm', 4),
+        text: laSpread === null ? '–' : mm(laSpread),
         title: 'Distance between the nearest and farthest axial crossings of the meridional fan' },
     ]) : '');
     this.note.textContent = c.res?.kind === 'preview' ? 'preview trace' : '';

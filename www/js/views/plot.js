@@ -33,7 +33,18 @@ export function prepareCanvas(canvas, minSide, bg) {
 }
 
 
-const M = { left: 62, right: 14, top: 24, bottom: 38 };
+/** A scale bar of `px` pixels with its end ticks at (x, y), labelled `text`. */
+export function scaleBar(ctx, x, y, px, text, ink) {
+  ctx.strokeStyle = ink;
+  ctx.fillStyle = ink;
+  ctx.lineWidth = 2;
+  ctx.beginPath();
+  ctx.moveTo(x, y - 5); ctx.lineTo(x, y); ctx.lineTo(x + px, y); ctx.lineTo(x + px, y - 5);
+  ctx.stroke();
+  ctx.fillText(text, x + px + 6, y + 1);
+}
+
+const M = { left: 62, right: 22, top: 24, bottom: 38 };
 const MINUS = '\u2212';
 
 /** Tick values covering [lo, hi] about every `px` pixels of `len`. */
@@ -52,7 +63,7 @@ export function tickLabel(v, step) {
   if (a >= 1e5 || a < 1e-4) return fmtNum(v, 3);
   const dec = Math.max(0, -Math.floor(Math.log10(a) + 1e-9));
   let s = v.toFixed(Math.min(dec, 8));
-  if (Math.abs(v) >= 1e4) s = s.replace(/^(-?\d+)/, (m) => m.replace(/\B(?=(\d{3})+(?!\d))/g, '\u2009'));
+  if (Math.abs(v) >= 1e4) s = s.replace(/^(-?\d+)/, (m) => m.replace(/\B(?=(\d{3})+(?!\d))/g, '\u202f'));
   return s.replace(/^-/, MINUS);
 }
 
@@ -141,7 +152,11 @@ export class LinePlot {
     ctx.globalAlpha = 1;
     ctx.fillStyle = th.ink2;
     ctx.textAlign = 'center';
-    for (const v of xt.values) ctx.fillText(tickLabel(v, xt.step), X(v), M.top + ph + 14);
+    // A tick label at either end stays whole inside the canvas.
+    for (const v of xt.values) {
+      const t = tickLabel(v, xt.step), hw = ctx.measureText(t).width / 2;
+      ctx.fillText(t, Math.min(W - hw - 2, Math.max(hw + 2, X(v))), M.top + ph + 14);
+    }
     ctx.textAlign = 'right';
     for (const v of yt.values) ctx.fillText(tickLabel(v, yt.step), M.left - 5, Y(v) + 4);
     ctx.textAlign = 'center';
@@ -159,6 +174,18 @@ export class LinePlot {
     ctx.beginPath();
     ctx.rect(M.left, M.top, pw, ph);
     ctx.clip();
+    // Vertical guide labels take the first row (from their own) where they
+    // overlap no label placed before them, left to right.
+    const placed = [];
+    const vrow = new Map();
+    for (const m of marks.filter((q) => q.kind === 'vline' && q.label && Number.isFinite(q.x)).sort((a, b) => a.x - b.x)) {
+      const w = ctx.measureText(m.label).width;
+      const x0 = Math.min(X(m.x) + 4, M.left + pw - w - 3);
+      let row = m.row ?? 0;
+      while (placed.some((b) => b.row === row && x0 < b.x1 + 6 && b.x0 < x0 + w + 6)) row++;
+      placed.push({ row, x0, x1: x0 + w });
+      vrow.set(m, row);
+    }
     // guide lines
     for (const m of marks) {
       if (m.kind === 'point' || !Number.isFinite(m.kind === 'vline' ? m.x : m.y)) continue;
@@ -172,8 +199,9 @@ export class LinePlot {
       ctx.setLineDash([]);
       if (m.label) {
         ctx.fillStyle = m.colour ?? th.ink2;
-        if (m.kind === 'vline') ctx.fillText(m.label, Math.min(X(m.x) + 4, M.left + pw - ctx.measureText(m.label).width - 3), M.top + 13 + (m.row ?? 0) * 14);
-        else ctx.fillText(m.label, M.left + pw - ctx.measureText(m.label).width - 4, Y(m.y) - 4);
+        if (m.kind === 'vline') ctx.fillText(m.label, Math.min(X(m.x) + 4, M.left + pw - ctx.measureText(m.label).width - 3), M.top + 13 + (vrow.get(m) ?? 0) * 14);
+        // A horizontal guide near the top has its label below the line, not cut by the frame.
+        else ctx.fillText(m.label, M.left + pw - ctx.measureText(m.label).width - 4, Y(m.y) - 4 < M.top + 12 ? Y(m.y) + 13 : Y(m.y) - 4);
       }
     }
     // series
@@ -244,7 +272,7 @@ export class LinePlot {
           ctx.setLineDash([]);
           ctx.fillStyle = s0.colour;
           ctx.beginPath(); ctx.arc(x, y, 4, 0, 2 * Math.PI); ctx.fill();
-          const u = (a) => (a.unit ? `\u2009${a.unit}` : '');
+          const u = (a) => (a.unit ? `\u202f${a.unit}` : '');
           const text = `${spec.x.label} ${fmtNum(px, 5)}${u(spec.x)} · ${spec.y.label} ${fmtNum(py, 5)}${u(spec.y)}`;
           this.hoverText = text;
           const tw = ctx.measureText(text).width + 10;
