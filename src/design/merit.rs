@@ -10,15 +10,16 @@
 //! Strehl ratios; the intercept is the first-arrival power of the chosen
 //! sources on the screen over the power they launched.
 //!
-//! The Strehl ratio is the extended Maréchal estimate exp(−(2πσ)²) from
-//! the RMS wavefront at best focus, behind one function ([`strehl`]) so
-//! a Strehl ratio from the diffraction image can take its place.
+//! The Strehl ratio is the diffraction image's (`analysis::psf`: the PSF
+//! peak over the unaberrated peak of the same pupil, at best focus, on a
+//! [`MERIT_PSF_GRID`] pupil grid, as the page's readout), valid at any
+//! aberration; behind one function ([`strehl`]).
 
-use crate::analysis::{focus_fit, spot_stats, wavefront, FocusFit};
+use crate::analysis::{focus_fit, psf, spot_stats, FocusFit, PsfFocus, PsfOptions};
 use crate::error::InputError;
 use crate::layout::{validate, Element, Layout, Source};
 use crate::scene::Scene;
-use crate::trace::{trace, ScreenHits, TraceOptions, TraceResult};
+use crate::trace::{trace, TraceOptions, TraceResult};
 
 /// The screen and sources a figure of merit is about.
 #[derive(Debug, Clone, PartialEq)]
@@ -97,12 +98,16 @@ pub struct Figures {
     pub hits: u64,
 }
 
-/// The Strehl ratio of one source's hits (`None` where it means nothing):
-/// the extended Maréchal estimate exp(−(2πσ)²) from the RMS wavefront σ
-/// at best focus (see `analysis::wavefront`).
-pub fn strehl(h: &ScreenHits, source: u32, fit: Option<&FocusFit>, wavelength_mm: f64) -> Option<f64> {
-    let reference = fit.and_then(|f| f.best_point()).or_else(|| fit.map(|f| [f.centroid[0], f.centroid[1], 0.0]))?;
-    wavefront(h, Some(source), reference, wavelength_mm).map(|w| w.strehl)
+/// Pupil grid of the Strehl ratio's diffraction image: the page readout's,
+/// fine enough for the figure and quick enough for hundreds of trials.
+pub const MERIT_PSF_GRID: usize = 128;
+
+/// The Strehl ratio of one source on one screen (`None` where it means
+/// nothing: too few hits, rays arriving parallel): the PSF Strehl at best
+/// focus (`catoptric psf --grid 128`).
+pub fn strehl(scene: &Scene, res: &TraceResult, screen: usize, source: usize) -> Option<f64> {
+    let opts = PsfOptions { screen, source, at: PsfFocus::Best, grid: MERIT_PSF_GRID };
+    psf(scene, res, &opts).ok().map(|p| p.report.strehl)
 }
 
 /// Traces a validated layout with `rays` per source (each source's own
@@ -116,7 +121,6 @@ pub fn trace_layout(layout: &Layout, rays: Option<usize>, threads: Option<usize>
 /// The figures of a finished trace.
 pub fn figures(layout: &Layout, scene: &Scene, res: &TraceResult, t: &Target) -> Figures {
     let h = &res.screens[t.screen];
-    let lambda = scene.wavelength_mm;
     let (mut n, mut ms, mut sw, mut sn, mut power, mut launched) = (0u64, 0.0, 0.0, 0u64, 0.0, 0.0);
     for &s in &t.sources {
         launched += res.power_by_source.get(s).copied().unwrap_or(0.0);
@@ -129,8 +133,7 @@ pub fn figures(layout: &Layout, scene: &Scene, res: &TraceResult, t: &Target) ->
         ms += st.hits as f64 * st.rms_radius * st.rms_radius;
         let extended = matches!(&layout.sources[s], Source::Beam(b) if b.sun_half_angle_mrad > 0.0);
         if !extended {
-            let fit = focus_fit(h, Some(s as u32));
-            if let Some(v) = strehl(h, s as u32, fit.as_ref(), lambda) {
+            if let Some(v) = strehl(scene, res, t.screen, s) {
                 sw += st.hits as f64 * v;
                 sn += st.hits;
             }

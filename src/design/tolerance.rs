@@ -28,9 +28,8 @@
 //!
 //! # Figures
 //!
-//! Per trial the figures of `merit` (RMS radius, Strehl ratio — the
-//! Maréchal estimate until the diffraction image's Strehl replaces it —
-//! and intercept); percentiles over trials by linear interpolation between
+//! Per trial the figures of `merit` (RMS radius, Strehl ratio from the
+//! diffraction image at best focus, intercept); percentiles over trials by linear interpolation between
 //! order statistics (p = (n − 1)·q, the common "type 7" rule). A trial
 //! with no hits counts as the worst RMS (a `null` where a percentile lands
 //! on it) and a Strehl of 0.

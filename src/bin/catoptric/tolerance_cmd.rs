@@ -85,7 +85,7 @@ fn table(r: &ToleranceReport, refocus: bool) -> String {
     let n = &r.nominal;
     let _ = writeln!(
         s,
-        "nominal: RMS radius {} µm, Strehl {} (Maréchal estimate), intercept {:.4}",
+        "nominal: RMS radius {} µm, Strehl {} (PSF at best focus), intercept {:.4}",
         opt(n.rms_radius_um, 3),
         opt(n.strehl, 3),
         Num(n.intercept)

@@ -26,7 +26,7 @@ const SUMMARY = [
   { key: 'rms_radius_um.p50', label: 'RMS radius, median', unit: 'µm', title: 'Half the trials are sharper than this' },
   { key: 'rms_radius_um.p90', label: 'RMS radius, 90 %', unit: 'µm', title: '90 % of the trials are sharper than this' },
   { key: 'rms_radius_um.max', label: 'RMS radius, worst', unit: 'µm', title: 'Largest RMS radius of any trial' },
-  { key: 'nominal.strehl', label: 'nominal Strehl', unit: '', title: 'Strehl ratio of the layout as drawn (Maréchal estimate from the RMS wavefront)' },
+  { key: 'nominal.strehl', label: 'nominal Strehl', unit: '', title: 'Strehl ratio of the layout as drawn (from the diffraction image at best focus, as the Image view)' },
   { key: 'strehl.p10', label: 'Strehl, 10 %', unit: '', title: '90 % of the trials reach at least this Strehl ratio' },
   { key: 'strehl.p50', label: 'Strehl, median', unit: '', title: 'Median Strehl ratio over the trials' },
   { key: 'intercept.p10', label: 'intercept, 10 %', unit: '', title: '90 % of the trials put at least this fraction of the launched power on the screen' },
@@ -80,7 +80,7 @@ export class ToleranceView {
     this.progress.hidden = true;
     tools.append(this.progress);
     left.append(tools);
-    this.status = para(left, 'Set the errors and press Run. Strehl ratios are the Maréchal estimate from the RMS wavefront at best focus.');
+    this.status = para(left, 'Set the errors and press Run. Strehl ratios come from the diffraction image at best focus, as in the Image view.');
     this.status.id = 'tolerance-status';
     this.caution = para(left, 'This layout has a sun: a mirror that is off by a tolerance still concentrates sunlight, and the focus can move onto something that burns. Never look along the beam; check real installations against local codes and with qualified people.', 'caution inline');
     this.caution.hidden = true;
