@@ -48,4 +48,23 @@ mod tests {
         assert_eq!(n, 2);
         assert!((r[0] - 0.5).abs() < 1e-12);
     }
+
+    #[test]
+    fn tangent_and_degenerate_cases() {
+        // Numerical Recipes (Press et al., 3rd ed., §5.6) for the stable
+        // form; the edge cases are common practice. A grazing ray: b² = ac
+        // exactly, one double root.
+        assert_eq!(solve_quadratic(1.0, -1.0, 1.0), (2, [1.0, 1.0])); // (t − 1)²
+        assert_eq!(solve_quadratic(4.0, 6.0, 9.0), (2, [-1.5, -1.5])); // (2t + 3)²
+        // b = 0 and ac = 0: a t² = 0 has the root 0; c = 0 alone (a = 0)
+        // says nothing; c ≠ 0 with a = b = 0 has none.
+        assert_eq!(solve_quadratic(2.0, 0.0, 0.0), (1, [0.0, 0.0]));
+        assert_eq!(solve_quadratic(0.0, 0.0, 0.0).0, 0);
+        assert_eq!(solve_quadratic(0.0, 0.0, 3.0).0, 0);
+        // No real roots, and non-finite coefficients.
+        assert_eq!(solve_quadratic(1.0, 0.5, 1.0).0, 0);
+        assert_eq!(solve_quadratic(f64::INFINITY, 1.0, 1.0).0, 0);
+        // b² overflows: no root rather than the spurious c/q = −0.
+        assert_eq!(solve_quadratic(1.0, 1e200, 1.0).0, 0);
+    }
 }
