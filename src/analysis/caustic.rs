@@ -40,14 +40,14 @@ pub fn caustic_raster(fan: &Fan, view: [f64; 4], width: usize, height: usize) ->
     out
 }
 
-/// The part [t0, t1] of p + t·d, t in [0, 1], inside the `w` × `h` raster
-/// (Liang–Barsky clipping); `None` when it misses.
-fn clip(p: [f64; 2], d: [f64; 2], w: usize, h: usize) -> Option<(f64, f64)> {
+/// Adds `k`·(parameter length) to each pixel along p + t·d, t in [0, 1].
+fn walk(out: &mut [f32], w: usize, h: usize, p: [f64; 2], d: [f64; 2], k: f64) {
+    // Clip to the raster (Liang–Barsky).
     let (mut t0, mut t1) = (0.0f64, 1.0f64);
     for (pk, dk, hi) in [(p[0], d[0], w as f64), (p[1], d[1], h as f64)] {
         if dk == 0.0 {
             if pk < 0.0 || pk > hi {
-                return None;
+                return;
             }
             continue;
         }
@@ -56,42 +56,45 @@ fn clip(p: [f64; 2], d: [f64; 2], w: usize, h: usize) -> Option<(f64, f64)> {
         t0 = t0.max(lo);
         t1 = t1.min(up);
     }
-    (t0 < t1).then_some((t0, t1))
-}
-
-/// Adds `k`·(parameter length) to each pixel along p + t·d, t in [0, 1].
-fn walk(out: &mut [f32], w: usize, h: usize, p: [f64; 2], d: [f64; 2], k: f64) {
-    let Some((t0, t1)) = clip(p, d, w, h) else { return };
-    // Step along the major axis one pixel column at a time: within a
-    // column the line moves less than one pixel across, so it lies in one
-    // or two cells, split where it crosses the row edge. No per-cell
-    // branch to mispredict.
-    let (a, b) = if d[0].abs() >= d[1].abs() { (0, 1) } else { (1, 0) };
-    let (na, nb) = if a == 0 { (w, h) } else { (h, w) };
-    let (sa, sb) = if a == 0 { (1, w) } else { (w, 1) };
-    let (pa, da, pb, db) = (p[a], d[a], p[b], d[b]);
-    let (ca, cb) = (pa + da * t0, pa + da * t1);
-    let (lo, hi) = (ca.min(cb), ca.max(cb));
-    let last_b = nb as f64 - 1.0;
-    let first = (lo.floor().max(0.0)) as usize;
-    let end = (hi.ceil().min(na as f64)) as usize;
-    let inv_da = 1.0 / da;
-    let inv_db = if db != 0.0 { 1.0 / db } else { 0.0 };
-    for i in first..end.max(first) {
-        // The column's stretch of t, within the clipped segment.
-        let (e0, e1) = ((i as f64 - pa) * inv_da, ((i + 1) as f64 - pa) * inv_da);
-        let (ta, tb) = (e0.min(e1).max(t0), e0.max(e1).min(t1));
-        if tb <= ta {
-            continue;
+    if t0 >= t1 {
+        return;
+    }
+    let cell = |t: f64, k: usize| {
+        let c = (p[k] + d[k] * t).floor();
+        let m = if k == 0 { w } else { h } as f64 - 1.0;
+        c.clamp(0.0, m) as i64
+    };
+    let mut ix = cell(t0, 0);
+    let mut iy = cell(t0, 1);
+    let step = |dk: f64| if dk > 0.0 { 1i64 } else { -1 };
+    let (sx, sy) = (step(d[0]), step(d[1]));
+    let next = |i: i64, s: i64, k: usize| {
+        if d[k] == 0.0 {
+            return f64::INFINITY;
         }
-        let (ya, yb) = (pb + db * ta, pb + db * tb);
-        let (ra, rb) = (ya.floor().clamp(0.0, last_b), yb.floor().clamp(0.0, last_b));
-        // Where it crosses into the other row (all in one row when equal).
-        let tm = if ra == rb { tb } else { ((ra.max(rb)) - pb) * inv_db };
-        let tm = tm.clamp(ta, tb);
-        let base = i * sa;
-        out[base + ra as usize * sb] += (k * (tm - ta)) as f32;
-        out[base + rb as usize * sb] += (k * (tb - tm)) as f32;
+        let edge = if s > 0 { (i + 1) as f64 } else { i as f64 };
+        (edge - p[k]) / d[k]
+    };
+    let (mut tx, mut ty) = (next(ix, sx, 0), next(iy, sy, 1));
+    let inv = |dk: f64| if dk != 0.0 { 1.0 / dk.abs() } else { f64::INFINITY };
+    let (dtx, dty) = (inv(d[0]), inv(d[1]));
+    let mut t = t0;
+    for _ in 0..(w + h + 2) {
+        let tn = tx.min(ty).min(t1);
+        if (0..w as i64).contains(&ix) && (0..h as i64).contains(&iy) {
+            out[iy as usize * w + ix as usize] += (k * (tn - t).max(0.0)) as f32;
+        }
+        if tn >= t1 {
+            break;
+        }
+        t = tn;
+        if tx <= ty {
+            ix += sx;
+            tx += dtx;
+        } else {
+            iy += sy;
+            ty += dty;
+        }
     }
 }
 
@@ -100,86 +103,4 @@ fn walk(out: &mut [f32], w: usize, h: usize, p: [f64; 2], d: [f64; 2], k: f64) {
 pub fn caustic(scene: &Scene, rays_per_source: usize, view: [f64; 4], width: usize, height: usize) -> Vec<f32> {
     let fan = trace_fan(scene, rays_per_source, None);
     caustic_raster(&fan, view, width, height)
-}
-
-#[cfg(test)]
-mod tests {
-    use super::*;
-
-    /// The cell-by-cell traversal of Amanatides & Woo, "A Fast Voxel
-    /// Traversal Algorithm for Ray Tracing" (Eurographics 1987): every
-    /// cell the segment crosses, in order, with the parameter length inside
-    /// it. The oracle for the column walk.
-    /// Adds `k`·(parameter length) to each pixel along p + t·d, t in [0, 1].
-    fn cell_walk(out: &mut [f32], w: usize, h: usize, p: [f64; 2], d: [f64; 2], k: f64) {
-        let Some((t0, t1)) = clip(p, d, w, h) else { return };
-        let cell = |t: f64, k: usize| {
-            let c = (p[k] + d[k] * t).floor();
-            let m = if k == 0 { w } else { h } as f64 - 1.0;
-            c.clamp(0.0, m) as i64
-        };
-        let mut ix = cell(t0, 0);
-        let mut iy = cell(t0, 1);
-        let step = |dk: f64| if dk > 0.0 { 1i64 } else { -1 };
-        let (sx, sy) = (step(d[0]), step(d[1]));
-        let next = |i: i64, s: i64, k: usize| {
-            if d[k] == 0.0 {
-                return f64::INFINITY;
-            }
-            let edge = if s > 0 { (i + 1) as f64 } else { i as f64 };
-            (edge - p[k]) / d[k]
-        };
-        let (mut tx, mut ty) = (next(ix, sx, 0), next(iy, sy, 1));
-        let inv = |dk: f64| if dk != 0.0 { 1.0 / dk.abs() } else { f64::INFINITY };
-        let (dtx, dty) = (inv(d[0]), inv(d[1]));
-        let mut t = t0;
-        for _ in 0..(w + h + 2) {
-            let tn = tx.min(ty).min(t1);
-            if (0..w as i64).contains(&ix) && (0..h as i64).contains(&iy) {
-                out[iy as usize * w + ix as usize] += (k * (tn - t).max(0.0)) as f32;
-            }
-            if tn >= t1 {
-                break;
-            }
-            t = tn;
-            if tx <= ty {
-                ix += sx;
-                tx += dtx;
-            } else {
-                iy += sy;
-                ty += dty;
-            }
-        }
-    }
-
-    #[test]
-    fn column_walk_deposits_what_the_cell_traversal_does() {
-        let (w, h) = (37, 23);
-        let mut seed = 0x2545_f491_4f6c_dd1d_u64;
-        let mut next = || {
-            seed = seed.wrapping_mul(6364136223846793005).wrapping_add(1442695040888963407);
-            (seed >> 11) as f64 / (1u64 << 53) as f64
-        };
-        for case in 0..2000 {
-            // Segments inside, crossing and outside the raster, steep and
-            // shallow, axis-parallel and 45° ones among them.
-            let p = [next() * 60.0 - 10.0, next() * 40.0 - 8.0];
-            let mut d = [next() * 80.0 - 40.0, next() * 60.0 - 30.0];
-            match case % 5 {
-                0 => d[1] = 0.0,
-                1 => d[0] = 0.0,
-                2 => d[1] = d[0],
-                _ => {}
-            }
-            if d == [0.0, 0.0] {
-                continue;
-            }
-            let (mut a, mut b) = (vec![0.0f32; w * h], vec![0.0f32; w * h]);
-            walk(&mut a, w, h, p, d, 1.0);
-            cell_walk(&mut b, w, h, p, d, 1.0);
-            for (i, (x, y)) in a.iter().zip(&b).enumerate() {
-                assert!((x - y).abs() <= 1e-5, "case {case} pixel {i}: {x} vs {y} (p {p:?}, d {d:?})");
-            }
-        }
-    }
 }
