@@ -159,7 +159,8 @@ export class ConicsView {
         td.dataset.key = key;
         td.dataset.row = String(i);
         td.dataset.value = JSON.stringify(c[key]);
-        td.textContent = fmtNum(denoise(c[key], unitOf(key)), 5);
+        // A Strehl ratio far below any use reads as such, not as 7×10⁻⁶⁷.
+        td.textContent = key === 'strehl_estimate' && c[key] < 1e-4 ? '< 0.0001' : fmtNum(denoise(c[key], unitOf(key)), 5);
         td.title = `${title}: ${fmtNum(c[key], 10)}`;
         tr.append(td);
       });
