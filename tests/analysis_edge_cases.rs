@@ -213,3 +213,58 @@ fn lamp_through_an_ellipsoid_gives_a_perfect_spherical_wave() {
     let frame: Frame = scene.screen_element("s").unwrap().frame;
     assert!((frame.to_world_point(&Vec3::from(w.best_point)) - pl.world(0.0, q)).norm() < 1e-6);
 }
+
+/// Hits with the given unit directions (u, v, w components), equal power,
+/// all from source 0.
+fn hits_with_directions(dirs: &[[f64; 3]]) -> catoptric::trace::ScreenHits {
+    let mut h = catoptric::trace::ScreenHits::default();
+    for (i, d) in dirs.iter().enumerate() {
+        h.u.push(i as f64 * 0.1);
+        h.v.push(0.0);
+        h.du.push(d[0]);
+        h.dv.push(d[1]);
+        h.dw.push(d[2]);
+        h.opl.push(0.0);
+        h.weight.push(1.0);
+        h.source.push(0);
+        h.first.push(true);
+    }
+    h
+}
+
+#[test]
+fn cone_half_angle_is_the_widest_ray_about_the_mean_direction() {
+    // Definition of the cone's half-angle (common practice): the largest
+    // angle between an arriving ray and the power-weighted mean direction,
+    // computed here by acos of the dot product with the mean, independently
+    // of the library's sin²/atan2 search. A symmetric cone of 20°, then a
+    // bundle with one ray arriving from 120° (past 90° from the mean).
+    use catoptric::analysis::cone_half_angle;
+    let deg = |a: f64| a.to_radians();
+    let cone: Vec<[f64; 3]> = (0..12)
+        .map(|k| {
+            let (t, p) = (deg(if k % 2 == 0 { 20.0 } else { 10.0 }), k as f64 * std::f64::consts::TAU / 12.0);
+            [t.sin() * p.cos(), t.sin() * p.sin(), t.cos()]
+        })
+        .collect();
+    let got = cone_half_angle(&hits_with_directions(&cone), Some(0)).unwrap();
+    assert!((got - deg(20.0)).abs() < 1e-12, "{} deg", got.to_degrees());
+    let mut dirs = vec![[0.0, 0.0, 1.0]; 10];
+    dirs.push([deg(120.0).sin(), 0.0, deg(120.0).cos()]);
+    let m = dirs.iter().fold([0.0; 3], |a, d| [a[0] + d[0], a[1] + d[1], a[2] + d[2]]);
+    let n = (m[0] * m[0] + m[1] * m[1] + m[2] * m[2]).sqrt();
+    let want = dirs.iter().map(|d| ((d[0] * m[0] + d[1] * m[1] + d[2] * m[2]) / n).acos()).fold(0.0, f64::max);
+    assert!(want > deg(90.0));
+    let got = cone_half_angle(&hits_with_directions(&dirs), Some(0)).unwrap();
+    assert!((got - want).abs() < 1e-9, "{} deg, want {}", got.to_degrees(), want.to_degrees());
+    // And a working f-number of 1/(2 sin θ) capped at 90°: 0.5.
+    let n = catoptric::analysis::f_number(&hits_with_directions(&dirs), Some(0)).unwrap();
+    assert!((n - 0.5).abs() < 1e-12, "N {n}");
+    // Fewer than three hits make no cone (the report's rule); three do.
+    let three = [[0.0, 0.0, 1.0], [deg(10.0).sin(), 0.0, deg(10.0).cos()], [-deg(10.0).sin(), 0.0, deg(10.0).cos()]];
+    assert!(catoptric::analysis::f_number(&hits_with_directions(&three[..2]), Some(0)).is_none());
+    let n3 = catoptric::analysis::f_number(&hits_with_directions(&three), Some(0)).unwrap();
+    assert!((n3 - 0.5 / deg(10.0).sin()).abs() < 1e-9, "N {n3}");
+    // Parallel light has no cone and no f-number.
+    assert!(catoptric::analysis::f_number(&hits_with_directions(&[[0.0, 0.0, 1.0]; 5]), Some(0)).is_none());
+}
