@@ -8,18 +8,18 @@
 use std::io::Write as _;
 use std::path::PathBuf;
 use std::process::{Command, Output, Stdio};
-use std::time::{Duration, Instant};
+use std::time::Duration;
 
 const EXE: &str = env!("CARGO_BIN_EXE_catoptric");
 const PRESET: &str = concat!(env!("CARGO_MANIFEST_DIR"), "/www/presets/paraboloid-f5.json");
-/// A bound on how long a refusal may take: it stops the test (and the
-/// child) rather than letting a reader that never stops run on.
+/// A bound on a refusal: past it the test stops (and kills the child)
+/// rather than letting a reader that never stops run on. A guard against a
+/// hang, not a measurement.
 const LIMIT: Duration = Duration::from_secs(60);
 
-/// Runs the binary, feeding `stdin` from a thread; kills it past [`LIMIT`]
-/// (a guard against a hang, not a measurement).
+/// Runs the binary, feeding `stdin` from a thread; kills it if it has not
+/// finished within [`LIMIT`].
 fn run(args: &[&str], stdin: Option<Box<dyn FnOnce(std::process::ChildStdin) + Send>>) -> Output {
-    let t0 = Instant::now();
     let mut child = Command::new(EXE)
         .args(args)
         .stdin(if stdin.is_some() { Stdio::piped() } else { Stdio::null() })
@@ -31,18 +31,19 @@ fn run(args: &[&str], stdin: Option<Box<dyn FnOnce(std::process::ChildStdin) + S
         let pipe = child.stdin.take().unwrap();
         std::thread::spawn(move || feed(pipe));
     }
-    loop {
-        if child.try_wait().unwrap().is_some() {
-            break;
-        }
-        if t0.elapsed() > LIMIT {
-            let _ = child.kill();
-            let _ = child.wait();
+    // The child's end is awaited on a thread; this one waits for its word.
+    let pid = child.id();
+    let (tx, rx) = std::sync::mpsc::channel();
+    std::thread::spawn(move || {
+        let _ = tx.send(child.wait_with_output());
+    });
+    match rx.recv_timeout(LIMIT) {
+        Ok(out) => out.unwrap(),
+        Err(_) => {
+            let _ = Command::new("kill").args(["-9", &pid.to_string()]).status();
             panic!("catoptric {args:?} still reading after {LIMIT:?}");
         }
-        std::thread::sleep(Duration::from_millis(20));
     }
-    child.wait_with_output().unwrap()
 }
 
 fn temp(name: &str, bytes: &[u8]) -> PathBuf {
