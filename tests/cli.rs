@@ -280,7 +280,7 @@ fn bad_psf_requests_name_the_flag() {
 
 #[test]
 fn a_screen_the_light_misses_is_refused() {
-    let p = temp_file("dark.json", &preset_with(|v| v["elements"][1]["center"][0] = serde_json::json!(500.0)));
+    let p = temp_file("dark-psf.json", &preset_with(|v| v["elements"][1]["center"][0] = serde_json::json!(500.0)));
     let err = one_line_refusal(&["psf", &p], "--screen");
     assert!(err.contains("no rays"), "{err}");
 }
