@@ -196,3 +196,19 @@ pub fn unlink(fragment: &str, json: bool) -> Result<String, Failure> {
     let _ = json; // the output is JSON either way
     Ok(layout.to_json_pretty())
 }
+
+/// Flags of the commands that trace a layout many times (`tolerance`,
+/// `optimise`).
+#[derive(clap::Args)]
+pub struct RepeatedTraces {
+    /// Rays per source in each trace (default: each source's own count;
+    /// `tolerance` takes at most 20000).
+    #[arg(long)]
+    pub rays: Option<usize>,
+    /// Threads (default: every core); the result is the same whatever the count.
+    #[arg(long)]
+    pub threads: Option<usize>,
+    /// Machine-readable output.
+    #[arg(long)]
+    pub json: bool,
+}

@@ -28,31 +28,24 @@ pub struct OptimiseArgs {
     /// Write the optimised layout to this file.
     #[arg(long)]
     out: Option<String>,
-    /// Rays per source in each trace (default: each source's own count).
-    #[arg(long)]
-    rays: Option<usize>,
-    /// Threads per trace (default: every core); the result is the same.
-    #[arg(long)]
-    threads: Option<usize>,
-    /// Machine-readable output.
-    #[arg(long)]
-    json: bool,
+    #[command(flatten)]
+    run: crate::commands::RepeatedTraces,
 }
 
 pub fn run(a: OptimiseArgs) -> Result<String, Failure> {
-    let threads = crate::bench::check_threads(a.threads)?;
+    let threads = crate::bench::check_threads(a.run.threads)?;
     let layout = crate::commands::read_layout(&a.layout)?;
     let goal = Goal::parse(&a.goal).map_err(input)?;
     let vary: Vec<String> = a.vary.split(',').map(|p| p.trim().to_string()).collect();
     if vary.iter().any(String::is_empty) {
         return Err(Failure::input("--vary: an empty path; give comma-separated field paths such as secondary.profile.conic"));
     }
-    let spec = OptimiseSpec { vary, goal, screen: a.screen, source: a.source, rays: a.rays, threads };
+    let spec = OptimiseSpec { vary, goal, screen: a.screen, source: a.source, rays: a.run.rays, threads };
     let r = optimise(&layout, &spec, &mut |_, _| {}).map_err(input)?;
     if let Some(p) = &a.out {
         std::fs::write(p, r.layout.to_json_pretty() + "\n").map_err(|e| Failure::input(format!("--out: cannot write {p}: {e}")))?;
     }
-    if a.json {
+    if a.run.json {
         return Ok(to_json(&r));
     }
     let unit = match goal {

@@ -42,20 +42,12 @@ pub struct ToleranceArgs {
     /// Move the screen to best focus in every trial (as a maker refocuses).
     #[arg(long)]
     refocus: bool,
-    /// Rays per source in each trace (default: each source's own count,
-    /// at most 20000).
-    #[arg(long)]
-    rays: Option<usize>,
-    /// Threads (default: every core); the result is the same whatever the count.
-    #[arg(long)]
-    threads: Option<usize>,
-    /// Machine-readable output.
-    #[arg(long)]
-    json: bool,
+    #[command(flatten)]
+    run: crate::commands::RepeatedTraces,
 }
 
 pub fn run(a: ToleranceArgs) -> Result<String, Failure> {
-    let threads = crate::bench::check_threads(a.threads)?;
+    let threads = crate::bench::check_threads(a.run.threads)?;
     let layout = crate::commands::read_layout(&a.layout)?;
     let spec = ToleranceSpec {
         screen: Some(a.screen),
@@ -68,10 +60,10 @@ pub fn run(a: ToleranceArgs) -> Result<String, Failure> {
         radius_pct: a.radius_pct,
         conic: a.conic,
         refocus: a.refocus,
-        rays: a.rays,
+        rays: a.run.rays,
     };
     let r = tolerance(&layout, &spec, threads).map_err(input)?;
-    Ok(if a.json { to_json(&r) } else { table(&r, spec.refocus) })
+    Ok(if a.run.json { to_json(&r) } else { table(&r, spec.refocus) })
 }
 
 fn opt(v: Option<f64>, prec: usize) -> String {
