@@ -27,7 +27,7 @@ use crate::geometry::Vec3;
 use crate::scene::{Part, Scene};
 
 /// Rays per batch.
-pub const LANES: usize = 1024;
+pub const LANES: usize = 512;
 const NONE: u32 = u32::MAX;
 
 /// Counters of a traced range of rays.

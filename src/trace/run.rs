@@ -13,7 +13,7 @@ use crate::scene::Scene;
 
 /// Rays per chunk: the unit of work handed to a thread. Fixed, so the
 /// split never depends on the thread count.
-pub const CHUNK: usize = 16 * super::kernel::LANES;
+pub const CHUNK: usize = 16 * 1024;
 /// Most hits per screen reserved before tracing.
 const RESERVE_CAP: usize = 1 << 21;
 
