@@ -10,15 +10,18 @@
 //! No full sort: the radii go into a histogram (weight, smallest and
 //! largest radius per bin). Binning by ⌊r·k⌋ keeps the order between bins,
 //! so the sorted sequence is the bins in turn; a figure that needs the
-//! exact neighbours of one radius sorts only the one bin it falls in. The
-//! plotted curve uses bins whose edges are its own sample radii, so each
-//! point is exact from the bin sums alone. Result: the same interpolation
-//! as a full sort, in a few streaming passes.
+//! exact neighbours of one radius (a fraction's radius, a point of the
+//! plotted curve) sorts only the one bin it falls in, gathered in a single
+//! pass for all figures. Result: the same interpolation as a full sort, in
+//! two streaming passes.
 
 use super::select::Subset;
 use super::over_chunks;
 use crate::trace::ScreenHits;
 use std::ops::Range;
+
+/// A sampled encircled-energy curve: (radius µm, fraction) columns.
+pub type Curve = (Vec<f64>, Vec<f64>);
 
 /// Bins of the histogram that locates a fraction's radius.
 const BINS: usize = 4096;
@@ -82,11 +85,6 @@ impl EncircledEnergy {
         ((r * self.scale) as usize).min(BINS - 1)
     }
 
-    /// Largest radius below bin `b` (0 when none).
-    fn max_below(&self, b: usize) -> f64 {
-        self.hi[..b].iter().rev().find(|x| x.is_finite()).copied().unwrap_or(0.0)
-    }
-
     /// Radius (mm) holding `frac` of the power, interpolated; `None`
     /// without hits or for `frac` outside (0, 1].
     pub fn radius_for(&self, frac: f64) -> Option<f64> {
@@ -96,63 +94,161 @@ impl EncircledEnergy {
     /// [`EncircledEnergy::radius_for`] of several fractions, with one pass
     /// over the hits for all of them.
     pub fn radii_for(&self, fracs: &[f64]) -> Vec<Option<f64>> {
-        // First sorted position whose cumulative fraction reaches `frac`:
-        // find its bin, then walk that bin's hits in order. A hit is in bin
-        // b exactly when its radius lies within the bin's least and largest
-        // (binning keeps the order).
-        let target = |frac: f64| -> Option<Option<usize>> {
-            if self.radius_mm.is_empty() || !(frac > 0.0 && frac <= 1.0) {
-                return None;
-            }
-            Some((0..BINS).rev().find(|&b| self.before[b] / self.total < frac && self.lo[b].is_finite()))
-        };
-        let bins: Vec<Option<Option<usize>>> = fracs.iter().map(|&f| target(f)).collect();
-        let mut inside: Vec<Vec<(f64, f64)>> = vec![Vec::new(); fracs.len()];
-        if bins.iter().any(|b| matches!(b, Some(Some(_)))) {
-            let spans: Vec<(f64, f64)> =
-                bins.iter().map(|b| b.flatten().map_or((f64::INFINITY, f64::NEG_INFINITY), |b| (self.lo[b], self.hi[b]))).collect();
-            // One pass, one cheap range test per wanted bin; chunks' finds
-            // joined in order.
-            let found = self.per_chunk(|c| {
-                let mut got: Vec<Vec<(f64, f64)>> = vec![Vec::new(); spans.len()];
-                self.each_in(c, |r, w| {
-                    for (g, &(lo, hi)) in got.iter_mut().zip(&spans) {
-                        if r >= lo && r <= hi {
-                            g.push((r, w));
-                        }
-                    }
-                });
-                got
-            });
-            for part in found {
-                for (all, got) in inside.iter_mut().zip(part) {
-                    all.extend(got);
-                }
+        self.radii_and_curve(fracs, 0).0
+    }
+
+    /// The curve sampled at `n` evenly spaced radii from 0 to the largest
+    /// (µm, fraction) for plotting.
+    pub fn curve(&self, n: usize) -> Curve {
+        self.radii_and_curve(&[], n).1
+    }
+
+    /// [`EncircledEnergy::radii_for`] of `fracs` and [`EncircledEnergy::curve`]
+    /// of `n` points (none when `n` is 0) together, in one pass over the
+    /// hits: each figure needs the hits of one histogram bin in order, so
+    /// the pass gathers the hits of the wanted bins only.
+    pub fn radii_and_curve(&self, fracs: &[f64], n: usize) -> (Vec<Option<f64>>, Curve) {
+        let step = if n > 1 { self.rmax / (n - 1) as f64 } else { 0.0 };
+        let radii: Vec<f64> = (0..n).map(|k| step * k as f64).collect();
+        let um = radii.iter().map(|r| r * 1e3).collect();
+        if self.radius_mm.is_empty() {
+            let curve = radii.iter().map(|&r| self.fraction_at(r)).collect();
+            return (vec![None; fracs.len()], (um, curve));
+        }
+        // The bin whose hits settle each figure.
+        let frac_bins: Vec<Option<Option<usize>>> = fracs.iter().map(|&f| self.frac_bin(f)).collect();
+        let sample_bins: Vec<Option<usize>> = radii.iter().map(|&r| (r > 0.0 && r <= self.rmax).then(|| self.bin(r))).collect();
+        let mut wanted = vec![false; BINS];
+        for b in frac_bins.iter().flatten().flatten() {
+            wanted[*b] = true;
+        }
+        for &b in sample_bins.iter().flatten() {
+            wanted[b] = true;
+            // The least radius above a sample may lie in the next bin with hits.
+            if let Some(k) = self.next_filled(b + 1) {
+                wanted[k] = true;
             }
         }
-        fracs
+        let bins = self.gather(&wanted);
+        let below = self.prefix_max();
+        let radius = frac_bins
             .iter()
-            .zip(bins)
-            .zip(inside)
-            .map(|((&frac, b), mut inside)| {
-                let b = b?;
+            .zip(fracs)
+            .map(|(b, &frac)| {
+                let b = (*b)?;
                 let Some(b) = b else { return Some(0.0) };
-                inside.sort_unstable_by(|a, b| a.0.total_cmp(&b.0));
-                let (mut r0, mut acc) = (self.max_below(b), self.before[b]);
-                let mut f0 = acc / self.total;
-                let last_bin = (b + 1..BINS).all(|k| !self.lo[k].is_finite());
-                for (j, &(r1, w)) in inside.iter().enumerate() {
-                    acc += w;
-                    // The very last hit holds everything (whatever the rounding).
-                    let f1 = if last_bin && j + 1 == inside.len() { 1.0 } else { acc / self.total };
-                    if f1 >= frac {
-                        return Some(if f1 > f0 && f1 != frac { r0 + (r1 - r0) * (frac - f0) / (f1 - f0) } else { r1 });
-                    }
-                    (r0, f0) = (r1, f1);
+                Some(self.radius_in_bin(frac, b, below[b], &bins[b]))
+            })
+            .collect();
+        let curve = radii
+            .iter()
+            .zip(&sample_bins)
+            .map(|(&r, b)| match b {
+                None if r <= 0.0 => 0.0,
+                None => 1.0,
+                Some(b) => self.fraction_in_bin(r, *b, below[*b], &bins),
+            })
+            .collect();
+        (radius, (um, curve))
+    }
+
+    /// The bin of the first sorted position whose cumulative fraction
+    /// reaches `frac` (`Some(None)` when the first hit already does);
+    /// `None` for `frac` outside (0, 1].
+    fn frac_bin(&self, frac: f64) -> Option<Option<usize>> {
+        if !(frac > 0.0 && frac <= 1.0) {
+            return None;
+        }
+        Some((0..BINS).rev().find(|&b| self.before[b] / self.total < frac && self.lo[b].is_finite()))
+    }
+
+    /// First bin from `b` on that holds hits.
+    fn next_filled(&self, b: usize) -> Option<usize> {
+        (b..BINS).find(|&k| self.lo[k].is_finite())
+    }
+
+    /// Largest radius below each bin (0 when none).
+    fn prefix_max(&self) -> Vec<f64> {
+        let mut m = 0.0f64;
+        self.hi
+            .iter()
+            .map(|&hi| {
+                let before = m;
+                if hi.is_finite() {
+                    m = hi;
                 }
-                Some(r0)
+                before
             })
             .collect()
+    }
+
+    /// The (radius, weight) of the hits of every wanted bin, sorted by
+    /// radius (ties in hit order): one pass, chunks joined in order. A hit
+    /// lies in bin b exactly when `bin` says so (binning keeps the order).
+    fn gather(&self, wanted: &[bool]) -> Vec<Vec<(f64, f64)>> {
+        let found = self.per_chunk(|c| {
+            let mut got: Vec<(usize, f64, f64)> = Vec::new();
+            self.each_in(c, |r, w| {
+                let b = self.bin(r);
+                if wanted[b] {
+                    got.push((b, r, w));
+                }
+            });
+            got
+        });
+        let mut bins: Vec<Vec<(f64, f64)>> = vec![Vec::new(); BINS];
+        for (b, r, w) in found.into_iter().flatten() {
+            bins[b].push((r, w));
+        }
+        for v in &mut bins {
+            v.sort_by(|a, b| a.0.total_cmp(&b.0));
+        }
+        bins
+    }
+
+    /// The radius holding `frac` when its position falls in bin `b` (with
+    /// its sorted hits `inside`, and `r0` the largest radius before it).
+    fn radius_in_bin(&self, frac: f64, b: usize, mut r0: f64, inside: &[(f64, f64)]) -> f64 {
+        let mut acc = self.before[b];
+        let mut f0 = acc / self.total;
+        let last_bin = self.next_filled(b + 1).is_none();
+        for (j, &(r1, w)) in inside.iter().enumerate() {
+            acc += w;
+            // The very last hit holds everything (whatever the rounding).
+            let f1 = if last_bin && j + 1 == inside.len() { 1.0 } else { acc / self.total };
+            if f1 >= frac {
+                return if f1 > f0 && f1 != frac { r0 + (r1 - r0) * (frac - f0) / (f1 - f0) } else { r1 };
+            }
+            (r0, f0) = (r1, f1);
+        }
+        r0
+    }
+
+    /// The fraction within radius `r` (0 < r ≤ the largest), which lies in
+    /// bin `b`; `r0` is the largest radius before the bin.
+    fn fraction_in_bin(&self, r: f64, b: usize, mut r0: f64, bins: &[Vec<(f64, f64)>]) -> f64 {
+        let mut below = self.before[b];
+        let mut next = None;
+        for (j, &(x, w)) in bins[b].iter().enumerate() {
+            if x < r {
+                below += w;
+                r0 = x;
+            } else {
+                next = Some((b, j, x, w));
+                break;
+            }
+        }
+        // First radius at or above r: in this bin, or the next one's least.
+        let next = next.or_else(|| self.next_filled(b + 1).and_then(|k| bins[k].first().map(|&(x, w)| (k, 0, x, w))));
+        match next {
+            Some((k, j, r1, w1)) => {
+                // The very last hit holds everything (whatever the rounding).
+                let last = j + 1 == bins[k].len() && self.next_filled(k + 1).is_none();
+                let f1 = if last { 1.0 } else { (below + w1) / self.total };
+                interpolate(r, r0, below / self.total, r1, f1)
+            }
+            None => 1.0,
+        }
     }
 
     /// Fraction of the power within radius `r` mm, interpolated.
@@ -175,79 +271,6 @@ impl EncircledEnergy {
             }
         });
         interpolate(r, r0, below / self.total, r1, (below + w1) / self.total)
-    }
-
-    /// The curve sampled at `n` evenly spaced radii from 0 to the largest
-    /// (µm, fraction) for plotting.
-    pub fn curve(&self, n: usize) -> (Vec<f64>, Vec<f64>) {
-        let step = if n > 1 { self.rmax / (n - 1) as f64 } else { 0.0 };
-        let radii: Vec<f64> = (0..n).map(|k| step * k as f64).collect();
-        if self.radius_mm.is_empty() || n < 2 || step <= 0.0 {
-            let f = radii.iter().map(|&r| self.fraction_at(r)).collect();
-            return (radii.iter().map(|r| r * 1e3).collect(), f);
-        }
-        // Bins [radii[j], radii[j+1]): weight, smallest radius (and its
-        // weight), largest radius.
-        let m = n - 1;
-        let inv_step = 1.0 / step;
-        let empty = || (vec![0.0; m + 1], vec![f64::INFINITY; m + 1], vec![0.0; m + 1], vec![f64::NEG_INFINITY; m + 1]);
-        let parts = self.per_chunk(|c| {
-            let (mut wsum, mut lo, mut wlo, mut hi) = empty();
-            self.each_in(c, |x, w| {
-                let mut j = ((x * inv_step) as usize).min(m);
-                // Settle the bin exactly against the sample radii.
-                while j > 0 && x < radii[j] {
-                    j -= 1;
-                }
-                while j < m && x >= radii[j + 1] {
-                    j += 1;
-                }
-                wsum[j] += w;
-                if x < lo[j] {
-                    (lo[j], wlo[j]) = (x, w);
-                }
-                hi[j] = hi[j].max(x);
-            });
-            (wsum, lo, wlo, hi)
-        });
-        // Chunks merged in order: sums in chunk order, the first least
-        // radius kept on ties.
-        let (mut wsum, mut lo, mut wlo, mut hi) = empty();
-        for (ws, l, wl, h) in parts {
-            for j in 0..=m {
-                wsum[j] += ws[j];
-                if l[j] < lo[j] {
-                    (lo[j], wlo[j]) = (l[j], wl[j]);
-                }
-                hi[j] = hi[j].max(h[j]);
-            }
-        }
-        // Normalised by the bins' own sum, so the last point is exactly 1.
-        let total: f64 = wsum.iter().sum();
-        let mut f = vec![0.0; n];
-        let (mut below, mut r0) = (0.0, 0.0f64);
-        for j in 0..n {
-            let r = radii[j];
-            if j > 0 {
-                below += wsum[j - 1];
-                if hi[j - 1].is_finite() {
-                    r0 = hi[j - 1];
-                }
-            }
-            f[j] = if r <= 0.0 {
-                0.0
-            } else if r > self.rmax {
-                1.0
-            } else {
-                // First radius at or above r: the next non-empty bin's least.
-                let k = (j..=m).find(|&k| lo[k].is_finite());
-                match k {
-                    Some(k) => interpolate(r, r0, below / total, lo[k], (below + wlo[k]) / total),
-                    None => 1.0,
-                }
-            };
-        }
-        (radii.iter().map(|r| r * 1e3).collect(), f)
     }
 }
 

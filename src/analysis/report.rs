@@ -48,14 +48,19 @@ pub struct SourceReport {
 /// Rays that reached a screen (each counted once, at its first arrival)
 /// and the power they brought, W.
 pub fn first_arrivals(h: &ScreenHits) -> (u64, f64) {
-    let (mut n, mut w) = (0u64, 0.0);
-    for (i, &wi) in h.weight.iter().enumerate() {
-        if h.first.get(i).copied().unwrap_or(true) {
-            n += 1;
-            w += wi;
+    // Chunk by chunk, four interleaved sums per chunk (a fixed order).
+    // Hits recorded without the flag count as first.
+    let parts = super::over_chunks(h.weight.len(), |r| {
+        let (w, f) = (&h.weight[r.clone()], h.first.get(r.start..r.end.min(h.first.len())).unwrap_or(&[]));
+        let (mut n, mut l) = (0u64, [0.0; 4]);
+        for (k, &wk) in w.iter().enumerate() {
+            let first = f.get(k).copied().unwrap_or(true);
+            n += first as u64;
+            l[k & 3] += if first { wk } else { 0.0 };
         }
-    }
-    (n, w)
+        (n, l.iter().sum::<f64>())
+    });
+    parts.iter().fold((0, 0.0), |(n, w), p| (n + p.0, w + p.1))
 }
 
 /// Figures for one screen.
@@ -118,7 +123,8 @@ fn analyse_source(scene: &Scene, hits: &ScreenHits, si: usize, curves: bool) -> 
     let figures = super::fused::figures(&sel, lambda, !extended);
     let (st, fit, n, wf, ee) = (figures.spot, figures.fit, figures.f_number, figures.wavefront, figures.energy);
     let best = fit.as_ref().and_then(|f| f.best_shift());
-    let ee_radii = ee.as_ref().map_or(vec![None, None], |e| e.radii_for(&[0.5, 0.8]));
+    let points = if curves { CURVE_POINTS } else { 0 };
+    let (ee_radii, ee_curve) = ee.as_ref().map_or((vec![None, None], Default::default()), |e| e.radii_and_curve(&[0.5, 0.8], points));
     let um = |v: Option<f64>| v.map(|x| x * 1e3);
     let report = SourceReport {
         source: scene.sources[si].id().to_string(),
@@ -142,7 +148,7 @@ fn analyse_source(scene: &Scene, hits: &ScreenHits, si: usize, curves: bool) -> 
         let (a, b) = default_focus_range(&f);
         through_focus_of(&f, a, b, CURVE_POINTS)
     });
-    let (encircled_radius_um, encircled_fraction) = ee.filter(|_| curves).map(|e| e.curve(CURVE_POINTS)).unwrap_or_default();
+    let (encircled_radius_um, encircled_fraction) = ee_curve;
     Some((report, SourceCurves { source: si, through_focus, encircled_radius_um, encircled_fraction }))
 }
 

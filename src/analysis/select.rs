@@ -7,6 +7,7 @@
 //! later crossings of rays that come back to a screen, are left out by
 //! copying the picked hits first.
 
+use super::over_chunks;
 use crate::trace::ScreenHits;
 use std::borrow::Cow;
 use std::ops::Range;
@@ -35,7 +36,11 @@ impl<'a> Subset<'a> {
         // A ray that comes back to the screen (a cavity) counts once: its
         // first arrival. Hits recorded without the flag count as first.
         let first = |i: usize| h.first.get(i).copied().unwrap_or(true);
-        let sorted = h.source.windows(2).all(|p| p[0] <= p[1]);
+        // Chunk by chunk on the thread pool (each chunk also checks the pair
+        // across its start).
+        let sorted = over_chunks(h.source.len(), |r| h.source[r.start.saturating_sub(1)..r.end].windows(2).all(|p| p[0] <= p[1]))
+            .into_iter()
+            .all(|x| x);
         let (lo, hi) = match source {
             None => (0, h.len()),
             Some(s) if sorted => {
@@ -44,7 +49,8 @@ impl<'a> Subset<'a> {
             }
             Some(_) => (0, 0),
         };
-        let contiguous = (source.is_none() || sorted) && h.first.get(lo..hi.min(h.first.len())).is_none_or(|f| f.iter().all(|&x| x));
+        let all_first = |f: &[bool]| over_chunks(f.len(), |r| f[r].iter().all(|&x| x)).into_iter().all(|x| x);
+        let contiguous = (source.is_none() || sorted) && h.first.get(lo..hi.min(h.first.len())).is_none_or(all_first);
         let (h, range) = if contiguous {
             (Cow::Borrowed(h), lo..hi)
         } else {
@@ -55,7 +61,8 @@ impl<'a> Subset<'a> {
             let n = own.len();
             (Cow::Owned(own), 0..n)
         };
-        let power: f64 = h.weight[range.clone()].iter().sum();
+        let weight = &h.weight[range.clone()];
+        let power: f64 = over_chunks(weight.len(), |r| lane_sum(&weight[r])).iter().sum();
         let equal = power <= 0.0 || power.is_nan();
         let n = range.len();
         Subset {
@@ -108,4 +115,18 @@ impl<'a> Subset<'a> {
         }
         [su / self.w, sv / self.w]
     }
+}
+
+/// Sum of `x` in four interleaved partial sums (element k adds to sum
+/// k mod 4), added in order: independent chains run in parallel, and the
+/// order of the additions is fixed.
+fn lane_sum(x: &[f64]) -> f64 {
+    let mut l = [0.0; 4];
+    let mut groups = x.chunks_exact(4);
+    for g in &mut groups {
+        for k in 0..4 {
+            l[k] += g[k];
+        }
+    }
+    groups.remainder().iter().fold(l.iter().sum(), |a, b| a + b)
 }
