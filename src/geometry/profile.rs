@@ -90,4 +90,25 @@ mod tests {
             assert!((fd - p.slope(rho)).abs() < 1e-8, "rho {rho}: {fd} vs {}", p.slope(rho));
         }
     }
+
+    #[test]
+    fn slope_at_the_rim_of_the_conic_is_infinite_with_the_inner_sign() {
+        // dz/dρ = cρ / √(1 − (1+K)c²ρ²) (the derivative of the ISO 10110-12
+        // conic sag) grows without bound at the rim ρ² = 1/((1+K)c²), where
+        // the meridian turns parallel to the axis; there the slope is ±∞
+        // with the sign it has just inside. Concave and convex, both sides
+        // of the axis, sphere, prolate and oblate.
+        for radius in [800.0, -800.0] {
+            for k in [0.0, -0.5, 2.0] {
+                let p = Profile::conic(Some(radius), k);
+                let rim = 1.0 / ((1.0 + k) * p.c * p.c).sqrt();
+                for side in [1.0, -1.0] {
+                    let inside = p.conic_sag_slope(side * rim * (1.0 - 1e-6)).1;
+                    let at = p.conic_sag_slope(side * rim * (1.0 + 1e-12)).1;
+                    assert!(inside.abs() > 100.0, "R {radius} K {k}: {inside}");
+                    assert!(at.is_infinite() && at.signum() == inside.signum(), "R {radius} K {k} side {side}: {at} vs {inside}");
+                }
+            }
+        }
+    }
 }
