@@ -88,3 +88,43 @@ fn a_segment_reaching_across_the_parent_axis_is_flagged() {
     assert!(design(500.0, 75.0, 150.0).warnings.is_empty(), "H = D/2: the rim just touches the axis");
     assert!(design(500.0, 200.0, 150.0).warnings.is_empty());
 }
+
+#[test]
+fn segment_depth_focal_ratio_and_feed_bisector() {
+    // The parabola z = ρ²/(4F) (focus–directrix property, any
+    // analytic-geometry text): a segment spanning ρ from max(H − D/2, 0) to
+    // H + D/2 is ((H + D/2)² − max(H − D/2, 0)²)/(4F) deep; its working
+    // focal ratio is the reflected focal length F + H²/(4F) over D; a feed
+    // lighting the meridional rim evenly points along the mean of the rim
+    // angles ψ± = 2 atan((H ± D/2)/(2F)). Segments clear of the axis,
+    // across it and centred on it.
+    for (f, h, dia) in [(500.0, 200.0, 100.0), (300.0, 30.0, 100.0), (800.0, 0.0, 200.0), (250.0, 600.0, 80.0)] {
+        let d = design(f, h, dia);
+        let (near, far) = ((h - 0.5 * dia).max(0.0), h + 0.5 * dia);
+        let depth = (far * far - near * near) / (4.0 * f);
+        assert!(rel(d.segment_depth_mm, depth) < 1e-12, "F {f} H {h} D {dia}: depth {} vs {depth}", d.segment_depth_mm);
+        let ratio = (f + h * h / (4.0 * f)) / dia;
+        assert!(rel(d.focal_ratio, ratio) < 1e-12, "F {f} H {h} D {dia}: f-ratio {} vs {ratio}", d.focal_ratio);
+        let psi = |y: f64| 2.0 * (y / (2.0 * f)).atan().to_degrees();
+        let mid = 0.5 * (psi(h - 0.5 * dia) + psi(h + 0.5 * dia));
+        assert!((d.feed.bisector_off_axis_deg - mid).abs() < 1e-12 * (1.0 + mid.abs()), "F {f} H {h} D {dia}: {}", d.feed.bisector_off_axis_deg);
+    }
+}
+
+#[test]
+fn generated_layout_places_screen_and_beam_as_documented() {
+    // The designer's layout (src/design/off_axis.rs, "Layout"): a square
+    // screen 2 % of D wide, at least 1 mm, rounded up to 0.5 mm; the beam,
+    // D wide along −z over the segment centre, starts 10 % of D + 1 mm above
+    // the segment's far edge z = (H + D/2)²/(4F), rounded up to the mm, so
+    // every ray meets the segment first.
+    for (f, h, dia, size) in [(500.0, 200.0, 100.0, 2.0), (500.0, 200.0, 30.0, 1.0), (1000.0, 400.0, 330.0, 7.0)] {
+        let d = design(f, h, dia);
+        let Element::Screen(s) = &d.layout.elements[1] else { panic!("second element is the screen") };
+        assert_eq!(s.size, size, "D {dia}");
+        let catoptric::layout::Source::Beam(b) = &d.layout.sources[0] else { panic!("the source is a beam") };
+        let top = (h + 0.5 * dia).powi(2) / (4.0 * f);
+        assert_eq!(b.center, [h, (top + 0.1 * dia + 1.0).ceil()], "F {f} H {h} D {dia}");
+        assert_eq!((b.diameter, b.direction_deg), (dia, 180.0));
+    }
+}

@@ -19,9 +19,12 @@
 //! # Layout
 //!
 //! Parent vertex at [0, 0] with its axis along +z (`axis_deg` 0); the
-//! aperture offset H puts the segment at y = H. Focus (screen `focus`) at
-//! [0, F], facing the segment centre. The beam `on-axis` travels along −z,
-//! parallel to the parent axis, and fills the segment.
+//! aperture offset H puts the segment at y = H. Focus (screen `focus`, a
+//! square 2 % of D wide, at least 1 mm, rounded up to 0.5 mm) at [0, F],
+//! facing the segment centre. The beam `on-axis` travels along −z, parallel
+//! to the parent axis, and fills the segment: D wide, centred at y = H, it
+//! starts 10 % of D + 1 mm above the segment's far edge (rounded up to the
+//! mm), so every ray meets the segment first.
 
 use super::two_mirror::fmt_num;
 use super::{bad, checked, conic_sag, finite, finite_result, new_layout, positive, star_beam, tidy};
