@@ -80,6 +80,42 @@ fn sphere_longitudinal_aberration_matches_the_exact_axis_crossing() {
 }
 
 #[test]
+fn tilted_beam_longitudinal_aberration_follows_each_meridional_ray() {
+    // Exact trace by plane geometry (the circle and the law of reflection,
+    // Hecht, Optics, §4.4): a beam tilted by a = 2° toward +y; its
+    // meridional ray at pupil coordinate s starts s·D/2 along the beam's
+    // local +y, (y, z) = (cos a, −sin a) (docs/FORMATS.md, conventions),
+    // meets the sphere y² + z² = R², reflects about the radius, and crosses
+    // the screen's axis (y = 0) at z; the figure is z − z_screen. The tilt
+    // makes the fan asymmetric, so each ray must be the one its pupil
+    // coordinate names.
+    let (r, a) = (1000.0f64, 2f64.to_radians());
+    let text = layout(
+        &[mirror("m", 1000.0, r, 0.0, 400.0, None), screen("s", 0.0, 500.0, 300.0, "square", false)],
+        &[r#"{ "kind": "beam", "id": "tilted", "center": [0, 600], "direction_deg": 2, "diameter": 300,
+               "rays": 100, "pattern": "hex", "irradiance_w_m2": 1000 }"#
+            .to_string()],
+    );
+    let la = longitudinal_aberration(&scene(&text), 0, 0, 21).unwrap();
+    assert_eq!(la.pupil.len(), 21, "every ray crosses the axis");
+    for ((&s, &h), &x) in la.pupil.iter().zip(&la.height).zip(&la.crossing_mm) {
+        assert!((h - 150.0 * s).abs() < 1e-12, "height {h} at pupil {s}");
+        let (y0, z0) = (150.0 * s * a.cos(), 600.0 - 150.0 * s * a.sin());
+        let (dy, dz) = (a.sin(), a.cos());
+        // |p0 + t d|² = R², the root ahead of the ray.
+        let (b, c) = (y0 * dy + z0 * dz, y0 * y0 + z0 * z0 - r * r);
+        let t = -b + (b * b - c).sqrt();
+        let (py, pz) = (y0 + t * dy, z0 + t * dz);
+        let (ny, nz) = (py / r, pz / r);
+        let dn = dy * ny + dz * nz;
+        let (ry, rz) = (dy - 2.0 * dn * ny, dz - 2.0 * dn * nz);
+        let z_cross = pz - py / ry * rz;
+        let expect = z_cross - 500.0;
+        assert!((x - expect).abs() < 1e-9 * r, "pupil {s}: {x} vs {expect}");
+    }
+}
+
+#[test]
 fn lamp_at_the_centre_of_curvature_has_no_longitudinal_aberration() {
     // A sphere images its centre of curvature onto itself (elementary
     // geometry): every meridional ray from a lamp there returns through it.
