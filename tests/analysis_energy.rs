@@ -79,17 +79,32 @@ fn sphere_longitudinal_aberration_matches_the_exact_axis_crossing() {
     assert!(rel(la.crossing_mm[k], 2.5189) < 1e-4);
 }
 
+/// Where a ray from (y0, z0) along (dy, dz) crosses the axis y = 0 after
+/// reflecting inside the sphere y² + z² = R² (mirror toward +z): exact
+/// plane geometry, the circle and the law of reflection (Hecht, Optics,
+/// §4.4).
+fn sphere_axis_crossing(r: f64, (y0, z0): (f64, f64), (dy, dz): (f64, f64)) -> f64 {
+    // |p0 + t d|² = R², the root ahead of the ray.
+    let (b, c) = (y0 * dy + z0 * dz, y0 * y0 + z0 * z0 - r * r);
+    let t = -b + (b * b - c).sqrt();
+    let (py, pz) = (y0 + t * dy, z0 + t * dz);
+    let (ny, nz) = (py / r, pz / r);
+    let dn = dy * ny + dz * nz;
+    let (ry, rz) = (dy - 2.0 * dn * ny, dz - 2.0 * dn * nz);
+    pz - py / ry * rz
+}
+
 #[test]
-fn tilted_beam_longitudinal_aberration_follows_each_meridional_ray() {
-    // Exact trace by plane geometry (the circle and the law of reflection,
-    // Hecht, Optics, §4.4): a beam tilted by a = 2° toward +y; its
-    // meridional ray at pupil coordinate s starts s·D/2 along the beam's
-    // local +y, (y, z) = (cos a, −sin a) (docs/FORMATS.md, conventions),
-    // meets the sphere y² + z² = R², reflects about the radius, and crosses
-    // the screen's axis (y = 0) at z; the figure is z − z_screen. The tilt
-    // makes the fan asymmetric, so each ray must be the one its pupil
-    // coordinate names.
-    let (r, a) = (1000.0f64, 2f64.to_radians());
+fn tilted_fans_longitudinal_aberration_follows_each_meridional_ray() {
+    // A beam tilted by a = 2°: its meridional ray at pupil coordinate s
+    // starts s·D/2 along the beam's local +y, (y, z) = (cos a, −sin a)
+    // (docs/FORMATS.md, conventions); a lamp aimed 3° off the axis with an
+    // 8° cone: its ray at s leaves at 3° + 8°·s. Each crosses the screen's
+    // axis where the exact trace says (sphere_axis_crossing), measured from
+    // the screen plane. The tilts make the fans asymmetric, so each ray
+    // must be the one its pupil coordinate names.
+    let r = 1000.0f64;
+    let a = 2f64.to_radians();
     let text = layout(
         &[mirror("m", 1000.0, r, 0.0, 400.0, None), screen("s", 0.0, 500.0, 300.0, "square", false)],
         &[r#"{ "kind": "beam", "id": "tilted", "center": [0, 600], "direction_deg": 2, "diameter": 300,
@@ -100,18 +115,25 @@ fn tilted_beam_longitudinal_aberration_follows_each_meridional_ray() {
     assert_eq!(la.pupil.len(), 21, "every ray crosses the axis");
     for ((&s, &h), &x) in la.pupil.iter().zip(&la.height).zip(&la.crossing_mm) {
         assert!((h - 150.0 * s).abs() < 1e-12, "height {h} at pupil {s}");
-        let (y0, z0) = (150.0 * s * a.cos(), 600.0 - 150.0 * s * a.sin());
-        let (dy, dz) = (a.sin(), a.cos());
-        // |p0 + t d|² = R², the root ahead of the ray.
-        let (b, c) = (y0 * dy + z0 * dz, y0 * y0 + z0 * z0 - r * r);
-        let t = -b + (b * b - c).sqrt();
-        let (py, pz) = (y0 + t * dy, z0 + t * dz);
-        let (ny, nz) = (py / r, pz / r);
-        let dn = dy * ny + dz * nz;
-        let (ry, rz) = (dy - 2.0 * dn * ny, dz - 2.0 * dn * nz);
-        let z_cross = pz - py / ry * rz;
-        let expect = z_cross - 500.0;
-        assert!((x - expect).abs() < 1e-9 * r, "pupil {s}: {x} vs {expect}");
+        let start = (150.0 * s * a.cos(), 600.0 - 150.0 * s * a.sin());
+        let expect = sphere_axis_crossing(r, start, (a.sin(), a.cos())) - 500.0;
+        assert!((x - expect).abs() < 1e-9 * r, "beam, pupil {s}: {x} vs {expect}");
+    }
+    // The lamp 900 mm from the mirror images 1125 mm from it (1/u + 1/v =
+    // 2/R), where the screen stands.
+    let text = layout(
+        &[mirror("m", 1000.0, r, 0.0, 600.0, None), screen("s", 0.0, -125.0, 300.0, "square", false)],
+        &[r#"{ "kind": "point", "id": "lamp", "center": [0, 100], "direction_deg": 3, "cone_half_angle_deg": 8,
+               "rays": 100, "pattern": "hex", "power_w": 1 }"#
+            .to_string()],
+    );
+    let la = longitudinal_aberration(&scene(&text), 0, 0, 21).unwrap();
+    assert_eq!((la.height_unit, la.pupil.len()), ("deg", 21));
+    for ((&s, &h), &x) in la.pupil.iter().zip(&la.height).zip(&la.crossing_mm) {
+        assert!((h - 8.0 * s).abs() < 1e-12, "height {h} at pupil {s}");
+        let phi = (3.0 + 8.0 * s).to_radians();
+        let expect = sphere_axis_crossing(r, (0.0, 100.0), (phi.sin(), phi.cos())) + 125.0;
+        assert!((x - expect).abs() < 1e-9 * r, "lamp, pupil {s}: {x} vs {expect}");
     }
 }
 
