@@ -198,3 +198,50 @@ fn solar_disk_and_few_hits_give_null_keys() {
     let json = serde_json::to_value(&r).unwrap();
     assert!(json["screens"][0]["by_source"][1]["strehl_estimate"].is_null());
 }
+
+#[test]
+fn an_out_of_plane_star_maps_onto_a_centred_pupil() {
+    // Pupil coordinates are the direction cosines across the mean
+    // direction, scaled so the largest radius is 1 (src/analysis/wavefront.rs,
+    // WavefrontMap), so a filled circular aperture maps onto the unit disk
+    // centred on 0 (common practice) whichever way the light arrives. A star
+    // 1° out of the layout plane on the f/5 paraboloid: its coma makes a
+    // real map, and the mean direction leaves the layout plane.
+    let text = paraboloid_f5().replace("\"direction_deg\": 0,", "\"direction_deg\": 0, \"out_of_plane_deg\": 1,");
+    assert!(text.contains("out_of_plane_deg"));
+    let text = text.replace("\"size\": 20,", "\"size\": 60,");
+    let (_, res) = run(&text);
+    let h = &res.screens[0];
+    let p = focus_fit(h, Some(0)).unwrap().best_point().unwrap();
+    let map = wavefront_map(h, Some(0), p, 550e-6).unwrap();
+    let n = map.pupil_x.len() as f64;
+    assert!(n > 15000.0, "{n} hits");
+    let (mx, my) = (map.pupil_x.iter().sum::<f64>() / n, map.pupil_y.iter().sum::<f64>() / n);
+    assert!(mx.abs() < 0.02 && my.abs() < 0.02, "pupil centre ({mx}, {my})");
+    let rmax = map.pupil_x.iter().zip(&map.pupil_y).map(|(x, y)| x.hypot(*y)).fold(0.0, f64::max);
+    assert!((rmax - 1.0).abs() < 1e-12, "pupil radius {rmax}");
+}
+
+#[test]
+fn five_hits_are_enough_for_a_wavefront_four_are_not() {
+    // The fit removes four terms (piston, two tilts, defocus), so a
+    // residual needs at least five rays (common practice for least squares;
+    // the report's documented minimum). Five rays of a slow sphere.
+    let text = layout(
+        &[mirror("m", 2000.0, 2400.0, 0.0, 150.0, None), screen("s", 0.0, 800.0, 10.0, "square", false)],
+        &[beam("star", 0.0, 1000.0, 150.0, 5, "random", 0.0)],
+    );
+    let (_, res) = run(&text);
+    let h = &res.screens[0];
+    assert_eq!(h.len(), 5, "five rays on the screen");
+    let p = [0.0, 0.0, 0.0];
+    let w = wavefront(h, Some(0), p, 550e-6).expect("five hits give a wavefront");
+    assert!(w.rms_waves.is_finite() && w.pv_waves >= 0.0);
+    let mut four = h.clone();
+    for col in [&mut four.u, &mut four.v, &mut four.du, &mut four.dv, &mut four.dw, &mut four.opl, &mut four.weight] {
+        col.truncate(4);
+    }
+    four.source.truncate(4);
+    four.first.truncate(4);
+    assert!(wavefront(&four, Some(0), p, 550e-6).is_none());
+}
