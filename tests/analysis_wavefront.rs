@@ -245,3 +245,46 @@ fn five_hits_are_enough_for_a_wavefront_four_are_not() {
     four.first.truncate(4);
     assert!(wavefront(&four, Some(0), p, 550e-6).is_none());
 }
+
+#[test]
+fn a_parabolic_trough_has_a_perfect_cylindrical_wavefront() {
+    // The parabola's focal property (any analytic-geometry text) holds in
+    // each section of a trough: a plane wave along the axis reflects into
+    // rays through the focal line, all with the same path, so the
+    // wavefront error is zero. The rays keep no component along the
+    // trough, so one pupil direction has no spread at all: the fit must
+    // drop that column, not fail.
+    let text = layout(
+        &[mirror("m", 1000.0, 2000.0, -1.0, 200.0, Some(150.0)), screen("s", 0.0, 0.0, 200.0, "square", false)],
+        &[beam("star", 0.0, 500.0, 120.0, 5000, "hex", 0.0)],
+    );
+    let (scene, res) = run(&text);
+    let b = &trace_report(&scene, &res).screens[0].by_source[0];
+    assert!(b.hits > 4000, "{} hits", b.hits);
+    let (pv, rms) = (b.wavefront_pv_waves.expect("a wavefront"), b.wavefront_rms_waves.expect("a wavefront"));
+    assert!(pv < 1e-6 && rms < 1e-6, "P-V {pv}, RMS {rms} waves");
+}
+
+#[test]
+fn a_slow_beam_has_its_defocus_removed_too() {
+    // Across an f/50 pupil the defocus term (the cosine of the ray angle)
+    // varies a hundred thousand times less than the tilts, yet a defocused
+    // screen must still see the paraboloid's perfect spherical wave
+    // (focal property of the parabola): the fit's cut-off for dropping a
+    // term is relative to each term's own spread. A 40 mm f/50 paraboloid,
+    // the wavefront taken about a point 20 mm short of the focus (the fit
+    // moves it there) and about one 20 mm beyond.
+    let text = layout(
+        &[mirror("m", 2000.0, 4000.0, -1.0, 40.0, None), screen("s", 0.0, 20.0, 40.0, "square", false)],
+        &[beam("star", 0.0, 1000.0, 40.0, 5000, "hex", 0.0)],
+    );
+    let (_, res) = run(&text);
+    let h = &res.screens[0];
+    assert!(h.len() > 4000, "{} hits", h.len());
+    for z in [0.0, -40.0] {
+        let w = wavefront(h, Some(0), [0.0, 0.0, z], 550e-6).expect("a wavefront");
+        assert!(w.rms_waves < 1e-6, "reference at {z}: RMS {} waves", w.rms_waves);
+        // The best reference point is the focus, 20 mm behind the screen.
+        assert!((w.best_point[2] + 20.0).abs() < 1e-6, "reference at {z}: {:?}", w.best_point);
+    }
+}
