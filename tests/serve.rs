@@ -385,19 +385,19 @@ fn a_trickled_head_meets_one_deadline() {
     let s = start_with("trickle", &["--head-timeout-ms", "1000"]);
     let mut stream = TcpStream::connect_timeout(&s.addr, WAIT).expect("connect");
     stream.write_all(b"GET / HTTP/1.1\r\nX-Slow: ").unwrap();
-    stream.set_nonblocking(true).unwrap();
+    // Each byte is followed by a wait for the server's answer, bounded at
+    // 100 ms: at most 60 bytes, and a byte per 100 ms would keep a per-read
+    // timeout alive forever.
+    stream.set_read_timeout(Some(Duration::from_millis(100))).unwrap();
     let mut raw = Vec::new();
     let mut closed = false;
-    // At most 60 × 100 ms: a byte every 100 ms would keep a per-read
-    // timeout alive forever.
     for _ in 0..60 {
         let _ = stream.write(b"a");
-        std::thread::sleep(Duration::from_millis(100));
         let mut buf = [0u8; 1024];
         match stream.read(&mut buf) {
             Ok(0) => closed = true,
             Ok(n) => raw.extend_from_slice(&buf[..n]),
-            Err(e) if e.kind() == std::io::ErrorKind::WouldBlock => {}
+            Err(e) if matches!(e.kind(), std::io::ErrorKind::WouldBlock | std::io::ErrorKind::TimedOut) => {}
             Err(_) => closed = true,
         }
         if closed {
@@ -426,14 +426,15 @@ fn nothing_is_read_after_the_answer() {
     }
     assert_eq!(parse_reply(&raw).status, 200);
     // Keep talking: a closed peer resets the connection, so a write fails
-    // within a few tries (at most 30 × 100 ms).
+    // within a few tries; between tries, wait for the reset to come back
+    // (a read, bounded by QUICK).
     let mut refused = false;
     for _ in 0..30 {
         if stream.write_all(b"more bytes nobody asked for\r\n").is_err() {
             refused = true;
             break;
         }
-        std::thread::sleep(Duration::from_millis(100));
+        let _ = stream.read(&mut buf);
     }
     assert!(refused, "the server kept the connection open and went on reading");
 }
