@@ -58,16 +58,20 @@ pub(crate) struct Clear {
     pub inner: f64,
     /// Strip only: half length along x (∞ for disks).
     pub half_length: f64,
+    /// Disk: radius and hole radius (the square roots of `outer`,
+    /// `inner`). Strip: half width and half hole again.
+    pub outer_len: f64,
+    pub inner_len: f64,
 }
 
 impl Clear {
     fn of(a: &Aperture) -> Clear {
         match *a {
             Aperture::Disk { offset, r, hole } => {
-                Clear { offset, strip: false, outer: r * r, inner: hole * hole, half_length: f64::INFINITY }
+                Clear { offset, strip: false, outer: r * r, inner: hole * hole, half_length: f64::INFINITY, outer_len: r, inner_len: hole }
             }
             Aperture::Strip { offset, half_width, half_hole, half_length } => {
-                Clear { offset, strip: true, outer: half_width, inner: half_hole, half_length }
+                Clear { offset, strip: true, outer: half_width, inner: half_hole, half_length, outer_len: half_width, inner_len: half_hole }
             }
         }
     }
@@ -81,6 +85,24 @@ impl Clear {
         } else {
             let q = x * x + dy * dy;
             (q <= self.outer) & (q >= self.inner)
+        }
+    }
+
+    /// (x, y) lies more than `margin` outside the clear aperture (beyond
+    /// the rim or inside the hole), so `contains` fails there and at any
+    /// point within `margin` of it. NaN coordinates are never clearly
+    /// outside.
+    #[inline(always)]
+    pub fn clearly_outside(&self, x: f64, y: f64, margin: f64) -> bool {
+        let dy = y - self.offset;
+        let (out, inn) = (self.outer_len + margin, self.inner_len - margin);
+        let hole = |q: f64| (inn > 0.0) & (q < inn * inn);
+        if self.strip {
+            let a = dy.abs();
+            (a > out) | hole(a * a) | (x.abs() > self.half_length + margin)
+        } else {
+            let q = x * x + dy * dy;
+            (q > out * out) | hole(q)
         }
     }
 }

@@ -29,6 +29,14 @@ use crate::scene::{Part, Scene};
 /// Rays per batch.
 pub const LANES: usize = 512;
 const NONE: u32 = u32::MAX;
+/// A reflected ray's second root on its own conic is trusted to rule a
+/// return out only when it lies more than this many self-hit distances
+/// (`Scene::t_eps`) from the hit: closer, the two roots are nearly equal
+/// and left to the exact solve.
+const SECOND_ROOT_NEAR: f64 = 1e3;
+/// Relative margin on that root's distance, and on the sag-branch test,
+/// for rounding (the exact solve's root differs by ~1e-15 relative).
+const SECOND_ROOT_REL: f64 = 1e-9;
 
 /// Counters of a traced range of rays.
 #[derive(Debug, Clone, Copy, Default, PartialEq, Eq)]
@@ -78,6 +86,9 @@ pub(crate) struct Batch {
     t0: Vec<f64>,
     /// After shading: does the ray go on?
     alive: Vec<bool>,
+    /// Scratch: 1.0 where a reflected ray cannot meet its mirror again on
+    /// the next leg.
+    aux: Vec<f64>,
     /// Per element this round: did any ray take it as its nearest hit so
     /// far (a later element may have taken the ray since)?
     touched: Vec<bool>,
@@ -117,6 +128,7 @@ impl Batch {
             keep: vec![false; LANES],
             t0: col(),
             alive: vec![false; LANES],
+            aux: col(),
             touched: Vec::new(),
             sel: vec![0; LANES],
             recorded: Vec::new(),
@@ -195,7 +207,7 @@ kernels! {
     /// Nearest hits on a screen.
     fn screen => screen_body(r: &Rec, half: f64, circle: bool, k: u32, eps: f64, b: &mut Batch, n: usize) -> usize;
     /// Reflection off a conic mirror.
-    fn reflect_conic => reflect_conic_body(rec: &Rec, cr: &ConicRec, k: u32, max_bounces: u32, b: &mut Batch, n: usize) -> ();
+    fn reflect_conic => reflect_conic_body(rec: &Rec, cr: &ConicRec, k: u32, max_bounces: u32, eps: f64, predict: bool, b: &mut Batch, n: usize) -> ();
     /// Crossing a screen.
     fn cross => cross_body(rec: &Rec, k: u32, opaque: bool, b: &mut Batch, n: usize) -> ();
 }
@@ -319,6 +331,9 @@ fn run_batch(
             if let Kind::General = rec.kind {
                 b.touched[k] = general(scene, rec, k, eps, b, n) > 0;
                 continue;
+            }
+            if b.skip[..n].iter().all(|&s| s == k as u32) {
+                continue; // no ray of the batch can meet it on this leg
             }
             let kept = cull_pass(kernel, rec, k as u32, eps, b, n);
             if kept == 0 {
@@ -505,7 +520,9 @@ fn shade(
         let rec = &comp.recs[k];
         match rec.kind {
             Kind::Screen { opaque, screen, .. } => record(rec, k as u32, opaque, kernel, b, n, src, &mut out[screen], screen),
-            Kind::Conic(ref cr) => reflect_conic(kernel, rec, cr, k as u32, scene.max_bounces, b, n),
+            // A slope error turns the ray after the reflection, so its
+            // second root is not predicted there.
+            Kind::Conic(ref cr) => reflect_conic(kernel, rec, cr, k as u32, scene.max_bounces, scene.t_eps, rec.slope.is_none(), b, n),
             Kind::General => reflect_general(scene, rec, k, b, n),
         }
         if let Some(s) = &rec.slope {
@@ -632,14 +649,18 @@ fn cross_body(rec: &Rec, k: u32, opaque: bool, b: &mut Batch, n: usize) {
 }
 
 #[inline(always)]
-fn reflect_conic_body(rec: &Rec, cr: &ConicRec, k: u32, max_bounces: u32, b: &mut Batch, n: usize) {
+#[allow(clippy::too_many_arguments)]
+fn reflect_conic_body(rec: &Rec, cr: &ConicRec, k: u32, max_bounces: u32, eps: f64, predict: bool, b: &mut Batch, n: usize) {
     let f = rec.frame;
+    let (c, kap) = (cr.c, cr.kappa);
+    let xs = if cr.extruded { 0.0 } else { 1.0 };
     let best = &b.best[..n];
     let t = &b.t[..n];
     let (hx, hy, hz) = (&b.hx[..n], &b.hy[..n], &b.hz[..n]);
     let (ox, oy, oz) = (&mut b.ox[..n], &mut b.oy[..n], &mut b.oz[..n]);
     let (dx, dy, dz) = (&mut b.dx[..n], &mut b.dy[..n], &mut b.dz[..n]);
-    let (opl, w, dn_col) = (&mut b.opl[..n], &mut b.w[..n], &mut b.t0[..n]);
+    let (opl, w, dn_col, gone_col) = (&mut b.opl[..n], &mut b.w[..n], &mut b.t0[..n], &mut b.aux[..n]);
+    let near = SECOND_ROOT_NEAR * eps;
     // Floating-point columns first (one loop of one type vectorises)…
     for i in 0..n {
         let m = best[i] == k;
@@ -648,30 +669,44 @@ fn reflect_conic_body(rec: &Rec, cr: &ConicRec, k: u32, max_bounces: u32, b: &mu
         let (ldx, ldy, ldz) = f.dir_to_local(dx[i], dy[i], dz[i]);
         let dn = ldx * nx + ldy * ny + ldz * nz;
         let s = 2.0 * dn;
-        let (gx, gy, gz) = f.dir_to_world(ldx - nx * s, ldy - ny * s, ldz - nz * s);
-        let (ux, uy, uz) = unit(gx, gy, gz);
+        let (rx, ry, rz) = (ldx - nx * s, ldy - ny * s, ldz - nz * s);
+        let (gx, gy, gz) = f.dir_to_world(rx, ry, rz);
         let (wx, wy, wz) = f.point_to_world(px, py, pz);
+        // The reflected line meets the conic at P (t = 0) and at
+        // t₂ = −2·q_b/q_a: the ray can meet this mirror again on its next
+        // leg only there. Rule it out only when t₂ is clearly behind, or
+        // lands clearly off the clear aperture or on the far branch, so
+        // that rounding cannot make the exact solve disagree.
+        let (sx, srx) = (px * xs, rx * xs);
+        let qa = c * (srx * srx + ry * ry) + kap * rz * rz;
+        let qb = c * (sx * srx + py * ry) - rz + kap * pz * rz;
+        let t2 = -2.0 * qb / qa;
+        let (qx, qy, qz) = (px + rx * t2, py + ry * t2, pz + rz * t2);
+        let margin = near + SECOND_ROOT_REL * t2.abs();
+        let off = cr.clear.clearly_outside(qx, qy, margin) | (kap * qz > 1.0 + SECOND_ROOT_REL);
+        let gone = (t2 < -near) | (t2.abs() == f64::INFINITY) | ((t2 > near) & off);
         ox[i] = if m { wx } else { ox[i] };
         oy[i] = if m { wy } else { oy[i] };
         oz[i] = if m { wz } else { oz[i] };
-        dx[i] = if m { ux } else { dx[i] };
-        dy[i] = if m { uy } else { dy[i] };
-        dz[i] = if m { uz } else { dz[i] };
+        dx[i] = if m { gx } else { dx[i] };
+        dy[i] = if m { gy } else { dy[i] };
+        dz[i] = if m { gz } else { dz[i] };
         opl[i] = if m { opl[i] + t[i] } else { opl[i] };
         w[i] = if m { w[i] * rec.reflectivity } else { w[i] };
         dn_col[i] = dn;
+        gone_col[i] = if gone { 1.0 } else { 0.0 };
     }
     // …then the ray's state: the back face absorbs, so does the bounce
     // limit or a ray with no power left.
-    let skip_next = if rec.no_return { k } else { NONE };
     let (bounces, skip, alive) = (&mut b.bounces[..n], &mut b.skip[..n], &mut b.alive[..n]);
-    let (dn, w) = (&b.t0[..n], &b.w[..n]);
+    let (dn, w, gone) = (&b.t0[..n], &b.w[..n], &b.aux[..n]);
     for i in 0..n {
         let m = best[i] == k;
         let nb = bounces[i] + 1;
         let lives = !(dn[i] >= 0.0) & (nb <= max_bounces) & !(w[i] <= 0.0);
+        let not_again = rec.no_return | (predict & (gone[i] != 0.0));
         bounces[i] = if m { nb } else { bounces[i] };
-        skip[i] = if m { skip_next } else { skip[i] };
+        skip[i] = if m { if not_again { k } else { NONE } } else { skip[i] };
         alive[i] = if m { lives } else { alive[i] };
     }
 }
@@ -690,7 +725,7 @@ fn reflect_general(scene: &Scene, rec: &Rec, k: usize, b: &mut Batch, n: usize) 
         let dn = ldx * m.x + ldy * m.y + ldz * m.z;
         let s = 2.0 * dn;
         let (gx, gy, gz) = f.dir_to_world(ldx - m.x * s, ldy - m.y * s, ldz - m.z * s);
-        (b.dx[i], b.dy[i], b.dz[i]) = unit(gx, gy, gz);
+        (b.dx[i], b.dy[i], b.dz[i]) = (gx, gy, gz);
         (b.ox[i], b.oy[i], b.oz[i]) = f.point_to_world(px, py, pz);
         b.opl[i] += b.t[i];
         b.bounces[i] += 1;
