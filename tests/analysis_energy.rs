@@ -31,6 +31,49 @@ fn uniform_disk_encloses_r_squared() {
     let (r, f) = ee.curve(11);
     assert!(r.len() == 11 && f[0] == 0.0 && f[10] == 1.0);
     assert!(f.windows(2).all(|w| w[1] >= w[0]));
+    // Samples evenly spaced from 0 to the largest radius (µm), each the
+    // disk's (r/a)² within its sampling noise.
+    let rmax = ee.radius_for(1.0).unwrap();
+    for (k, (&rk, &fk)) in r.iter().zip(&f).enumerate() {
+        assert!(rel(rk, rmax * 1e3 * k as f64 / 10.0) < 1e-12 || k == 0 && rk == 0.0, "sample {k}: {rk} µm");
+        let expect = (rk * 1e-3 / a).powi(2).min(1.0);
+        assert!((fk - expect).abs() < 5e-3, "sample {k}: {fk} vs {expect}");
+    }
+}
+
+/// Hits at (±x, 0) about the origin: centroid 0, both radii exactly x.
+fn pair(x: f64) -> ScreenHits {
+    let mut h = ScreenHits::default();
+    for u in [x, -x] {
+        h.u.push(u);
+        h.v.push(0.0);
+        h.du.push(0.0);
+        h.dv.push(0.0);
+        h.dw.push(-1.0);
+        h.opl.push(0.0);
+        h.weight.push(1.0);
+        h.source.push(0);
+    }
+    h
+}
+
+#[test]
+fn encircled_energy_curve_of_one_point_and_its_last_sample() {
+    // The curve starts at (0, 0) and ends with the whole power at the
+    // largest radius (definition of the encircled-energy curve).
+    let ee = encircled_energy(&pair(0.3), Some(0)).unwrap();
+    assert_eq!(ee.curve(1), (vec![0.0], vec![0.0]));
+    assert_eq!(ee.curve(0), (vec![], vec![]));
+    let (r, f) = ee.curve(2);
+    assert_eq!((r[0], f[0], f[1]), (0.0, 0.0, 1.0));
+    assert!(rel(r[1], 300.0) < 1e-12);
+    // A largest radius x for which (x/10)·10 rounds above x: the last of
+    // 11 samples then lies past every hit, and still encloses everything.
+    let x = (1..10_000).map(|k| k as f64 * 1e-3).find(|&x| (x / 10.0) * 10.0 > x).expect("such an x exists");
+    let ee = encircled_energy(&pair(x), Some(0)).unwrap();
+    let (r, f) = ee.curve(11);
+    assert!(r[10] * 1e-3 > x, "the sample should lie past the largest radius");
+    assert_eq!(f[10], 1.0);
 }
 
 #[test]

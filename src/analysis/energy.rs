@@ -2,8 +2,11 @@
 //!
 //! The curve is the fraction of the source's power on this screen that
 //! falls within radius r of its weighted centroid (not of the power the
-//! source launched). Radii for a given fraction are interpolated linearly
-//! between the sorted hit radii, with the curve starting at (0, 0).
+//! source launched): the power on the closed disk of radius r, so at a hit's
+//! radius every hit at that radius counts, and the largest radius holds
+//! everything. Between hit radii, and for the radius of a given fraction,
+//! the curve is interpolated linearly through the sorted hit radii, starting
+//! at (0, 0).
 //!
 //! # Method
 //!
@@ -230,7 +233,7 @@ impl EncircledEnergy {
         let mut below = self.before[b];
         let mut next = None;
         for (j, &(x, w)) in bins[b].iter().enumerate() {
-            if x < r {
+            if x <= r {
                 below += w;
                 r0 = x;
             } else {
@@ -238,7 +241,7 @@ impl EncircledEnergy {
                 break;
             }
         }
-        // First radius at or above r: in this bin, or the next one's least.
+        // First radius above r: in this bin, or the next one's least.
         let next = next.or_else(|| self.next_filled(b + 1).and_then(|k| bins[k].first().map(|&(x, w)| (k, 0, x, w))));
         match next {
             Some((k, j, r1, w1)) => {
@@ -256,14 +259,14 @@ impl EncircledEnergy {
         if self.radius_mm.is_empty() || r <= 0.0 {
             return 0.0;
         }
-        if r > self.rmax {
+        if r >= self.rmax {
             return 1.0;
         }
-        // Weight below r, the largest radius below it and the first at or
-        // above it (with its weight).
+        // Weight within r, the largest radius within it and the first above
+        // it (with its weight).
         let (mut below, mut r0, mut r1, mut w1) = (0.0, 0.0f64, f64::INFINITY, 0.0);
         self.each(|x, w| {
-            if x < r {
+            if x <= r {
                 below += w;
                 r0 = r0.max(x);
             } else if x < r1 {
@@ -372,7 +375,7 @@ mod tests {
         if x <= 0.0 {
             return 0.0;
         }
-        let k = r.partition_point(|&y| y < x);
+        let k = r.partition_point(|&y| y <= x);
         if k >= r.len() {
             return 1.0;
         }
