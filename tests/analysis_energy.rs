@@ -62,6 +62,12 @@ fn encircled_energy_curve_of_one_point_and_its_last_sample() {
     // The curve starts at (0, 0) and ends with the whole power at the
     // largest radius (definition of the encircled-energy curve).
     let ee = encircled_energy(&pair(0.3), Some(0)).unwrap();
+    // A fraction's radius exists for fractions in (0, 1] only.
+    for frac in [0.0, -0.1, 1.0 + 1e-12, 2.0, f64::NAN] {
+        assert_eq!(ee.radius_for(frac), None, "fraction {frac}");
+    }
+    assert_eq!(ee.radius_for(1.0), Some(0.3));
+    assert!(rel(ee.radius_for(1e-9).unwrap(), 0.3 * 2e-9) < 1e-12, "the curve starts at (0, 0)");
     assert_eq!(ee.curve(1), (vec![0.0], vec![0.0]));
     assert_eq!(ee.curve(0), (vec![], vec![]));
     let (r, f) = ee.curve(2);
