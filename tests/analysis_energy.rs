@@ -58,6 +58,46 @@ fn pair(x: f64) -> ScreenHits {
 }
 
 #[test]
+fn encircled_energy_at_tied_radii_follows_the_sorted_hits() {
+    // Five hits about an exact centroid of 0 (u: 3·0.5 − 4·0.25 − 1·0.5 =
+    // 0; v: 0.25 − 0.25 = 0), in this order: radius 0.5 (weight 3), 0.25
+    // (4), 0.25 (1), 0.25 (1), 0.5 (1); total 10. The curve through the
+    // sorted hits, ties in hit order: (0, 0), (0.25, 0.4), (0.25, 0.5),
+    // (0.25, 0.6), (0.5, 0.9), (0.5, 1). The closed disk of radius 0.25
+    // holds 0.6 of the power; halfway to 0.5 the curve is halfway from 0.6
+    // to 0.9; at 0.5, everything (definition of encircled energy on the
+    // closed disk; common practice).
+    let mut h = ScreenHits::default();
+    for (u, v, w) in [(0.5, 0.0, 3.0), (-0.25, 0.0, 4.0), (0.0, 0.25, 1.0), (0.0, -0.25, 1.0), (-0.5, 0.0, 1.0)] {
+        h.u.push(u);
+        h.v.push(v);
+        h.du.push(0.0);
+        h.dv.push(0.0);
+        h.dw.push(-1.0);
+        h.opl.push(0.0);
+        h.weight.push(w);
+        h.source.push(0);
+    }
+    let ee = encircled_energy(&h, Some(0)).unwrap();
+    let expect = [(0.125, 0.2), (0.25, 0.6), (0.375, 0.75), (0.5, 1.0)];
+    for (r, f) in expect {
+        assert!((ee.fraction_at(r) - f).abs() < 1e-15, "fraction within {r}: {} vs {f}", ee.fraction_at(r));
+    }
+    // The plotted curve (binned) gives the same at its samples.
+    let (radii, fracs) = ee.curve(5);
+    assert_eq!(radii, vec![0.0, 125.0, 250.0, 375.0, 500.0]);
+    for (k, (r, f)) in expect.iter().enumerate() {
+        assert!((fracs[k + 1] - f).abs() < 1e-15, "curve at {r}: {} vs {f}", fracs[k + 1]);
+    }
+    // And the inverse: 0.4 and 0.6 of the power at 0.25, 0.75 halfway
+    // out, 0.9 at 0.5.
+    assert_eq!(ee.radius_for(0.4), Some(0.25));
+    assert_eq!(ee.radius_for(0.6), Some(0.25));
+    assert!((ee.radius_for(0.75).unwrap() - 0.375).abs() < 1e-15);
+    assert_eq!(ee.radius_for(0.9), Some(0.5));
+}
+
+#[test]
 fn encircled_energy_curve_of_one_point_and_its_last_sample() {
     // The curve starts at (0, 0) and ends with the whole power at the
     // largest radius (definition of the encircled-energy curve).
