@@ -168,3 +168,70 @@ fn linear_departure_is_a_tilted_flat() {
         assert!((out - want).norm() < 1e-12, "{out:?} vs {want:?}");
     }
 }
+
+/// Rays that cross a deep bowl's surface more than once inside its
+/// aperture — sideways through the wall, in and out of the rim region,
+/// from behind — meet it first where the closed-form conic says, when the
+/// surface is handed to the general solver (a conic with a zero departure
+/// spline). Roots of the conic from its quadric equation
+/// c(x² + y²) − 2z + (1+K)c z² = 0 along the ray (on the sheet through the
+/// vertex, (1+K)c·z < 1), found here independently. Rays whose crossings
+/// lie closer together than the solver's bracketing step (the aperture
+/// chord over 24, `SAG_BRACKET_STEPS`) are left out: a sampled bracket
+/// cannot see two sign changes inside one step. Comparing a closed form
+/// with the general path is common practice.
+#[test]
+fn general_solver_finds_the_first_of_several_crossings() {
+    use catoptric::geometry::{solve_quadratic, SAG_BRACKET_STEPS};
+    use catoptric::scene::Part;
+    let (r, k, dia) = (100.0, -0.5, 190.0);
+    let conic = mirror("m", [0.0, 0.0], 0.0, Some(r), k, dia, 0.0, 0.0, None);
+    let mut general = conic.clone();
+    general["profile"]["departure"] = json!([[0.0, 0.0], [1000.0, 0.0]]);
+    let surface = |m: serde_json::Value| {
+        let sc = scene(&layout(&[m], &[lamp("l", [0.0, 50.0], 180.0, 10.0, 10, 1.0)]));
+        match &sc.elements[0].part {
+            Part::Mirror { surface, .. } => surface.clone(),
+            _ => unreachable!(),
+        }
+    };
+    let (sc, sg) = (surface(conic), surface(general));
+    let (c, kap) = (1.0 / r, (1.0 + k) / r);
+    let mut rng = Rng(0x9e0e_5017);
+    let (mut compared, mut several) = (0, 0);
+    for i in 0..60_000 {
+        // Rays from near the bowl, and from 400 mm away aimed at it.
+        let p = Vec3::new(rng.range(-130.0, 130.0), rng.range(-130.0, 130.0), rng.range(-20.0, 110.0));
+        let u = Vec3::new(rng.range(-1.0, 1.0), rng.range(-1.0, 1.0), rng.range(-1.0, 1.0)).normalize();
+        let (o, d) = if i % 2 == 0 { (p, u) } else { (p + u * 400.0, -u) };
+        let Some((p0, p1)) = sc.aperture.prism_interval(&o, &d) else { continue };
+        // Crossings inside the aperture's prism, on the vertex sheet.
+        let a = c * (d.x * d.x + d.y * d.y) + kap * d.z * d.z;
+        let b = c * (o.x * d.x + o.y * d.y) - d.z + kap * o.z * d.z;
+        let q = c * (o.x * o.x + o.y * o.y) - 2.0 * o.z + kap * o.z * o.z;
+        let (n, roots) = solve_quadratic(a, b, q);
+        let inside: Vec<f64> =
+            roots[..n].iter().copied().filter(|&t| t > 1e-6 && t > p0 && t < p1 && kap * (o.z + t * d.z) < 1.0).collect();
+        let step = (p1 - p0.max(0.0)) / SAG_BRACKET_STEPS as f64;
+        if inside.windows(2).any(|w| w[1] - w[0] < 1.5 * step) {
+            continue; // too close together for any sampled bracket
+        }
+        // Keep away from the rim, where rounding decides either way.
+        if inside.iter().any(|&t| {
+            let p = o + d * t;
+            ((p.x * p.x + p.y * p.y).sqrt() - 0.5 * dia).abs() < 1e-6
+        }) {
+            continue;
+        }
+        let (hc, hg) = (sc.intersect(&o, &d, 1e-6, f64::INFINITY), sg.intersect(&o, &d, 1e-6, f64::INFINITY));
+        match (&hc, &hg) {
+            (None, None) => {}
+            (Some(x), Some(y)) => assert!((x.t - y.t).abs() < 1e-9, "o {o:?} d {d:?}: t {} vs {}", x.t, y.t),
+            _ => panic!("o {o:?} d {d:?}: closed form {:?} vs general {:?}", hc.map(|h| h.t), hg.map(|h| h.t)),
+        }
+        assert_eq!(hc.as_ref().map(|h| h.t), inside.first().map(|&t| t).filter(|_| hc.is_some()));
+        compared += 1;
+        several += (inside.len() >= 2 && hc.is_some()) as usize;
+    }
+    assert!(compared > 20_000 && several > 1000, "{compared} rays compared, {several} with several crossings");
+}
