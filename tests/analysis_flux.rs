@@ -112,13 +112,20 @@ fn flux_map_holds_all_the_power_on_the_screen() {
     // Energy conservation (common practice): Σ pixel flux × pixel area is
     // the power recorded on the screen; no sources of beams → no suns.
     let text = layout(
-        &[mirror("m", 1000.0, 2000.0, -1.0, 200.0, None), screen("s", 0.0, 5.0, 10.0, "circle", false)],
+        &[
+            mirror("m", 1000.0, 2000.0, -1.0, 200.0, None),
+            screen("s", 0.0, 5.0, 10.0, "circle", false),
+            screen("far", 0.0, -500.0, 40.0, "square", false),
+        ],
         &[r#"{ "kind": "point", "id": "lamp", "center": [0, 300], "direction_deg": 0, "cone_half_angle_deg": 10,
                "rays": 5000, "pattern": "random", "power_w": 50 }"#
             .to_string()],
     );
     let (scene, res) = run(&text);
     let m = flux_map(&scene, &res, 0, 32, 16).unwrap();
+    // Each screen is mapped over its own square: the second is 40 mm.
+    assert_eq!(m.half_mm, 5.0);
+    assert_eq!(flux_map(&scene, &res, 1, 8, 8).unwrap().half_mm, 20.0);
     let pix_m2 = (10.0 / 32.0) * (10.0 / 16.0) * 1e-6;
     let total: f64 = m.w_m2.iter().sum::<f64>() * pix_m2;
     let power: f64 = res.screens[0].weight.iter().sum();
@@ -127,5 +134,10 @@ fn flux_map_holds_all_the_power_on_the_screen() {
     assert!(f.peak_suns.is_none());
     assert!(rel(f.mean_w_m2, power / (std::f64::consts::PI * 25.0 * 1e-6)) < 1e-12);
     assert!(rel(f.intercept.unwrap(), power / 50.0) < 1e-12);
-    assert!(flux_map(&scene, &res, 0, 0, 16).is_none() && flux_map(&scene, &res, 3, 8, 8).is_none());
+    // No map for a missing screen, or a grid side of 0 or too many pixels.
+    let max = catoptric::analysis::MAX_FLUX_GRID;
+    for (screen, nx, ny) in [(3, 8, 8), (0, 0, 16), (0, 16, 0), (0, max + 1, 16), (0, 16, max + 1)] {
+        assert!(flux_map(&scene, &res, screen, nx, ny).is_none(), "screen {screen}, {nx} × {ny}");
+    }
+    assert!(flux_map(&scene, &res, 0, max, 1).is_some());
 }
