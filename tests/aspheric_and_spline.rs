@@ -229,7 +229,9 @@ fn general_solver_finds_the_first_of_several_crossings() {
             (Some(x), Some(y)) => assert!((x.t - y.t).abs() < 1e-9, "o {o:?} d {d:?}: t {} vs {}", x.t, y.t),
             _ => panic!("o {o:?} d {d:?}: closed form {:?} vs general {:?}", hc.map(|h| h.t), hg.map(|h| h.t)),
         }
-        assert_eq!(hc.as_ref().map(|h| h.t), inside.first().map(|&t| t).filter(|_| hc.is_some()));
+        if let Some(h) = &hc {
+            assert_eq!(Some(h.t), inside.first().copied(), "the hit is the first crossing");
+        }
         compared += 1;
         several += (inside.len() >= 2 && hc.is_some()) as usize;
     }
