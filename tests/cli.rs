@@ -14,7 +14,7 @@ fn run(args: &[&str]) -> (i32, String, String) {
 }
 
 fn temp_file(name: &str, text: &str) -> String {
-    let dir = std::env::temp_dir().join(format!("catoptric-cli-{}", std::process::id()));
+    let dir = std::path::Path::new(env!("CARGO_TARGET_TMPDIR")).join("cli");
     std::fs::create_dir_all(&dir).unwrap();
     let p = dir.join(name);
     std::fs::write(&p, text).unwrap();

@@ -47,7 +47,7 @@ fn run(args: &[&str], stdin: Option<Box<dyn FnOnce(std::process::ChildStdin) + S
 }
 
 fn temp(name: &str, bytes: &[u8]) -> PathBuf {
-    let dir = std::env::temp_dir().join(format!("catoptric-input-{}", std::process::id()));
+    let dir = std::path::Path::new(env!("CARGO_TARGET_TMPDIR")).join("input_files");
     std::fs::create_dir_all(&dir).unwrap();
     let p = dir.join(name);
     std::fs::write(&p, bytes).unwrap();

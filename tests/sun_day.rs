@@ -23,7 +23,7 @@ fn json(args: &[&str]) -> Value {
 }
 
 fn temp_file(name: &str, text: &str) -> String {
-    let dir = std::env::temp_dir().join(format!("catoptric-day-{}", std::process::id()));
+    let dir = std::path::Path::new(env!("CARGO_TARGET_TMPDIR")).join("sun_day");
     std::fs::create_dir_all(&dir).unwrap();
     let p = dir.join(name);
     std::fs::write(&p, text).unwrap();

@@ -87,7 +87,7 @@ fn cli(args: &[&str]) -> (i32, String, String) {
 }
 
 fn temp_layout(name: &str, text: &str) -> std::path::PathBuf {
-    let dir = std::env::temp_dir().join(format!("catoptric-budget-{}", std::process::id()));
+    let dir = std::path::Path::new(env!("CARGO_TARGET_TMPDIR")).join("work_budget");
     std::fs::create_dir_all(&dir).unwrap();
     let p = dir.join(name);
     std::fs::write(&p, text).unwrap();
