@@ -12,17 +12,8 @@ fn uniform_disk_encloses_r_squared() {
     // EE50 at a/√2 and EE80 at a√0.8.
     let a = 0.05;
     let pts = disk_points(Pattern::Random, 200_000, 7);
-    let mut h = ScreenHits::default();
-    for (x, y) in pts.x.iter().zip(&pts.y) {
-        h.u.push(1.0 + a * x);
-        h.v.push(-2.0 + a * y);
-        h.du.push(0.0);
-        h.dv.push(0.0);
-        h.dw.push(-1.0);
-        h.opl.push(0.0);
-        h.weight.push(1e-3);
-        h.source.push(0);
-    }
+    let spots: Vec<_> = pts.x.iter().zip(&pts.y).map(|(x, y)| (1.0 + a * x, -2.0 + a * y, 1e-3)).collect();
+    let h = hits_at(&spots);
     let ee = encircled_energy(&h, Some(0)).unwrap();
     assert!(rel(ee.radius_for(0.5).unwrap(), a / 2f64.sqrt()) < 2e-3);
     assert!(rel(ee.radius_for(0.8).unwrap(), a * 0.8f64.sqrt()) < 2e-3);
@@ -41,20 +32,26 @@ fn uniform_disk_encloses_r_squared() {
     }
 }
 
-/// Hits at (±x, 0) about the origin: centroid 0, both radii exactly x.
-fn pair(x: f64) -> ScreenHits {
+/// Hits of source 0 at screen points (u, v) with weights w, all arriving
+/// straight on.
+fn hits_at(spots: &[(f64, f64, f64)]) -> ScreenHits {
     let mut h = ScreenHits::default();
-    for u in [x, -x] {
+    for &(u, v, w) in spots {
         h.u.push(u);
-        h.v.push(0.0);
+        h.v.push(v);
         h.du.push(0.0);
         h.dv.push(0.0);
         h.dw.push(-1.0);
         h.opl.push(0.0);
-        h.weight.push(1.0);
+        h.weight.push(w);
         h.source.push(0);
     }
     h
+}
+
+/// Hits at (±x, 0) about the origin: centroid 0, both radii exactly x.
+fn pair(x: f64) -> ScreenHits {
+    hits_at(&[(x, 0.0, 1.0), (-x, 0.0, 1.0)])
 }
 
 #[test]
@@ -67,17 +64,7 @@ fn encircled_energy_at_tied_radii_follows_the_sorted_hits() {
     // holds 0.6 of the power; halfway to 0.5 the curve is halfway from 0.6
     // to 0.9; at 0.5, everything (definition of encircled energy on the
     // closed disk; common practice).
-    let mut h = ScreenHits::default();
-    for (u, v, w) in [(0.5, 0.0, 3.0), (-0.25, 0.0, 4.0), (0.0, 0.25, 1.0), (0.0, -0.25, 1.0), (-0.5, 0.0, 1.0)] {
-        h.u.push(u);
-        h.v.push(v);
-        h.du.push(0.0);
-        h.dv.push(0.0);
-        h.dw.push(-1.0);
-        h.opl.push(0.0);
-        h.weight.push(w);
-        h.source.push(0);
-    }
+    let h = hits_at(&[(0.5, 0.0, 3.0), (-0.25, 0.0, 4.0), (0.0, 0.25, 1.0), (0.0, -0.25, 1.0), (-0.5, 0.0, 1.0)]);
     let ee = encircled_energy(&h, Some(0)).unwrap();
     let expect = [(0.125, 0.2), (0.25, 0.6), (0.375, 0.75), (0.5, 1.0)];
     for (r, f) in expect {
@@ -100,7 +87,8 @@ fn encircled_energy_at_tied_radii_follows_the_sorted_hits() {
 #[test]
 fn encircled_energy_curve_of_one_point_and_its_last_sample() {
     // The curve starts at (0, 0) and ends with the whole power at the
-    // largest radius (definition of the encircled-energy curve).
+    // largest radius (definition of the encircled-energy curve; common
+    // practice).
     let ee = encircled_energy(&pair(0.3), Some(0)).unwrap();
     // A fraction's radius exists for fractions in (0, 1] only.
     for frac in [0.0, -0.1, 1.0 + 1e-12, 2.0, f64::NAN] {
