@@ -532,12 +532,8 @@ fn shade(
     // Pack the live rays to the front, in order.
     let live = b.alive[..n].iter().map(|&a| a as usize).sum::<usize>();
     tally.absorbed += (n - escaped - live) as u64;
-    if live < n {
-        let mut j = 0;
-        for i in 0..n {
-            b.sel[j] = i as u32;
-            j += b.alive[i] as usize;
-        }
+    if live > 0 && live < n {
+        list_lanes(&b.alive[..n], &mut b.sel[..n]);
         let sel = &b.sel[..live];
         for col in [&mut b.ox, &mut b.oy, &mut b.oz, &mut b.dx, &mut b.dy, &mut b.dz, &mut b.opl, &mut b.w] {
             gather(col, sel);
@@ -565,17 +561,17 @@ fn record(rec: &Rec, k: u32, opaque: bool, kernel: Kernel, b: &mut Batch, n: usi
     cross(kernel, rec, k, opaque, b, n);
     // Lanes that arrived on the face, in order (listed in `sel` unless
     // that is every lane).
-    let arrived = |i: usize| (b.best[i] == k) & (b.t[i] < 0.0);
-    let m = (0..n).map(|i| arrived(i) as usize).sum::<usize>();
+    // (`keep` is free once the round's solves are done.)
+    let arrived = &mut b.keep[..n];
+    for ((a, &best), &t) in arrived.iter_mut().zip(&b.best[..n]).zip(&b.t[..n]) {
+        *a = (best == k) & (t < 0.0);
+    }
+    let m = arrived.iter().map(|&a| a as usize).sum::<usize>();
     if m == 0 {
         return;
     }
     if m < n {
-        let mut j = 0;
-        for i in 0..n {
-            b.sel[j] = i as u32;
-            j += arrived(i) as usize;
-        }
+        list_lanes(arrived, &mut b.sel[..n]);
     } else {
         for (i, s) in b.sel[..n].iter_mut().enumerate() {
             *s = i as u32;
@@ -607,11 +603,24 @@ fn record(rec: &Rec, k: u32, opaque: bool, kernel: Kernel, b: &mut Batch, n: usi
         }
     }
     o.source.extend(std::iter::repeat_n(src, m));
-    r.rays.extend(lanes.iter().map(|&i| b.ray[i as usize]));
-    for &i in lanes {
-        let seen = &mut b.seen[i as usize];
-        o.first.push(!seen.contains(screen));
-        seen.insert(screen);
+    let (ray, seen) = (&b.ray[..n], &mut b.seen[..n]);
+    r.rays.extend(lanes.iter().map(|&i| ray[i as usize]));
+    o.first.extend(lanes.iter().map(|&i| {
+        let s = &mut seen[i as usize];
+        let first = !s.contains(screen);
+        s.insert(screen);
+        first
+    }));
+}
+
+/// Writes the numbers of the lanes where `on` holds, in order, to the
+/// front of `sel` (as long as `on`).
+#[inline]
+fn list_lanes(on: &[bool], sel: &mut [u32]) {
+    let mut j = 0;
+    for (i, &a) in on.iter().enumerate() {
+        sel[j] = i as u32;
+        j += a as usize;
     }
 }
 
