@@ -190,3 +190,72 @@ fn paraboloid_focus_needs_no_shift_and_collimated_light_has_none() {
     let fit = focus_fit(&res.screens[0], Some(0)).unwrap();
     assert!(fit.best_shift().is_none());
 }
+
+/// A tight bundle of steep, nearly parallel rays landing far from the
+/// screen centre: positions 3000 mm and −2000 mm off it, spread ~1e-4 mm;
+/// slopes near (40, −25), spread ~1e-7. Unequal weights.
+fn far_steep_bundle(n: usize) -> ScreenHits {
+    let mut h = ScreenHits::default();
+    let mut seed = 0x2545_f491_4f6c_dd1d_u64;
+    let mut next = || {
+        seed ^= seed << 13;
+        seed ^= seed >> 7;
+        seed ^= seed << 17;
+        (seed >> 11) as f64 / (1u64 << 53) as f64 - 0.5
+    };
+    for _ in 0..n {
+        let (p, q) = (40.0 + 1e-7 * next(), -25.0 + 1e-7 * next());
+        let dw = -1.0 / (1.0 + p * p + q * q).sqrt();
+        h.u.push(3000.0 + 1e-4 * next());
+        h.v.push(-2000.0 + 1e-4 * next());
+        h.du.push(p * dw);
+        h.dv.push(q * dw);
+        h.dw.push(dw);
+        h.opl.push(0.0);
+        h.weight.push(1.0 + next());
+        h.source.push(0);
+        h.first.push(true);
+    }
+    h
+}
+
+#[test]
+fn focus_fit_keeps_its_precision_far_off_centre_with_steep_rays() {
+    // Common practice for sums of squares: accumulate about a shift near
+    // the data (here the first hit), not about zero, or the spread cancels
+    // against the offset (Chan, Golub & LeVeque, "Algorithms for computing
+    // the sample variance", The American Statistician 37(3), 1983).
+    // Expected values by the two-pass (centred) definition of RMS²(s) =
+    // a + 2bs + cs², computed here from the columns.
+    let h = far_steep_bundle(500);
+    let fit = focus_fit(&h, Some(0)).expect("500 hits");
+    let n = h.len();
+    let wt: f64 = h.weight.iter().sum();
+    let mean = |f: &dyn Fn(usize) -> f64| (0..n).map(|i| h.weight[i] * f(i)).sum::<f64>() / wt;
+    let (p, q) = (|i: usize| h.du[i] / h.dw[i], |i: usize| h.dv[i] / h.dw[i]);
+    let (mu, mv, mp, mq) = (mean(&|i| h.u[i]), mean(&|i| h.v[i]), mean(&p), mean(&q));
+    let a = mean(&|i| (h.u[i] - mu).powi(2) + (h.v[i] - mv).powi(2));
+    let b = mean(&|i| (h.u[i] - mu) * (p(i) - mp) + (h.v[i] - mv) * (q(i) - mq));
+    let c = mean(&|i| (p(i) - mp).powi(2) + (q(i) - mq).powi(2));
+    assert!(rel(fit.a, a) < 1e-6, "a {} vs {a}", fit.a);
+    assert!(rel(fit.b, b) < 1e-4 || (fit.b - b).abs() < 1e-6 * (a * c).sqrt(), "b {} vs {b}", fit.b);
+    assert!(rel(fit.c, c) < 1e-6, "c {} vs {c}", fit.c);
+    assert!(rel(fit.mean_slope[0], mp) < 1e-12 && rel(fit.mean_slope[1], mq) < 1e-12);
+    assert!(rel(fit.centroid[0], mu) < 1e-12 && rel(fit.centroid[1], mv) < 1e-12);
+}
+
+#[test]
+fn focus_fit_needs_three_hits() {
+    // Value by definition (common practice): a parabola in s through the
+    // RMS² needs three hits; fewer give no fit.
+    let h = far_steep_bundle(3);
+    assert!(focus_fit(&h, Some(0)).is_some());
+    let mut two = h.clone();
+    for col in [&mut two.u, &mut two.v, &mut two.du, &mut two.dv, &mut two.dw, &mut two.opl, &mut two.weight] {
+        col.truncate(2);
+    }
+    two.source.truncate(2);
+    two.first.truncate(2);
+    assert!(focus_fit(&two, Some(0)).is_none());
+    assert!(focus_fit(&ScreenHits::default(), Some(0)).is_none());
+}
