@@ -73,29 +73,48 @@ pub fn flux_map(scene: &Scene, res: &TraceResult, screen: usize, nx: usize, ny: 
     Some(FluxMap { nx, ny, half_mm: half, w_m2 })
 }
 
-/// Incident irradiance used for `peak_suns`: the largest among the beams.
+/// Most parts the hits are binned in (each its own map, added in order).
+const MAX_FLUX_PARTS: usize = 16;
+
 /// Power per pixel of the hits on a grid of nx × ny pixels over ±`half`.
+/// The hits are split into parts binned on the thread pool, at least
+/// eight hits per pixel each (so a fine grid over few hits is one part),
+/// and the parts' maps added in order: the split depends only on the hit
+/// and pixel counts, so every thread count gives the same bits.
 fn bin_hits(h: &crate::trace::ScreenHits, half: f64, nx: usize, ny: usize) -> Vec<f64> {
-    best_simd!(crate::trace::Kernel::detect(), bin_hits_body(h: &crate::trace::ScreenHits, half: f64, nx: usize, ny: usize) -> Vec<f64>)
+    let (n, cells) = (h.u.len(), nx * ny);
+    let parts = (n / (8 * cells).max(super::CHUNK)).clamp(1, MAX_FLUX_PARTS);
+    let maps = super::over_parts(n, n.div_ceil(parts), |r| {
+        best_simd!(crate::trace::Kernel::detect(), bin_hits_body(h: &crate::trace::ScreenHits, r: std::ops::Range<usize>, half: f64, nx: usize, ny: usize) -> Vec<f64>)
+    });
+    let mut maps = maps.into_iter();
+    let mut total = maps.next().unwrap_or_else(|| vec![0.0; cells]);
+    for m in maps {
+        total.iter_mut().zip(&m).for_each(|(t, x)| *t += x);
+    }
+    total
 }
 
 #[inline(always)]
-fn bin_hits_body(h: &crate::trace::ScreenHits, half: f64, nx: usize, ny: usize) -> Vec<f64> {
+fn bin_hits_body(h: &crate::trace::ScreenHits, r: std::ops::Range<usize>, half: f64, nx: usize, ny: usize) -> Vec<f64> {
     // Four interleaved maps (hit k into map k mod 4), added in order at the
     // end: a focused spot puts every hit in one pixel, and one map would
     // make each addition wait for the last.
     let cells = nx * ny;
     let mut maps = vec![0.0; 4 * cells];
     let (ku, kv) = (nx as f64 / (2.0 * half), ny as f64 / (2.0 * half));
-    for (k, ((&u, &v), &w)) in h.u.iter().zip(&h.v).zip(&h.weight).enumerate() {
-        // Truncation is the floor here (negatives and NaN clamp to 0).
-        let ix = (((u + half) * ku).max(0.0) as usize).min(nx - 1);
-        let iy = (((half - v) * kv).max(0.0) as usize).min(ny - 1);
+    for (k, ((&u, &v), &w)) in h.u[r.clone()].iter().zip(&h.v[r.clone()]).zip(&h.weight[r]).enumerate() {
+        // Truncation is the floor here (negatives and NaN clamp to 0); u32
+        // holds every side up to MAX_FLUX_GRID and converts in one
+        // instruction.
+        let ix = (((u + half) * ku).max(0.0) as u32).min(nx as u32 - 1) as usize;
+        let iy = (((half - v) * kv).max(0.0) as u32).min(ny as u32 - 1) as usize;
         maps[(k & 3) * cells + iy * nx + ix] += w;
     }
     (0..cells).map(|i| ((maps[i] + maps[cells + i]) + maps[2 * cells + i]) + maps[3 * cells + i]).collect()
 }
 
+/// Incident irradiance used for `peak_suns`: the largest among the beams.
 pub fn beam_irradiance(scene: &Scene) -> Option<f64> {
     scene
         .sources

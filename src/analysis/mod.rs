@@ -42,7 +42,14 @@ pub(crate) const CHUNK: usize = 1 << 15;
 /// `f` of each chunk of `0..n`, in chunk order; natively the chunks run on
 /// the thread pool.
 pub(crate) fn over_chunks<T: Send>(n: usize, f: impl Fn(Range<usize>) -> T + Sync + Send) -> Vec<T> {
-    let ranges: Vec<Range<usize>> = (0..n.div_ceil(CHUNK)).map(|c| c * CHUNK..((c + 1) * CHUNK).min(n)).collect();
+    over_parts(n, CHUNK, f)
+}
+
+/// `f` of each part of `0..n` (parts of `size`, the last one shorter), in
+/// order; natively the parts run on the thread pool.
+pub(crate) fn over_parts<T: Send>(n: usize, size: usize, f: impl Fn(Range<usize>) -> T + Sync + Send) -> Vec<T> {
+    let size = size.max(1);
+    let ranges: Vec<Range<usize>> = (0..n.div_ceil(size)).map(|c| c * size..((c + 1) * size).min(n)).collect();
     #[cfg(not(target_arch = "wasm32"))]
     {
         use rayon::prelude::*;
