@@ -346,6 +346,17 @@ mod tests {
             }
         }
         assert!((halton(5, 2) - 0.625).abs() < 1e-15);
+        // Shirley & Chiu, "A low distortion map between disk and square",
+        // Journal of Graphics Tools 2(3), 1997: the square's centre goes to
+        // the disk's, the mid-points of its sides (on the axes of the
+        // centred square) to the circle where it meets the axes, and a
+        // point on a half axis to the same radius along it.
+        assert_eq!(square_to_disk(0.5, 0.5), [0.0, 0.0]);
+        let near = |p: [f64; 2], q: [f64; 2]| (p[0] - q[0]).abs() < 1e-15 && (p[1] - q[1]).abs() < 1e-15;
+        for (u, v, want) in [(1.0, 0.5, [1.0, 0.0]), (0.5, 1.0, [0.0, 1.0]), (0.0, 0.5, [-1.0, 0.0]), (0.5, 0.0, [0.0, -1.0]), (0.75, 0.5, [0.5, 0.0]), (0.5, 0.25, [0.0, -0.5])] {
+            let got = square_to_disk(u, v);
+            assert!(near(got, want), "({u}, {v}) -> {got:?}, want {want:?}");
+        }
         // Bit reversal equals the digit loop.
         for i in [1u64, 2, 3, 12345, 987_654_321, (1 << 52) + 17] {
             assert_eq!(halton2(i), halton_any(i, 2));
