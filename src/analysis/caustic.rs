@@ -80,7 +80,11 @@ fn walk(out: &mut [f32], w: usize, h: usize, p: [f64; 2], d: [f64; 2], k: f64) {
     let (dtx, dty) = (inv(d[0]), inv(d[1]));
     let mut t = t0;
     for _ in 0..(w + h + 2) {
-        let tn = tx.min(ty).min(t1);
+        // (Plain comparisons: nothing here is NaN once the segment is
+        // finite and clipped, and `f64::min`'s NaN handling would sit on
+        // the step's critical path.)
+        let tn = if tx < ty { tx } else { ty };
+        let tn = if tn < t1 { tn } else { t1 };
         if (0..w as i64).contains(&ix) && (0..h as i64).contains(&iy) {
             out[iy as usize * w + ix as usize] += (k * (tn - t).max(0.0)) as f32;
         }
