@@ -336,6 +336,12 @@ mod tests {
             }
         }
         assert_eq!(disk_points(Pattern::Random, 50, 9), disk_points(Pattern::Random, 50, 9));
+        // Each seed its own sequence (two sources never share rays), even
+        // with one set of each kept in the cache; lattices ignore the seed.
+        let (a, b) = (disk_points(Pattern::Random, 50, 9), disk_points(Pattern::Random, 50, 10));
+        assert_ne!(a, b);
+        assert_eq!(disk_points(Pattern::Hex, 50, 9), disk_points(Pattern::Hex, 50, 10));
+        assert!(!a.is_empty() && DiskPoints::default().is_empty());
         // Row spans settle on exactly the points the full scan keeps.
         for hex in [true, false] {
             for s in [0.3, 0.1, 0.0371, 0.01, 1.0 / 7.0, 0.5, 2.0] {
