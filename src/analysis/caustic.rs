@@ -86,7 +86,8 @@ fn walk(out: &mut [f32], w: usize, h: usize, p: [f64; 2], d: [f64; 2], k: f64) {
         let tn = if tx < ty { tx } else { ty };
         let tn = if tn < t1 { tn } else { t1 };
         if (0..w as i64).contains(&ix) && (0..h as i64).contains(&iy) {
-            out[iy as usize * w + ix as usize] += (k * (tn - t).max(0.0)) as f32;
+            let dt = if tn > t { tn - t } else { 0.0 };
+            out[iy as usize * w + ix as usize] += (k * dt) as f32;
         }
         if tn >= t1 {
             break;
