@@ -352,6 +352,15 @@ mod tests {
             }
         }
         assert!((halton(5, 2) - 0.625).abs() < 1e-15);
+        // A closed disk: lattice points on the rim count, also where
+        // rounding puts them a hair outside ((5/13)² + (12/13)² rounds
+        // above 1).
+        // The square grid of pitch 1/2 keeps the 13 points with
+        // i² + j² ≤ 4 (Gauss's circle problem, N(2) = 13).
+        let (a, b) = (5.0 / 13.0, 12.0 / 13.0);
+        assert!(a * a + b * b > 1.0);
+        assert!(inside(1.0, 0.0) && inside(a, b) && !inside(a, b + 1e-6));
+        assert_eq!(lattice_count(false, 0.5), 13);
         // Shirley & Chiu, "A low distortion map between disk and square",
         // Journal of Graphics Tools 2(3), 1997: the square's centre goes to
         // the disk's, the mid-points of its sides (on the axes of the
