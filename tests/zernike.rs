@@ -3,7 +3,7 @@
 
 mod analysis_support;
 use analysis_support::*;
-use catoptric::analysis::zernike::{fit, index, name, nm, zernike, TERMS};
+use catoptric::analysis::zernike::{fit, index, name, nm, radial, zernike, TERMS};
 
 /// Terms written out as printed in ANSI Z80.28-2004, Annex B (the
 /// RMS-normalised polynomials of Thibos, Applegate, Schwiegerling & Webb,
@@ -128,4 +128,40 @@ fn a_synthetic_wavefront_of_known_terms_is_recovered_exactly() {
 fn too_few_samples_do_not_fit() {
     let v = vec![0.0; 10];
     assert!(fit(&v, &v, &v, &v).is_none());
+    // Common practice for least squares: as many samples as unknowns at
+    // points in general position determine the fit (the known
+    // coefficients come back); one fewer does not.
+    let pts: Vec<(f64, f64)> = (0..TERMS).map(|i| {
+        let (r, a) = ((0.1 + 0.85 * ((i * 7 % TERMS) as f64 + 0.5) / TERMS as f64).sqrt(), 2.399_963 * i as f64);
+        (r * a.cos(), r * a.sin())
+    }).collect();
+    let (x, y): (Vec<f64>, Vec<f64>) = pts.iter().copied().unzip();
+    let values: Vec<f64> = pts.iter().map(|&(x, y)| 0.3 * zernike(4, x, y) - 0.1 * zernike(7, x, y)).collect();
+    let w = vec![1.0; TERMS];
+    let c = fit(&x, &y, &w, &values).expect("a square system in general position");
+    assert!((c[4] - 0.3).abs() < 1e-6 && (c[7] + 0.1).abs() < 1e-6, "{} {}", c[4], c[7]);
+    let m = TERMS - 1;
+    assert!(fit(&x[..m], &y[..m], &w[..m], &values[..m]).is_none());
+}
+
+#[test]
+fn radial_polynomials_vanish_off_their_index_set_and_reach_one_at_the_rim() {
+    // Definition and normalisation of the radial polynomials (Born & Wolf,
+    // Principles of Optics, 7th ed., Appendix VII; Noll, "Zernike
+    // polynomials and atmospheric turbulence", JOSA 66(3), 1976): R_n^m(ρ)
+    // exists only for m ≤ n with n − m even, is zero otherwise, and
+    // R_n^m(1) = 1.
+    // (Every m ≤ n first: a wrong parity test fails fast there.)
+    let pairs = (0..=8u32).flat_map(|n| (0..=n).map(move |k| (n, k)));
+    let beyond = (0..=8u32).flat_map(|n| (n + 1..=10).map(move |k| (n, k)));
+    for (n, k) in pairs.chain(beyond) {
+        for rho in [0.0, 0.3, 0.77, 1.0] {
+            let r = radial(n, k, rho);
+            if k > n || (n - k) % 2 == 1 {
+                assert_eq!(r, 0.0, "R_{n}^{k}({rho})");
+            } else if rho == 1.0 {
+                assert!((r - 1.0).abs() < 1e-12, "R_{n}^{k}(1) = {r}");
+            }
+        }
+    }
 }
