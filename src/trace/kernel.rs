@@ -22,13 +22,16 @@
 use super::compiled::{Compiled, ConicRec, Kind, Rec};
 use super::slope::SlopeError;
 use super::source::Emitter;
-use super::tracer::{ScreenHits, ScreenSet};
+use super::tracer::ScreenHits;
 use crate::geometry::Vec3;
 use crate::scene::{Part, Scene};
 
 /// Rays per batch.
 pub const LANES: usize = 512;
 const NONE: u32 = u32::MAX;
+/// A ray free to meet any element (as wide as the float columns, so that
+/// masks mixing the two need no repacking).
+const NO_SKIP: u64 = u64::MAX;
 /// A reflected ray's second root on its own conic is trusted to rule a
 /// return out only when it lies more than this many self-hit distances
 /// (`Scene::t_eps`) from the hit: closer, the two roots are nearly equal
@@ -71,24 +74,48 @@ pub(crate) struct Batch {
     ray: Vec<u32>,
     bounces: Vec<u32>,
     /// Element the ray cannot meet on this leg, or NONE.
-    skip: Vec<u32>,
-    /// Screens the ray has been recorded on.
-    seen: Vec<ScreenSet>,
+    skip: Vec<u64>,
     // Nearest hit so far this round.
     t: Vec<f64>,
     best: Vec<u32>,
     hx: Vec<f64>,
     hy: Vec<f64>,
     hz: Vec<f64>,
+    /// Second copies of the nearest-hit columns: a kernel reads one copy
+    /// and writes the other whole, then they swap.
+    alt_t: Vec<f64>,
+    alt_best: Vec<u32>,
+    alt_hx: Vec<f64>,
+    alt_hy: Vec<f64>,
+    alt_hz: Vec<f64>,
+    alt_ox: Vec<f64>,
+    alt_oy: Vec<f64>,
+    alt_oz: Vec<f64>,
+    alt_dx: Vec<f64>,
+    alt_dy: Vec<f64>,
+    alt_dz: Vec<f64>,
+    alt_opl: Vec<f64>,
+    alt_w: Vec<f64>,
+    alt_t0: Vec<f64>,
+    alt_bounces: Vec<u32>,
+    alt_skip: Vec<u64>,
+    alt_alive: Vec<bool>,
     /// Cull pass: does the ray reach the element's bounding sphere, and
     /// where it enters it.
-    keep: Vec<bool>,
+    keep: Vec<u64>,
     t0: Vec<f64>,
     /// After shading: does the ray go on?
     alive: Vec<bool>,
+    /// Recording: did the ray arrive on the screen's sensitive face?
+    arrived: Vec<bool>,
     /// Scratch: 1.0 where a reflected ray cannot meet its mirror again on
     /// the next leg.
     aux: Vec<f64>,
+    /// Scratch between the stages of one kernel (split so that shorter
+    /// chains of dependent divisions and roots overlap better).
+    s1: Vec<f64>,
+    s2: Vec<f64>,
+    s3: Vec<f64>,
     /// Per element this round: did any ray take it as its nearest hit so
     /// far (a later element may have taken the ray since)?
     touched: Vec<bool>,
@@ -118,17 +145,37 @@ impl Batch {
             w: col(),
             ray: vec![0; LANES],
             bounces: vec![0; LANES],
-            skip: vec![NONE; LANES],
-            seen: vec![ScreenSet::default(); LANES],
+            skip: vec![NO_SKIP; LANES],
             t: col(),
             best: vec![NONE; LANES],
             hx: col(),
             hy: col(),
             hz: col(),
-            keep: vec![false; LANES],
+            alt_t: col(),
+            alt_best: vec![NONE; LANES],
+            alt_hx: col(),
+            alt_hy: col(),
+            alt_hz: col(),
+            alt_ox: col(),
+            alt_oy: col(),
+            alt_oz: col(),
+            alt_dx: col(),
+            alt_dy: col(),
+            alt_dz: col(),
+            alt_opl: col(),
+            alt_w: col(),
+            alt_t0: col(),
+            alt_bounces: vec![0; LANES],
+            alt_skip: vec![NO_SKIP; LANES],
+            alt_alive: vec![false; LANES],
+            keep: vec![0; LANES],
             t0: col(),
             alive: vec![false; LANES],
+            arrived: vec![false; LANES],
             aux: col(),
+            s1: col(),
+            s2: col(),
+            s3: col(),
             touched: Vec::new(),
             sel: vec![0; LANES],
             recorded: Vec::new(),
@@ -137,6 +184,19 @@ impl Batch {
             base: 0,
             round: 0,
         }
+    }
+}
+
+/// Makes the second copies of the named columns of a batch current.
+macro_rules! swap_cols {
+    ($b:expr; $($col:ident / $alt:ident),*) => { $( std::mem::swap(&mut $b.$col, &mut $b.$alt); )* };
+}
+
+impl Batch {
+    /// Makes the second copies of the nearest-hit columns current.
+    #[inline(always)]
+    fn swap_nearest(&mut self) {
+        swap_cols!(self; t/alt_t, best/alt_best, hx/alt_hx, hy/alt_hy, hz/alt_hz);
     }
 }
 
@@ -244,8 +304,7 @@ pub(crate) fn trace_range(
             *r = k as u32;
         }
         batch.bounces[..n].fill(0);
-        batch.skip[..n].fill(NONE);
-        batch.seen[..n].fill(ScreenSet::default());
+        batch.skip[..n].fill(NO_SKIP);
         batch.base = start as u64;
         for (r, o) in batch.recorded.iter_mut().zip(out.iter()) {
             r.start = o.len();
@@ -332,7 +391,7 @@ fn run_batch(
                 b.touched[k] = general(scene, rec, k, eps, b, n) > 0;
                 continue;
             }
-            if b.skip[..n].iter().all(|&s| s == k as u32) {
+            if b.skip[..n].iter().filter(|&&s| s != k as u64).count() == 0 {
                 continue; // no ray of the batch can meet it on this leg
             }
             let kept = cull_pass(kernel, rec, k as u32, eps, b, n);
@@ -380,8 +439,8 @@ fn cull_body(r: &Rec, k: u32, eps: f64, b: &mut Batch, n: usize) -> usize {
     let mut kept = 0;
     for i in 0..n {
         let (kp, t) = cull(r, eps, ox[i], oy[i], oz[i], dx[i], dy[i], dz[i], tb[i]);
-        let kp = kp & (skip[i] != k);
-        keep[i] = kp;
+        let kp = kp & (skip[i] != k as u64);
+        keep[i] = kp as u64;
         t0[i] = t;
         kept += kp as usize;
     }
@@ -397,12 +456,14 @@ fn conic_body(r: &Rec, cr: &ConicRec, k: u32, eps: f64, b: &mut Batch, n: usize)
     let (ox, oy, oz) = (&b.ox[..n], &b.oy[..n], &b.oz[..n]);
     let (dx, dy, dz) = (&b.dx[..n], &b.dy[..n], &b.dz[..n]);
     let (keep, t0s) = (&b.keep[..n], &b.t0[..n]);
-    let (tb, best) = (&mut b.t[..n], &mut b.best[..n]);
-    let (hx, hy, hz) = (&mut b.hx[..n], &mut b.hy[..n], &mut b.hz[..n]);
-    let mut hits = 0;
+    let (tb, best) = (&b.t[..n], &b.best[..n]);
+    let (hx, hy, hz) = (&b.hx[..n], &b.hy[..n], &b.hz[..n]);
+    let (ntb, nbest) = (&mut b.alt_t[..n], &mut b.alt_best[..n]);
+    let (nhx, nhy, nhz) = (&mut b.alt_hx[..n], &mut b.alt_hy[..n], &mut b.alt_hz[..n]);
+    let (root1, root2) = (&mut b.s1[..n], &mut b.s2[..n]);
+    // The roots first…
     for i in 0..n {
-        let t0 = t0s[i];
-        let ((lx, ly, lz), (ldx, ldy, ldz)) = f.ray_to_local((ox[i], oy[i], oz[i]), (dx[i], dy[i], dz[i]), t0);
+        let ((lx, ly, lz), (ldx, ldy, ldz)) = f.ray_to_local((ox[i], oy[i], oz[i]), (dx[i], dy[i], dz[i]), t0s[i]);
         // c(x² + y²) − 2z + (1+K)c z² = 0 along the ray (x dropped for a trough).
         let (qx, qdx) = (lx * xs, ldx * xs);
         let qa = c * (qdx * qdx + ldy * ldy) + kap * ldz * ldz;
@@ -410,9 +471,20 @@ fn conic_body(r: &Rec, cr: &ConicRec, k: u32, eps: f64, b: &mut Batch, n: usize)
         let qc = c * (qx * qx + ly * ly) - 2.0 * lz + kap * lz * lz;
         let disc = qb * qb - qa * qc;
         let q = -(qb + disc.sqrt().copysign(qb));
-        let (r1, r2) = (q / qa, qc / q);
+        // No real root: both NaN, so neither passes the tests below.
+        let real = (0.0..f64::INFINITY).contains(&disc);
+        root1[i] = pick(real, q / qa, f64::NAN);
+        root2[i] = pick(real, qc / q, f64::NAN);
+    }
+    // …then the nearest that lies on the mirror.
+    let (root1, root2) = (&b.s1[..n], &b.s2[..n]);
+    let mut hits = 0;
+    for i in 0..n {
+        let t0 = t0s[i];
+        let ((lx, ly, lz), (ldx, ldy, ldz)) = f.ray_to_local((ox[i], oy[i], oz[i]), (dx[i], dy[i], dz[i]), t0);
+        let (r1, r2) = (root1[i], root2[i]);
         let (t_min, t_max) = (eps - t0, tb[i] - t0);
-        let ok = keep[i] & (0.0..f64::INFINITY).contains(&disc);
+        let ok = keep[i] != 0;
         // The sag branch through the vertex has (1+K)c·z < 1.
         let v1 = ok & (r1 > t_min) & (r1 < t_max) & (kap * (lz + r1 * ldz) < 1.0) & cr.clear.contains(lx + r1 * ldx, ly + r1 * ldy);
         let v2 = ok & (r2 > t_min) & (r2 < t_max) & (kap * (lz + r2 * ldz) < 1.0) & cr.clear.contains(lx + r2 * ldx, ly + r2 * ldy);
@@ -421,12 +493,13 @@ fn conic_body(r: &Rec, cr: &ConicRec, k: u32, eps: f64, b: &mut Batch, n: usize)
         let t = if a2 < a1 { a2 } else { a1 };
         let hit = v1 | v2;
         hits += hit as usize;
-        tb[i] = if hit { t0 + t } else { tb[i] };
-        best[i] = if hit { k } else { best[i] };
-        hx[i] = if hit { lx + ldx * t } else { hx[i] };
-        hy[i] = if hit { ly + ldy * t } else { hy[i] };
-        hz[i] = if hit { lz + ldz * t } else { hz[i] };
+        ntb[i] = pick(hit, t0 + t, tb[i]);
+        nbest[i] = pick_u32(hit, k, best[i]);
+        nhx[i] = pick(hit, lx + ldx * t, hx[i]);
+        nhy[i] = pick(hit, ly + ldy * t, hy[i]);
+        nhz[i] = pick(hit, lz + ldz * t, hz[i]);
     }
+    b.swap_nearest();
     hits
 }
 
@@ -436,8 +509,10 @@ fn screen_body(r: &Rec, half: f64, circle: bool, k: u32, eps: f64, b: &mut Batch
     let (ox, oy, oz) = (&b.ox[..n], &b.oy[..n], &b.oz[..n]);
     let (dx, dy, dz) = (&b.dx[..n], &b.dy[..n], &b.dz[..n]);
     let (keep, t0s) = (&b.keep[..n], &b.t0[..n]);
-    let (tb, best) = (&mut b.t[..n], &mut b.best[..n]);
-    let (hx, hy, hz) = (&mut b.hx[..n], &mut b.hy[..n], &mut b.hz[..n]);
+    let (tb, best) = (&b.t[..n], &b.best[..n]);
+    let (hx, hy, hz) = (&b.hx[..n], &b.hy[..n], &b.hz[..n]);
+    let (ntb, nbest) = (&mut b.alt_t[..n], &mut b.alt_best[..n]);
+    let (nhx, nhy, nhz) = (&mut b.alt_hx[..n], &mut b.alt_hy[..n], &mut b.alt_hz[..n]);
     let mut hits = 0;
     for i in 0..n {
         let t0 = t0s[i];
@@ -447,14 +522,15 @@ fn screen_body(r: &Rec, half: f64, circle: bool, k: u32, eps: f64, b: &mut Batch
         let (px, py) = (lx + ldx * tl, ly + ldy * tl);
         let inside =
             if circle { px * px + py * py <= half * half } else { (px.abs() <= half) & (py.abs() <= half) };
-        let hit = keep[i] & (ldz != 0.0) & (t > eps) & (t < tb[i]) & inside;
+        let hit = (keep[i] != 0) & (ldz != 0.0) & (t > eps) & (t < tb[i]) & inside;
         hits += hit as usize;
-        tb[i] = if hit { t } else { tb[i] };
-        best[i] = if hit { k } else { best[i] };
-        hx[i] = if hit { px } else { hx[i] };
-        hy[i] = if hit { py } else { hy[i] };
-        hz[i] = if hit { lz + ldz * tl } else { hz[i] };
+        ntb[i] = pick(hit, t, tb[i]);
+        nbest[i] = pick_u32(hit, k, best[i]);
+        nhx[i] = pick(hit, px, hx[i]);
+        nhy[i] = pick(hit, py, hy[i]);
+        nhz[i] = pick(hit, lz + ldz * tl, hz[i]);
     }
+    b.swap_nearest();
     hits
 }
 
@@ -467,7 +543,7 @@ fn general(scene: &Scene, r: &Rec, k: usize, eps: f64, b: &mut Batch, n: usize) 
     let mut hits = 0;
     let r2 = r.br * r.br;
     for i in 0..n {
-        if b.skip[i] == k as u32 {
+        if b.skip[i] == k as u64 {
             continue;
         }
         let o = Vec3::new(b.ox[i], b.oy[i], b.oz[i]);
@@ -538,10 +614,10 @@ fn shade(
         for col in [&mut b.ox, &mut b.oy, &mut b.oz, &mut b.dx, &mut b.dy, &mut b.dz, &mut b.opl, &mut b.w] {
             gather(col, sel);
         }
-        for col in [&mut b.ray, &mut b.bounces, &mut b.skip] {
+        for col in [&mut b.ray, &mut b.bounces] {
             gather(col, sel);
         }
-        gather(&mut b.seen, sel);
+        gather(&mut b.skip, sel);
     }
     live
 }
@@ -561,8 +637,7 @@ fn record(rec: &Rec, k: u32, opaque: bool, kernel: Kernel, b: &mut Batch, n: usi
     cross(kernel, rec, k, opaque, b, n);
     // Lanes that arrived on the face, in order (listed in `sel` unless
     // that is every lane).
-    // (`keep` is free once the round's solves are done.)
-    let arrived = &mut b.keep[..n];
+    let arrived = &mut b.arrived[..n];
     for ((a, &best), &t) in arrived.iter_mut().zip(&b.best[..n]).zip(&b.t[..n]) {
         *a = (best == k) & (t < 0.0);
     }
@@ -579,6 +654,7 @@ fn record(rec: &Rec, k: u32, opaque: bool, kernel: Kernel, b: &mut Batch, n: usi
     }
     let lanes = &b.sel[..m];
     let r = &mut b.recorded[screen];
+    let before = r.rays.len();
     if r.rays.last().is_some_and(|&last| last > b.ray[lanes[0] as usize]) {
         r.sorted = false;
     }
@@ -603,14 +679,19 @@ fn record(rec: &Rec, k: u32, opaque: bool, kernel: Kernel, b: &mut Batch, n: usi
         }
     }
     o.source.extend(std::iter::repeat_n(src, m));
-    let (ray, seen) = (&b.ray[..n], &mut b.seen[..n]);
+    let ray = &b.ray[..n];
     r.rays.extend(lanes.iter().map(|&i| ray[i as usize]));
-    o.first.extend(lanes.iter().map(|&i| {
-        let s = &mut seen[i as usize];
-        let first = !s.contains(screen);
-        s.insert(screen);
-        first
-    }));
+    // A hit is the ray's first on this screen unless the batch recorded
+    // the ray here in an earlier round.
+    if before == 0 {
+        o.first.extend(std::iter::repeat_n(true, m));
+    } else {
+        let mut met = [0u64; LANES / 64];
+        for &q in &r.rays[..before] {
+            met[q as usize / 64] |= 1 << (q % 64);
+        }
+        o.first.extend(r.rays[before..].iter().map(|&q| met[q as usize / 64] >> (q % 64) & 1 == 0));
+    }
 }
 
 /// Writes the numbers of the lanes where `on` holds, in order, to the
@@ -632,29 +713,33 @@ fn list_lanes(on: &[bool], sel: &mut [u32]) {
 fn cross_body(rec: &Rec, k: u32, opaque: bool, b: &mut Batch, n: usize) {
     let f = rec.frame;
     let best = &b.best[..n];
-    let (hx, hy, hz) = (&b.hx[..n], &b.hy[..n], &mut b.hz[..n]);
-    let (ox, oy, oz) = (&mut b.ox[..n], &mut b.oy[..n], &mut b.oz[..n]);
+    let (hx, hy) = (&b.hx[..n], &b.hy[..n]);
     let (dx, dy, dz) = (&b.dx[..n], &b.dy[..n], &b.dz[..n]);
-    let (t, t0, opl) = (&mut b.t[..n], &mut b.t0[..n], &mut b.opl[..n]);
+    let (ox, oy, oz, opl) = (&b.ox[..n], &b.oy[..n], &b.oz[..n], &b.opl[..n]);
+    let (hz, t0, t) = (&b.hz[..n], &b.t0[..n], &b.t[..n]);
+    let (nox, noy, noz, nopl) = (&mut b.alt_ox[..n], &mut b.alt_oy[..n], &mut b.alt_oz[..n], &mut b.alt_opl[..n]);
+    let (nhz, nt0, nt) = (&mut b.alt_hz[..n], &mut b.alt_t0[..n], &mut b.alt_t[..n]);
     for i in 0..n {
         let m = best[i] == k;
         let (wx, wy, wz) = f.point_to_world(hx[i], hy[i], hz[i]);
         let (ldx, ldy, ldz) = f.dir_to_local(dx[i], dy[i], dz[i]);
-        opl[i] = if m { opl[i] + t[i] } else { opl[i] };
-        ox[i] = if m { wx } else { ox[i] };
-        oy[i] = if m { wy } else { oy[i] };
-        oz[i] = if m { wz } else { oz[i] };
-        hz[i] = if m { ldx } else { hz[i] };
-        t0[i] = if m { ldy } else { t0[i] };
-        t[i] = if m { ldz } else { t[i] };
+        nopl[i] = pick(m, opl[i] + t[i], opl[i]);
+        nox[i] = pick(m, wx, ox[i]);
+        noy[i] = pick(m, wy, oy[i]);
+        noz[i] = pick(m, wz, oz[i]);
+        nhz[i] = pick(m, ldx, hz[i]);
+        nt0[i] = pick(m, ldy, t0[i]);
+        nt[i] = pick(m, ldz, t[i]);
     }
     // The ray's state in a loop of its own (one type per loop vectorises).
-    let (skip, alive) = (&mut b.skip[..n], &mut b.alive[..n]);
+    let (skip, alive) = (&b.skip[..n], &b.alive[..n]);
+    let (nskip, nalive) = (&mut b.alt_skip[..n], &mut b.alt_alive[..n]);
     for i in 0..n {
         let m = best[i] == k;
-        skip[i] = if m { k } else { skip[i] };
-        alive[i] = if m { !opaque } else { alive[i] };
+        nskip[i] = pick_u64(m, k as u64, skip[i]);
+        nalive[i] = (m & !opaque) | (!m & alive[i]);
     }
+    swap_cols!(b; ox/alt_ox, oy/alt_oy, oz/alt_oz, opl/alt_opl, hz/alt_hz, t0/alt_t0, t/alt_t, skip/alt_skip, alive/alt_alive);
 }
 
 #[inline(always)]
@@ -666,11 +751,26 @@ fn reflect_conic_body(rec: &Rec, cr: &ConicRec, k: u32, max_bounces: u32, eps: f
     let best = &b.best[..n];
     let t = &b.t[..n];
     let (hx, hy, hz) = (&b.hx[..n], &b.hy[..n], &b.hz[..n]);
-    let (ox, oy, oz) = (&mut b.ox[..n], &mut b.oy[..n], &mut b.oz[..n]);
-    let (dx, dy, dz) = (&mut b.dx[..n], &mut b.dy[..n], &mut b.dz[..n]);
-    let (opl, w, dn_col, gone_col) = (&mut b.opl[..n], &mut b.w[..n], &mut b.t0[..n], &mut b.aux[..n]);
+    let (ox, oy, oz) = (&b.ox[..n], &b.oy[..n], &b.oz[..n]);
+    let (dx, dy, dz) = (&b.dx[..n], &b.dy[..n], &b.dz[..n]);
+    let (opl, w) = (&b.opl[..n], &b.w[..n]);
+    let (nox, noy, noz) = (&mut b.alt_ox[..n], &mut b.alt_oy[..n], &mut b.alt_oz[..n]);
+    let (ndx, ndy, ndz) = (&mut b.alt_dx[..n], &mut b.alt_dy[..n], &mut b.alt_dz[..n]);
+    let (nopl, nw, dn_col, gone_col) = (&mut b.alt_opl[..n], &mut b.alt_w[..n], &mut b.t0[..n], &mut b.aux[..n]);
     let near = SECOND_ROOT_NEAR * eps;
-    // Floating-point columns first (one loop of one type vectorises)…
+    // Floating-point columns first (one loop of one type, and few columns
+    // per loop, vectorises): the new origin, path and weight…
+    for i in 0..n {
+        let m = best[i] == k;
+        let (wx, wy, wz) = f.point_to_world(hx[i], hy[i], hz[i]);
+        nox[i] = pick(m, wx, ox[i]);
+        noy[i] = pick(m, wy, oy[i]);
+        noz[i] = pick(m, wz, oz[i]);
+        nopl[i] = pick(m, opl[i] + t[i], opl[i]);
+        nw[i] = pick(m, w[i] * rec.reflectivity, w[i]);
+    }
+    // …the new direction…
+    let (lrx, lry, lrz) = (&mut b.s1[..n], &mut b.s2[..n], &mut b.s3[..n]);
     for i in 0..n {
         let m = best[i] == k;
         let (px, py, pz) = (hx[i], hy[i], hz[i]);
@@ -680,7 +780,16 @@ fn reflect_conic_body(rec: &Rec, cr: &ConicRec, k: u32, max_bounces: u32, eps: f
         let s = 2.0 * dn;
         let (rx, ry, rz) = (ldx - nx * s, ldy - ny * s, ldz - nz * s);
         let (gx, gy, gz) = f.dir_to_world(rx, ry, rz);
-        let (wx, wy, wz) = f.point_to_world(px, py, pz);
+        ndx[i] = pick(m, gx, dx[i]);
+        ndy[i] = pick(m, gy, dy[i]);
+        ndz[i] = pick(m, gz, dz[i]);
+        dn_col[i] = dn;
+        (lrx[i], lry[i], lrz[i]) = (rx, ry, rz);
+    }
+    // …and whether it can come back.
+    for i in 0..n {
+        let (px, py, pz) = (hx[i], hy[i], hz[i]);
+        let (rx, ry, rz) = (lrx[i], lry[i], lrz[i]);
         // The reflected line meets the conic at P (t = 0) and at
         // t₂ = −2·q_b/q_a: the ray can meet this mirror again on its next
         // leg only there. Rule it out only when t₂ is clearly behind, or
@@ -694,30 +803,24 @@ fn reflect_conic_body(rec: &Rec, cr: &ConicRec, k: u32, max_bounces: u32, eps: f
         let margin = near + SECOND_ROOT_REL * t2.abs();
         let off = cr.clear.clearly_outside(qx, qy, margin) | (kap * qz > 1.0 + SECOND_ROOT_REL);
         let gone = (t2 < -near) | (t2.abs() == f64::INFINITY) | ((t2 > near) & off);
-        ox[i] = if m { wx } else { ox[i] };
-        oy[i] = if m { wy } else { oy[i] };
-        oz[i] = if m { wz } else { oz[i] };
-        dx[i] = if m { gx } else { dx[i] };
-        dy[i] = if m { gy } else { dy[i] };
-        dz[i] = if m { gz } else { dz[i] };
-        opl[i] = if m { opl[i] + t[i] } else { opl[i] };
-        w[i] = if m { w[i] * rec.reflectivity } else { w[i] };
-        dn_col[i] = dn;
         gone_col[i] = if gone { 1.0 } else { 0.0 };
     }
     // …then the ray's state: the back face absorbs, so does the bounce
     // limit or a ray with no power left.
-    let (bounces, skip, alive) = (&mut b.bounces[..n], &mut b.skip[..n], &mut b.alive[..n]);
+    swap_cols!(b; ox/alt_ox, oy/alt_oy, oz/alt_oz, dx/alt_dx, dy/alt_dy, dz/alt_dz, opl/alt_opl, w/alt_w);
+    let (bounces, skip, alive) = (&b.bounces[..n], &b.skip[..n], &b.alive[..n]);
+    let (nbounces, nskip, nalive) = (&mut b.alt_bounces[..n], &mut b.alt_skip[..n], &mut b.alt_alive[..n]);
     let (dn, w, gone) = (&b.t0[..n], &b.w[..n], &b.aux[..n]);
     for i in 0..n {
         let m = best[i] == k;
         let nb = bounces[i] + 1;
         let lives = !(dn[i] >= 0.0) & (nb <= max_bounces) & !(w[i] <= 0.0);
         let not_again = rec.no_return | (predict & (gone[i] != 0.0));
-        bounces[i] = if m { nb } else { bounces[i] };
-        skip[i] = if m { if not_again { k } else { NONE } } else { skip[i] };
-        alive[i] = if m { lives } else { alive[i] };
+        nbounces[i] = pick_u32(m, nb, bounces[i]);
+        nskip[i] = pick_u64(m, if not_again { k as u64 } else { NO_SKIP }, skip[i]);
+        nalive[i] = (m & lives) | (!m & alive[i]);
     }
+    swap_cols!(b; bounces/alt_bounces, skip/alt_skip, alive/alt_alive);
 }
 
 /// Aspheric and spline mirrors: the same reflection with the exact normal.
@@ -739,7 +842,7 @@ fn reflect_general(scene: &Scene, rec: &Rec, k: usize, b: &mut Batch, n: usize) 
         b.opl[i] += b.t[i];
         b.bounces[i] += 1;
         b.w[i] *= rec.reflectivity;
-        b.skip[i] = if rec.no_return { k as u32 } else { NONE };
+        b.skip[i] = if rec.no_return { k as u64 } else { NO_SKIP };
         b.alive[i] = !(dn >= 0.0) && b.bounces[i] <= scene.max_bounces && !(b.w[i] <= 0.0);
     }
 }
@@ -760,6 +863,28 @@ fn slope_pass(scene: &Scene, s: &SlopeError, k: usize, b: &mut Batch, n: usize, 
         let d = s.perturb(&e.frame, &normal, &out, src, b.base + b.ray[i] as u64, b.round);
         (b.dx[i], b.dy[i], b.dz[i]) = (d.x, d.y, d.z);
     }
+}
+
+/// `if m { a } else { b }` with both sides evaluated, as bit operations:
+/// the compiler keeps it a blend instead of a branch or a masked store.
+#[inline(always)]
+fn pick(m: bool, a: f64, b: f64) -> f64 {
+    let mask = (m as u64).wrapping_neg();
+    f64::from_bits((a.to_bits() & mask) | (b.to_bits() & !mask))
+}
+
+/// `pick` for 64-bit whole numbers.
+#[inline(always)]
+fn pick_u64(m: bool, a: u64, b: u64) -> u64 {
+    let mask = (m as u64).wrapping_neg();
+    (a & mask) | (b & !mask)
+}
+
+/// `pick` for whole numbers.
+#[inline(always)]
+fn pick_u32(m: bool, a: u32, b: u32) -> u32 {
+    let mask = (m as u32).wrapping_neg();
+    (a & mask) | (b & !mask)
 }
 
 /// (x, y, z) scaled to unit length, as `geometry::unit` rounds it.
