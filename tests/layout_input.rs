@@ -230,11 +230,10 @@ fn no_input_panics() {
         // Keep mutated ray counts small so the test stays quick.
         if let Some(srcs) = v.get_mut("sources").and_then(|s| s.as_array_mut()) {
             for s in srcs {
-                if let Some(r) = s.get_mut("rays") {
-                    if r.as_u64().is_some_and(|n| n > 64) {
+                if let Some(r) = s.get_mut("rays")
+                    && r.as_u64().is_some_and(|n| n > 64) {
                         *r = json!(64);
                     }
-                }
             }
         }
         let text = v.to_string();

@@ -87,7 +87,7 @@ fn factorial(n: u32) -> f64 {
 
 /// Radial polynomial R_n^k(ρ), k = |m| ≤ n, n − k even.
 pub fn radial(n: u32, k: u32, rho: f64) -> f64 {
-    if k > n || (n - k) % 2 != 0 {
+    if k > n || !(n - k).is_multiple_of(2) {
         return 0.0;
     }
     let mut sum = 0.0;

@@ -107,11 +107,10 @@ pub fn parse_departure_csv(text: &str) -> Result<Vec<[f64; 2]>, InputError> {
         if !v.is_finite() || v.abs() > MAX_LENGTH_MM {
             return Err(bad(&field("departure"), format!("must be a finite number (got {b})")));
         }
-        if let Some(last) = rows.last() {
-            if r <= last[0] {
+        if let Some(last) = rows.last()
+            && r <= last[0] {
                 return Err(bad(&field("radius"), format!("must be greater than the previous radius {} mm", last[0])));
             }
-        }
         if rows.len() == MAX_ROWS {
             return Err(bad(&format!("csv line {line_no}"), format!("at most {MAX_ROWS} rows")));
         }

@@ -132,12 +132,11 @@ pub fn figures(layout: &Layout, scene: &Scene, res: &TraceResult, t: &Target) ->
         n += st.hits;
         ms += st.hits as f64 * st.rms_radius * st.rms_radius;
         let extended = matches!(&layout.sources[s], Source::Beam(b) if b.sun_half_angle_mrad > 0.0);
-        if !extended {
-            if let Some(v) = strehl(scene, res, t.screen, s) {
+        if !extended
+            && let Some(v) = strehl(scene, res, t.screen, s) {
                 sw += st.hits as f64 * v;
                 sn += st.hits;
             }
-        }
     }
     Figures {
         rms_radius_um: (n > 0).then(|| (ms / n as f64).sqrt() * 1e3),
@@ -179,8 +178,8 @@ pub fn move_screen(layout: &mut Layout, t: &Target, shift: f64) {
 /// layout measured. The layout must be valid.
 pub fn measure(layout: &Layout, t: &Target, rays: Option<usize>, threads: Option<usize>, refocus: bool) -> (Figures, Layout) {
     let (scene, res) = trace_layout(layout, rays, threads);
-    if refocus {
-        if let Some(s) = best_shift(&res, t) {
+    if refocus
+        && let Some(s) = best_shift(&res, t) {
             let mut moved = layout.clone();
             move_screen(&mut moved, t, s);
             if validate(&moved).is_ok() {
@@ -188,6 +187,5 @@ pub fn measure(layout: &Layout, t: &Target, rays: Option<usize>, threads: Option
                 return (figures(&moved, &scene, &res, t), moved);
             }
         }
-    }
     (figures(layout, &scene, &res, t), layout.clone())
 }

@@ -232,11 +232,10 @@ impl Problem<'_> {
         let (r, hits) = match self.layout_at(x) {
             None => (DVector::from_element(m, INVALID_RESIDUAL), Vec::new()),
             Some(mut l) => {
-                if self.goal == Goal::Intercept {
-                    if let Element::Screen(s) = &mut l.elements[self.target.element] {
+                if self.goal == Goal::Intercept
+                    && let Element::Screen(s) = &mut l.elements[self.target.element] {
                         s.size *= INTERCEPT_MARGIN;
                     }
-                }
                 let (scene, res) = trace_layout(&l, self.rays, self.threads);
                 let h = &res.screens[self.target.screen];
                 let hits = self.target.sources.iter().map(|&s| arrivals(h, s as u32).len()).collect();
@@ -317,11 +316,10 @@ impl Problem<'_> {
     }
 
     fn residuals_at(&self, x: &[f64]) -> Eval {
-        if let Some((cx, e)) = self.cache.borrow().as_ref() {
-            if cx.as_slice() == x {
+        if let Some((cx, e)) = self.cache.borrow().as_ref()
+            && cx.as_slice() == x {
                 return e.clone();
             }
-        }
         let e = self.evaluate(x);
         *self.cache.borrow_mut() = Some((x.to_vec(), e.clone()));
         e
@@ -393,11 +391,10 @@ pub fn optimise(layout: &Layout, spec: &OptimiseSpec, progress: &mut dyn FnMut(u
         let v = get_field(layout, p).map_err(|e| InputError::new("vary", e.to_string()))?;
         start.push(v);
     }
-    if let Some(n) = spec.rays {
-        if n == 0 || n as u64 > crate::layout::MAX_RAYS_PER_SOURCE {
+    if let Some(n) = spec.rays
+        && (n == 0 || n as u64 > crate::layout::MAX_RAYS_PER_SOURCE) {
             return Err(InputError::new("rays", format!("must be between 1 and {} (got {n})", crate::layout::MAX_RAYS_PER_SOURCE)));
         }
-    }
     if spec.goal == Goal::Wavefront && target.has_extended(layout) {
         return Err(InputError::new(
             "goal",

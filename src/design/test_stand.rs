@@ -267,14 +267,13 @@ pub fn level_crossings(g: impl Fn(f64) -> f64, lo: f64, hi: f64, snap: f64, max_
             prev = Some((x1, g1));
             continue;
         };
-        if let Some((k, side, first)) = on_level {
-            if g1 != k {
+        if let Some((k, side, first)) = on_level
+            && g1 != k {
                 if side.is_some_and(|below| below != (g1 < k)) {
                     out.push(first);
                 }
                 on_level = None;
             }
-        }
         // Levels strictly between the two values.
         let (a, b) = (g0.min(g1).floor() as i64 + 1, g0.max(g1).ceil() as i64 - 1);
         let mut found: Vec<f64> = (a..=b).map(|k| k as f64).map(|k| bisect(|x| g(x) - k, x0, x1, tol)).collect();
@@ -310,11 +309,10 @@ pub fn sign_changes(f: impl Fn(f64) -> f64, lo: f64, hi: f64, steps: usize, zero
         if !v.is_finite() || v.abs() <= zero {
             continue;
         }
-        if let Some((xp, vp)) = last {
-            if (vp < 0.0) != (v < 0.0) {
+        if let Some((xp, vp)) = last
+            && (vp < 0.0) != (v < 0.0) {
                 out.push(bisect(&f, xp, x, tol));
             }
-        }
         last = Some((x, v));
     }
     out

@@ -246,11 +246,10 @@ impl TolerancePlan {
             let n = spec.rays.map_or(s.rays().min(DEFAULT_TOLERANCE_RAYS as u64), |n| n as u64);
             s.set_rays(n);
         }
-        if let Some(n) = spec.rays {
-            if n == 0 || n as u64 > crate::layout::MAX_RAYS_PER_SOURCE {
+        if let Some(n) = spec.rays
+            && (n == 0 || n as u64 > crate::layout::MAX_RAYS_PER_SOURCE) {
                 return Err(InputError::new("rays", format!("must be between 1 and {} (got {n})", crate::layout::MAX_RAYS_PER_SOURCE)));
             }
-        }
         let total: u64 = traced.sources.iter().map(|s| s.rays()).sum();
         if total > crate::layout::MAX_RAYS_TOTAL {
             return Err(InputError::new(

@@ -147,11 +147,10 @@ impl MirrorSurface {
                 }
             } else if f0 * f1 < 0.0 {
                 let t = illinois(&f, t0, f0, t1, f1, tol);
-                if t > t_min && t < t_max {
-                    if let Some(h) = self.accept(t, o, d) {
+                if t > t_min && t < t_max
+                    && let Some(h) = self.accept(t, o, d) {
                         return Some(h);
                     }
-                }
             }
             t0 = t1;
             f0 = f1;

@@ -26,12 +26,11 @@ pub fn plain_words(msg: &str) -> String {
         ("a boolean", "true or false"),
         ("an array of length 2", "a pair [y, z]"),
     ];
-    if let Some(rest) = msg.strip_prefix("invalid length ") {
-        if let Some((n, want)) = rest.split_once(", expected ") {
+    if let Some(rest) = msg.strip_prefix("invalid length ")
+        && let Some((n, want)) = rest.split_once(", expected ") {
             let want = WANTS.iter().find(|(k, _)| *k == want).map_or(want, |(_, v)| v);
             return format!("must be {want}, not {n} item{}", if n == "1" { "" } else { "s" });
         }
-    }
     let Some(rest) = msg.strip_prefix("invalid type: ").or_else(|| msg.strip_prefix("invalid value: ")) else {
         return msg.to_string();
     };
@@ -72,8 +71,8 @@ fn nested<T: DeserializeOwned, E: serde::de::Error>(mut v: Value) -> Result<T, E
 /// Joins an outer path with a possibly nested message.
 fn split_nested(outer: &str, msg: &str) -> (String, String) {
     let outer = if outer == "." { "" } else { outer };
-    if let Some(rest) = msg.strip_prefix(NEST) {
-        if let Some((inner, m)) = rest.split_once(NEST) {
+    if let Some(rest) = msg.strip_prefix(NEST)
+        && let Some((inner, m)) = rest.split_once(NEST) {
             let path = match (outer.is_empty(), inner.is_empty()) {
                 (true, _) => inner.to_string(),
                 (false, true) => outer.to_string(),
@@ -81,7 +80,6 @@ fn split_nested(outer: &str, msg: &str) -> (String, String) {
             };
             return (path, m.to_string());
         }
-    }
     (outer.to_string(), msg.to_string())
 }
 

@@ -12,7 +12,7 @@ pub const MAX_LAYOUT_BYTES: u64 = 16 << 20;
 /// must be UTF-8. Errors have an empty field (the whole file).
 pub fn decode_layout_bytes(bytes: &[u8]) -> Result<String, InputError> {
     let utf16 = |rest: &[u8], unit: fn([u8; 2]) -> u16, order: &str| {
-        if rest.len() % 2 != 0 {
+        if !rest.len().is_multiple_of(2) {
             return Err(InputError::new("", format!("UTF-16 ({order}) text with an odd number of bytes")));
         }
         let units: Vec<u16> = rest.chunks_exact(2).map(|c| unit([c[0], c[1]])).collect();

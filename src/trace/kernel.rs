@@ -29,7 +29,7 @@ use crate::scene::{Part, Scene};
 /// Rays per batch.
 pub const LANES: usize = 512;
 // The first-arrival check keeps one bit per lane in 64-bit words.
-const _: () = assert!(LANES % 64 == 0);
+const _: () = assert!(LANES.is_multiple_of(64));
 const NONE: u32 = u32::MAX;
 /// A ray free to meet any element (as wide as the float columns, so that
 /// masks mixing the two need no repacking).

@@ -286,11 +286,10 @@ fn take_buffers(screens: usize) -> Vec<ScreenHits> {
 #[cfg(not(target_arch = "wasm32"))]
 fn give_buffers(mut out: Vec<ScreenHits>) {
     out.iter_mut().for_each(ScreenHits::clear);
-    if let Ok(mut p) = BUFFERS.lock() {
-        if p.len() < KEPT_BUFFERS {
+    if let Ok(mut p) = BUFFERS.lock()
+        && p.len() < KEPT_BUFFERS {
             p.push(out);
         }
-    }
 }
 
 /// Merges the slices `0..parts.len()` of one trace (from [`trace_part`]

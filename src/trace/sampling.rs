@@ -134,11 +134,10 @@ pub(crate) fn cached_points(set: Set, n: usize, seed: u64, lay: impl FnOnce() ->
 
 fn cached(key: Key, lay: impl FnOnce() -> DiskPoints) -> Arc<DiskPoints> {
     let cache = CACHE.get_or_init(|| Mutex::new(Vec::new()));
-    if let Ok(c) = cache.lock() {
-        if let Some((_, p)) = c.iter().find(|(k, _)| *k == key) {
+    if let Ok(c) = cache.lock()
+        && let Some((_, p)) = c.iter().find(|(k, _)| *k == key) {
             return Arc::clone(p);
         }
-    }
     let pts = Arc::new(lay());
     if let Ok(mut c) = cache.lock() {
         if c.len() >= CACHE_SETS {

@@ -102,7 +102,7 @@ pub fn measured_readings_json(
     readings: &[f64],
     tolerance_nm: f64,
 ) -> Result<String, JsError> {
-    if readings.len() % 2 != 0 {
+    if !readings.len().is_multiple_of(2) {
         return Err(JsError::new("readings: give pairs of zone radius and reading"));
     }
     let pairs: Vec<[f64; 2]> = readings.chunks_exact(2).map(|p| [p[0], p[1]]).collect();
@@ -184,7 +184,7 @@ fn knots(departure: &[f64]) -> Result<Option<Vec<[f64; 2]>>, JsError> {
     if departure.is_empty() {
         return Ok(None);
     }
-    if departure.len() % 2 != 0 {
+    if !departure.len().is_multiple_of(2) {
         return Err(JsError::new("measured: give pairs of radius and departure"));
     }
     Ok(Some(departure.chunks_exact(2).map(|p| [p[0], p[1]]).collect()))

@@ -164,15 +164,14 @@ pub fn random_mirror(rng: &mut Rng, i: usize, size: f64) -> Value {
     let offset = if rng.next() < 0.3 { rng.range(-d, d) } else { 0.0 };
     // Keep ρ inside the conic's domain.
     let mut diameter = d;
-    if let Some(r) = radius {
-        if conic > -1.0 {
+    if let Some(r) = radius
+        && conic > -1.0 {
             let lim = r.abs() / (1.0 + conic).sqrt();
             let rho = offset.abs() + 0.5 * diameter;
             if rho >= 0.999 * lim {
                 diameter = (2.0 * (0.99 * lim - offset.abs())).max(1e-3 * lim);
             }
         }
-    }
     let hole = if rng.next() < 0.3 { rng.range(0.0, 0.9) * diameter } else { 0.0 };
     let extruded = rng.next() < 0.3;
     let mut profile = json!({ "radius": radius, "conic": conic });

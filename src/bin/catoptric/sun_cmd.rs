@@ -81,11 +81,10 @@ pub fn sun(a: SunArgs) -> Result<String, Failure> {
 pub fn day(a: DayArgs) -> Result<String, Failure> {
     let threads = crate::bench::check_threads(a.threads)?;
     let layout = read_layout(&a.layout)?;
-    if let Some(n) = a.rays {
-        if n == 0 || n > MAX_RAYS_PER_SOURCE {
+    if let Some(n) = a.rays
+        && (n == 0 || n > MAX_RAYS_PER_SOURCE) {
             return Err(Failure::input(format!("--rays: must be between 1 and {MAX_RAYS_PER_SOURCE} (got {n})")));
         }
-    }
     let req = DayRequest { date: a.date, from: a.from, to: a.to, step_min: a.step_min };
     let opts = TraceOptions { threads, rays: a.rays.map(|n| n as usize), ..Default::default() };
     let report = day_sweep(&layout, &req, opts).map_err(|e| {
