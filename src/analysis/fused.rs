@@ -19,6 +19,7 @@
 use super::cone::{f_number_from_angle, ConeSums};
 use super::energy::EncircledEnergy;
 use super::focus::{FocusFit, FocusSums};
+use super::lanes::{groups, Lane, V4, LANES};
 use super::select::Subset;
 use super::spot::SpotStats;
 use super::wavefront::{Cols, Fit, FitSums, ResidualSums, WavefrontStats};
@@ -28,7 +29,6 @@ use super::{over_chunks, over_chunks_mut};
 use std::ops::Range;
 
 /// Interleaved partial sums per quantity.
-const LANES: usize = 4;
 type Lanes = [f64; LANES];
 
 /// Sum of the lanes, in lane order.
@@ -150,7 +150,7 @@ fn pass1(kernel: Kernel, c: Columns<'_>, first: [f64; 4]) -> [Lanes; 12] {
 struct Pass2 {
     s2: Lanes,
     rmax2: Lanes,
-    cone: ConeLanes,
+    cone: ConeBest,
     fit: [Lanes; 13],
 }
 
@@ -165,44 +165,100 @@ struct Pass2In<'f, 's, 'a> {
     fit: Option<&'f Fit<'s, 'a>>,
 }
 
+/// Hits per block of pass 2, a whole number of [`LANES`]: each of the
+/// pass's loops runs over one block while its columns sit in the
+/// first-level cache. Separate loops, each with few running sums, keep
+/// those sums in vector registers. A hit adds to the same lane in the same
+/// order as in one loop over the chunk, so blocking changes no bit.
+const BLOCK: usize = 256;
+const _: () = assert!(BLOCK.is_multiple_of(LANES));
+
 #[inline(always)]
 fn pass2_generic<const WF: bool>(c: Columns<'_>, radius: &mut [f64], p: Pass2In) -> Pass2 {
-    let Columns { hit: Cols { u, v, du, dv, dw, opl }, w } = c;
-    let [cu, cv] = p.centroid;
-    let m = p.m;
-    let (mut s2, mut rmax2) = ([0.0; LANES], [0.0f64; LANES]);
-    let mut cone = ConeLanes::new();
-    let mut b = [[0.0; LANES]; 13];
+    let mut out = Pass2 { s2: [0.0; LANES], rmax2: [0.0; LANES], cone: ConeBest::new(), fit: [[0.0; LANES]; 13] };
     let f = p.fit.filter(|_| WF);
-    let x0 = f.map_or([0.0; 4], |f| f.shift());
-    for_lanes!(u.len(), [u, v, du, dv, dw, opl, w], [radius], k, l, g, {
+    let n = c.w.len();
+    let mut start = 0;
+    while start < n {
+        let end = (start + BLOCK).min(n);
+        let b = c.part(start..end);
+        spot_block(b, &mut radius[start..end], p.centroid, &mut out.s2, &mut out.rmax2);
+        out.cone.block(b, p.m, p.offset + start);
+        if let Some(f) = f {
+            fit_block(b, f, &mut out.fit);
+        }
+        start = end;
+    }
+    out
+}
+
+/// The spot's sums and each hit's radius about `centroid`, over one block.
+#[inline(always)]
+fn spot_block(c: Columns<'_>, radius: &mut [f64], centroid: [f64; 2], s2_out: &mut Lanes, rmax2_out: &mut Lanes) {
+    let Columns { hit: Cols { u, v, .. }, w } = c;
+    let [cu, cv] = centroid;
+    // Running sums in locals, so they stay in registers.
+    let (mut s2, mut rmax2) = (*s2_out, *rmax2_out);
+    for_lanes!(u.len(), [u, v, w], [radius], k, l, g, {
         let r2 = (u[k] - cu) * (u[k] - cu) + (v[k] - cv) * (v[k] - cv);
         s2[l] += w[k] * r2;
-        rmax2[l] = rmax2[l].max(r2);
+        // As f64::max for numbers (a NaN radius is passed over), in one
+        // vector instruction.
+        rmax2[l] = if r2 > rmax2[l] { r2 } else { rmax2[l] };
         radius[k] = r2.sqrt();
-        cone.add(l, p.offset + g, m, du[k], dv[k], dw[k]);
-        if WF {
-            if let Some(f) = f {
-                let x = f.sample_of(u[k], v[k], du[k], dv[k], dw[k], opl[k]);
-                let d = [x[0] - x0[0], x[1] - x0[1], x[2] - x0[2], x[3] - x0[3]];
-                let wk = w[k];
-                b[0][l] += wk * d[0];
-                b[1][l] += wk * d[1];
-                b[2][l] += wk * d[2];
-                b[3][l] += wk * d[3];
-                b[4][l] += wk * d[0] * d[0];
-                b[5][l] += wk * d[0] * d[1];
-                b[6][l] += wk * d[0] * d[2];
-                b[7][l] += wk * d[1] * d[1];
-                b[8][l] += wk * d[1] * d[2];
-                b[9][l] += wk * d[2] * d[2];
-                b[10][l] += wk * d[0] * d[3];
-                b[11][l] += wk * d[1] * d[3];
-                b[12][l] += wk * d[2] * d[3];
-            }
-        }
     });
-    Pass2 { s2, rmax2, cone, fit: b }
+    (*s2_out, *rmax2_out) = (s2, rmax2);
+}
+
+/// The 13 terms a hit adds to the wavefront fit's sums: weight `wk`,
+/// sample `d` shifted by the first one.
+#[inline(always)]
+fn fit_terms<T: Lane>(wk: T, d: [T; 4]) -> [T; 13] {
+    [
+        wk * d[0],
+        wk * d[1],
+        wk * d[2],
+        wk * d[3],
+        wk * d[0] * d[0],
+        wk * d[0] * d[1],
+        wk * d[0] * d[2],
+        wk * d[1] * d[1],
+        wk * d[1] * d[2],
+        wk * d[2] * d[2],
+        wk * d[0] * d[3],
+        wk * d[1] * d[3],
+        wk * d[2] * d[3],
+    ]
+}
+
+/// The shifted sample of a hit (or of one hit per lane).
+#[inline(always)]
+fn shifted<T: Lane>(f: &Fit, x0: [f64; 4], [u, v, du, dv, dw, opl]: [T; 6]) -> [T; 4] {
+    let x = f.sample_of(u, v, du, dv, dw, opl);
+    [x[0] - T::from(x0[0]), x[1] - T::from(x0[1]), x[2] - T::from(x0[2]), x[3] - T::from(x0[3])]
+}
+
+/// The wavefront fit's sums over one block: groups of [`LANES`] hits as
+/// [`V4`] values, then the rest one by one into lanes 0, 1, …
+#[inline(always)]
+fn fit_block(c: Columns<'_>, f: &Fit, out: &mut [Lanes; 13]) {
+    let Columns { hit: Cols { u, v, du, dv, dw, opl }, w } = c;
+    let x0 = f.shift();
+    let mut b = out.map(V4);
+    let ([gu, gv, gdu, gdv, gdw, gopl, gw], full) = groups([u, v, du, dv, dw, opl, w]);
+    for q in 0..gu.len() {
+        let d = shifted(f, x0, [gu[q], gv[q], gdu[q], gdv[q], gdw[q], gopl[q]].map(V4));
+        for (s, t) in b.iter_mut().zip(fit_terms(V4(gw[q]), d)) {
+            *s = *s + t;
+        }
+    }
+    for g in full..u.len() {
+        let d = shifted(f, x0, [u[g], v[g], du[g], dv[g], dw[g], opl[g]]);
+        for (s, t) in b.iter_mut().zip(fit_terms(w[g], d)) {
+            s.0[g - full] += t;
+        }
+    }
+    *out = b.map(|v| v.0);
 }
 
 #[inline(always)]
@@ -223,19 +279,30 @@ fn pass2(kernel: Kernel, c: Columns<'_>, radius: &mut [f64], p: Pass2In) -> Pass
     }
 }
 
-/// Pass 3 of a chunk: sums, least and largest of the wavefront residuals.
+/// Pass 3 of a chunk: sums, least and largest of the wavefront residuals
+/// (groups of [`LANES`] hits as [`V4`] values, then the rest one by one
+/// into lanes 0, 1, …).
 #[inline(always)]
 fn pass3_body(c: Columns<'_>, f: &Fit) -> [Lanes; 4] {
     let Columns { hit: Cols { u, v, du, dv, dw, opl }, w } = c;
-    let (mut sum, mut sq, mut lo, mut hi) = ([0.0; LANES], [0.0; LANES], [f64::INFINITY; LANES], [f64::NEG_INFINITY; LANES]);
-    for_lanes!(u.len(), [u, v, du, dv, dw, opl, w], [], k, l, g, {
-        let r = f.residual_of(f.sample_of(u[k], v[k], du[k], dv[k], dw[k], opl[k]));
-        sum[l] += w[k] * r;
-        sq[l] += w[k] * r * r;
-        lo[l] = lo[l].min(r);
-        hi[l] = hi[l].max(r);
-    });
-    [sum, sq, lo, hi]
+    let (mut sum, mut sq, mut lo, mut hi) = (V4::from(0.0), V4::from(0.0), V4::from(f64::INFINITY), V4::from(f64::NEG_INFINITY));
+    let ([gu, gv, gdu, gdv, gdw, gopl, gw], full) = groups([u, v, du, dv, dw, opl, w]);
+    for q in 0..gu.len() {
+        let r = f.residual_of(f.sample_of(V4(gu[q]), V4(gv[q]), V4(gdu[q]), V4(gdv[q]), V4(gdw[q]), V4(gopl[q])));
+        let wk = V4(gw[q]);
+        sum = sum + wk * r;
+        sq = sq + wk * r * r;
+        lo = lo.least(r);
+        hi = hi.greatest(r);
+    }
+    for g in full..u.len() {
+        let (r, l) = (f.residual_of(f.sample_of(u[g], v[g], du[g], dv[g], dw[g], opl[g])), g - full);
+        sum.0[l] += w[g] * r;
+        sq.0[l] += w[g] * r * r;
+        lo.0[l] = if r < lo.0[l] { r } else { lo.0[l] };
+        hi.0[l] = if r > hi.0[l] { r } else { hi.0[l] };
+    }
+    [sum.0, sq.0, lo.0, hi.0]
 }
 
 fn pass3(kernel: Kernel, c: Columns<'_>, f: &Fit) -> [Lanes; 4] {
@@ -318,39 +385,57 @@ pub(crate) fn figures_with(kernel: Kernel, sel: &Subset, wavelength_mm: f64, wav
     Figures { spot, fit, f_number, wavefront, energy }
 }
 
-/// The cone's extreme ray, lane by lane: the largest sin² among rays
-/// within 90° of the reference (earliest hit on ties) and the most
-/// negative cosine.
-struct ConeLanes {
-    best: Lanes,
-    at: [usize; LANES],
+/// The cone's extreme ray over a chunk: the largest sin² among rays
+/// within 90° of the reference (earliest hit on ties) and, lane by lane,
+/// the most negative cosine.
+struct ConeBest {
+    best: f64,
+    at: usize,
     back: Lanes,
 }
 
-impl ConeLanes {
+impl ConeBest {
     fn new() -> Self {
-        ConeLanes { best: [-1.0; LANES], at: [0; LANES], back: [f64::NEG_INFINITY; LANES] }
+        ConeBest { best: -1.0, at: 0, back: [f64::NEG_INFINITY; LANES] }
     }
 
+    /// sin² and cosine of the angle between a direction and `m`.
     #[inline(always)]
-    fn add(&mut self, l: usize, g: usize, m: Vec3, du: f64, dv: f64, dw: f64) {
+    fn sin2_cos(m: Vec3, du: f64, dv: f64, dw: f64) -> (f64, f64) {
         let (cx, cy, cz) = (dv * m.z - dw * m.y, dw * m.x - du * m.z, du * m.y - dv * m.x);
-        let s2 = cx * cx + cy * cy + cz * cz;
-        let c = du * m.x + dv * m.y + dw * m.z;
-        let better = (c > 0.0) & (s2 > self.best[l]);
-        self.best[l] = if better { s2 } else { self.best[l] };
-        self.at[l] = if better { g } else { self.at[l] };
-        self.back[l] = if c <= 0.0 { self.back[l].max(-c) } else { self.back[l] };
+        (cx * cx + cy * cy + cz * cz, du * m.x + dv * m.y + dw * m.z)
+    }
+
+    /// Adds a block whose first hit is hit `offset` of the selection. The
+    /// largest sin² of the block comes from a vector loop; only a block
+    /// that beats the best so far is scanned again for the earliest hit
+    /// reaching it (rarely, once the best has settled).
+    #[inline(always)]
+    fn block(&mut self, c: Columns<'_>, m: Vec3, offset: usize) {
+        let Cols { du, dv, dw, .. } = c.hit;
+        let (mut top, mut back) = ([self.best; LANES], self.back);
+        for_lanes!(du.len(), [du, dv, dw], [], k, l, g, {
+            let (s2, c) = Self::sin2_cos(m, du[k], dv[k], dw[k]);
+            top[l] = if (c > 0.0) & (s2 > top[l]) { s2 } else { top[l] };
+            back[l] = if (c <= 0.0) & (-c > back[l]) { -c } else { back[l] };
+        });
+        self.back = back;
+        if top.iter().any(|&t| t > self.best) {
+            for k in 0..du.len() {
+                let (s2, c) = Self::sin2_cos(m, du[k], dv[k], dw[k]);
+                if c > 0.0 && s2 > self.best {
+                    (self.best, self.at) = (s2, offset + k);
+                }
+            }
+        }
     }
 
     /// Merged into `out`: the larger sin², the earlier hit on ties.
     fn merge_into(&self, out: &mut ConeSums) {
-        for l in 0..LANES {
-            if self.best[l] > out.best || (self.best[l] == out.best && self.best[l] >= 0.0 && self.at[l] < out.at) {
-                (out.best, out.at) = (self.best[l], self.at[l]);
-            }
-            out.back = out.back.max(self.back[l]);
+        if self.best > out.best || (self.best == out.best && self.best >= 0.0 && self.at < out.at) {
+            (out.best, out.at) = (self.best, self.at);
         }
+        out.back = self.back.iter().copied().fold(out.back, f64::max);
     }
 }
 

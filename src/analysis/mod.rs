@@ -10,6 +10,7 @@ mod energy;
 mod flux;
 mod focus;
 mod fused;
+mod lanes;
 mod longitudinal;
 mod psf;
 mod pupil;

@@ -38,6 +38,7 @@
 //! ≥ 0.8 in the 1 − x form, 0.82 in the exp form).
 
 use super::select::Subset;
+use super::lanes::Lane;
 use crate::geometry::Vec3;
 use crate::trace::ScreenHits;
 use nalgebra::{Matrix3, Vector3};
@@ -113,12 +114,12 @@ impl Fit<'_, '_> {
     }
 
     /// (a, b, c, W − w0) of a hit at (u, v) with direction (du, dv, dw)
-    /// and optical path `opl`.
+    /// and optical path `opl` (of one hit, or of one hit per lane).
     #[inline(always)]
-    pub(crate) fn sample_of(&self, u: f64, v: f64, dx: f64, dy: f64, dz: f64, opl: f64) -> [f64; 4] {
-        let (qx, qy, qz) = (self.p.x - u, self.p.y - v, self.p.z);
-        let w = (opl - self.w0) + (dx * qx + dy * qy + dz * qz);
-        let dot = |e: &Vec3| dx * e.x + dy * e.y + dz * e.z;
+    pub(crate) fn sample_of<T: Lane>(&self, u: T, v: T, dx: T, dy: T, dz: T, opl: T) -> [T; 4] {
+        let (qx, qy, qz) = (T::from(self.p.x) - u, T::from(self.p.y) - v, T::from(self.p.z));
+        let w = (opl - T::from(self.w0)) + (dx * qx + dy * qy + dz * qz);
+        let dot = |e: &Vec3| dx * T::from(e.x) + dy * T::from(e.y) + dz * T::from(e.z);
         [dot(&self.e1), dot(&self.e2), dot(&self.m), w]
     }
 
@@ -135,11 +136,10 @@ impl Fit<'_, '_> {
 
     /// Residual wavefront of a sample, mm.
     #[inline(always)]
-    pub(crate) fn residual_of(&self, s: [f64; 4]) -> f64 {
-        (s[3] - self.mean[3])
-            - self.coef[0] * (s[0] - self.mean[0])
-            - self.coef[1] * (s[1] - self.mean[1])
-            - self.coef[2] * (s[2] - self.mean[2])
+    pub(crate) fn residual_of<T: Lane>(&self, s: [T; 4]) -> T {
+        let (m, c) = (self.mean, self.coef);
+        (s[3] - T::from(m[3])) - T::from(c[0]) * (s[0] - T::from(m[0])) - T::from(c[1]) * (s[1] - T::from(m[1]))
+            - T::from(c[2]) * (s[2] - T::from(m[2]))
     }
 }
 
