@@ -143,6 +143,9 @@ fn every_pixel_holds_the_path_length_inside_it() {
         (seed >> 11) as f64 / (1u64 << 53) as f64
     };
     let mut segs: Vec<f32> = vec![1.0, 1.0, 1.0, 9.0, 2.5, 0.5, 7.5, 0.5, 0.0, 0.0, 10.0, 10.0, 10.0, 0.0, 0.0, 10.0];
+    // Nearly level and nearly plumb ones, rising and falling, crossing a
+    // few rows (or columns) over a long stretch, from outside the view.
+    segs.extend_from_slice(&[3.3, -1.0, 4.1, 11.0, 8.9, 10.5, 7.6, 0.2, -0.5, 2.2, 10.5, 2.9, 11.0, 6.05, -1.0, 5.4]);
     for _ in 0..200 {
         for _ in 0..4 {
             segs.push((14.0 * next() - 2.0) as f32);
