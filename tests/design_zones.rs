@@ -197,3 +197,42 @@ fn bad_input_names_the_field() {
     assert_eq!(e(100.0, 0.0, 250.0, 5), "diameter");
     assert_eq!(TestSource::parse("sliding").unwrap_err().field, "source");
 }
+
+#[test]
+fn fixed_source_reading_on_the_axis_is_the_paraxial_conjugate() {
+    // At ρ = 0 the reflected ray runs back along the axis and the reading
+    // is the paraxial image of the source: 1/s + 1/s′ = 2/R (mirror
+    // equation, Hecht, Optics, 5th ed. 2017, §5.4), any conic (the vertex
+    // curvature sets it). Zones near the axis approach it.
+    for (k, src) in [(0.0, 10.0), (-1.0, 25.0), (-4.0, -30.0)] {
+        let (r, s) = (2000.0, 2000.0 + src);
+        let want = 1.0 / (2.0 / r - 1.0 / s) - r;
+        let got = fixed_source_reading(r, k, 0.0, src);
+        assert!(rel(got, want) < 1e-12, "K {k}, source {src}: {got} vs {want}");
+        let near = fixed_source_reading(r, k, 1e-2, src);
+        assert!(rel(near, want) < 1e-6, "K {k}, source {src}: {near} vs {want}");
+    }
+}
+
+#[test]
+fn zone_table_limits_are_inclusive() {
+    // The limits of `zones` (docs/FORMATS.md): 1 to 100 zones, |K| up to
+    // 1e6, a diameter both the conic and the sphere of radius R reach. The
+    // reach of a conic: 1 − (1+K)ρ²/R² ≥ 0 (ISO 10110-12 sag), so a
+    // sphere of radius R ends at ρ = R.
+    let ok = |r: f64, k: f64, d: f64, n: usize| zone_table(r, k, d, n, TestSource::Moving, 550.0);
+    let field = |e: catoptric::InputError| e.to_string().split(':').next().unwrap_or_default().to_string();
+    assert_eq!(ok(2000.0, -1.0, 200.0, 100).unwrap().zones.len(), 100);
+    assert_eq!(field(ok(2000.0, -1.0, 200.0, 101).unwrap_err()), "zones");
+    assert!(ok(2000.0, -1e6, 200.0, 5).is_ok());
+    assert_eq!(field(ok(2000.0, -2e6, 200.0, 5).unwrap_err()), "conic");
+    assert_eq!(field(ok(2000.0, 2e6, 1.0, 5).unwrap_err()), "conic");
+    // The conic's own reach: an oblate ellipsoid K = 3 of R = 100 ends at
+    // ρ = R/√(1+K) = 50, inside its sphere's reach.
+    assert!(ok(100.0, 3.0, 99.0, 5).is_ok());
+    assert_eq!(field(ok(100.0, 3.0, 101.0, 5).unwrap_err()), "diameter");
+    // The sphere's: a paraboloid reaches any diameter, the sphere of
+    // radius R only up to ρ = R.
+    assert!(ok(100.0, -1.0, 199.0, 5).is_ok());
+    assert_eq!(field(ok(100.0, -1.0, 201.0, 5).unwrap_err()), "diameter");
+}

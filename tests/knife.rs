@@ -6,7 +6,7 @@
 
 mod stand_support;
 
-use catoptric::design::{knife_picture, knife_view, zone_table, KnifeSpec, TestSource};
+use catoptric::design::{knife_picture, knife_view, surface_readings, zone_table, KnifeSpec, TestSource};
 use serde_json::Value;
 use stand_support::{run, Stand};
 
@@ -178,4 +178,78 @@ fn bad_input_exits_2_naming_the_flag() {
         assert_eq!(err.lines().count(), 1, "{err}");
         assert!(err.contains(flag), "{args:?}: {err}");
     }
+}
+
+/// The lit fraction is the share of the disk whose reflected rays pass
+/// the knife: counted here on a fine grid of pupil points through the
+/// independent trace (`stand_support`), for knives off the axis, where
+/// the dark part depends on the zone (so on both x and y), not just on x.
+#[test]
+fn lit_fraction_is_the_share_of_pupil_points_passing_the_knife() {
+    let a = 0.5 * D;
+    let n = 600;
+    let cases = [(-1.0, 1.225, 0.02, true), (-1.0, 2.0, -0.05, true), (-4.0, 3.0, 0.1, false)];
+    for (k, s, kx, moving) in cases {
+        let stand = Stand { r: R, k, s, moving, departure: None };
+        let (mut inside, mut lit) = (0usize, 0usize);
+        for i in 0..n {
+            for j in 0..n {
+                let (x, y) = (a * (2.0 * (i as f64 + 0.5) / n as f64 - 1.0), a * (2.0 * (j as f64 + 0.5) / n as f64 - 1.0));
+                if x.hypot(y) <= a {
+                    inside += 1;
+                    lit += usize::from(stand.land(x, y).0 >= kx);
+                }
+            }
+        }
+        let want = lit as f64 / inside as f64;
+        let source = if moving { TestSource::Moving } else { TestSource::Fixed };
+        let got = knife_view(&spec(k, s, kx, source)).unwrap().lit_fraction;
+        // A 600 × 600 grid: the edge pixels of the lit region move the
+        // count by a few 1e-4 at most.
+        assert!((got - want).abs() < 2e-3, "K {k}, S {s}, X {kx}: {got} vs grid {want}");
+        assert!(want > 0.05 && want < 0.95, "the case should show both light and shadow: {want}");
+    }
+}
+
+/// A ray landing on the knife's edge itself (to rounding) passes: with a
+/// sphere, its source and the knife at its centre, every ray returns to
+/// the centre, so an edge exactly on the axis leaves the mirror lit.
+#[test]
+fn rays_grazing_the_edge_pass() {
+    for source in [TestSource::Moving, TestSource::Fixed] {
+        let v = knife_view(&spec(0.0, 0.0, 0.0, source)).unwrap();
+        assert!(v.lit_fraction > 0.9999, "{source:?}: {}", v.lit_fraction);
+    }
+}
+
+/// A null is |X/x| below 1e-11 (the ray crosses the axis at the knife to
+/// that relative precision): a sphere with the knife a few 1e-9 mm from
+/// its centre still nulls as a whole (X = −2xS/R for the moving source,
+/// elementary geometry, so X/x = 1e-12 here), while 1e-3 mm does not.
+#[test]
+fn whole_mirror_null_is_judged_on_the_relative_crossing() {
+    let near = knife_view(&spec(0.0, 1e-9, 0.0, TestSource::Moving)).unwrap();
+    assert!(near.whole_mirror_nulls, "{near:?}");
+    let off = knife_view(&spec(0.0, 1e-3, 0.0, TestSource::Moving)).unwrap();
+    assert!(!off.whole_mirror_nulls && off.null_radius_mm.is_none(), "{off:?}");
+}
+
+/// Moving-source readings of the target surface: ρ²/(2R) for a
+/// paraboloid (Texereau, as above) and −K z(ρ) for other conics (the
+/// normal's axis crossing, as above); a bad radius is named by its index.
+#[test]
+fn surface_readings_are_the_normal_crossings() {
+    let rs = [20.0, 45.0, 90.0];
+    let got = surface_readings(R, -1.0, D, None, &rs).unwrap();
+    assert_eq!(got.len(), 3);
+    for (r, g) in rs.iter().zip(&got) {
+        assert!((g - r * r / (2.0 * R)).abs() < 1e-9, "ρ {r}: {g}");
+    }
+    let got = surface_readings(R, -4.0, D, None, &rs).unwrap();
+    for (r, g) in rs.iter().zip(&got) {
+        let want = 4.0 * stand_support::conic_z(R, -4.0, *r);
+        assert!((g - want).abs() < 1e-9, "ρ {r}: {g} vs {want}");
+    }
+    let e = surface_readings(R, -1.0, D, None, &[10.0, f64::NAN]).unwrap_err();
+    assert!(e.to_string().contains("radii[1]"), "{e}");
 }
