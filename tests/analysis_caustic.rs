@@ -100,9 +100,24 @@ fn raster_conserves_path_length() {
     let sum: f64 = img.iter().map(|&v| v as f64).sum::<f64>() * area;
     let expect = (6.4f64).hypot(7.3) + 9.0;
     assert!(rel(sum, expect) < 1e-6, "{sum} vs {expect}");
-    // Bad views give nothing instead of a panic.
-    assert!(caustic_raster(&fan, [0.0, 0.0, 0.0, 10.0], 20, 40).is_empty());
-    assert!(caustic_raster(&fan, [0.0, 0.0, 10.0, f64::NAN], 20, 40).is_empty());
+    // Bad views and sizes give nothing instead of a panic: an empty or
+    // inverted view on either axis, a zero side, a side over the limit.
+    for view in [[0.0, 0.0, 0.0, 10.0], [0.0, 0.0, 10.0, 0.0], [0.0, 5.0, 10.0, 1.0], [0.0, 0.0, 10.0, f64::NAN]] {
+        assert!(caustic_raster(&fan, view, 20, 40).is_empty(), "{view:?}");
+    }
+    let side = catoptric::analysis::MAX_RASTER_SIDE;
+    for (w, h) in [(0, 40), (20, 0), (side + 1, 4), (4, side + 1)] {
+        assert!(caustic_raster(&fan, [0.0, 0.0, 10.0, 10.0], w, h).is_empty(), "{w} × {h}");
+    }
+    assert_eq!(caustic_raster(&fan, [0.0, 0.0, 10.0, 10.0], side, 1).len(), side);
+    // Segments with a coordinate that is not a number, or infinite, are
+    // left out; the rest draw as before.
+    let mut bad = fan.clone();
+    bad.segments.extend_from_slice(&[f32::NAN, 1.0, 2.0, 3.0, 1.0, 1.0, f32::INFINITY, 5.0]);
+    bad.source.extend([0, 0]);
+    bad.ray.extend([0, 0]);
+    bad.escaping.extend([0, 0]);
+    assert_eq!(caustic_raster(&bad, [0.0, 0.0, 10.0, 10.0], 20, 40), caustic_raster(&fan, [0.0, 0.0, 10.0, 10.0], 20, 40));
     // Clipping: half of a segment outside the view is dropped.
     let half = Fan { segments: vec![5.0, -10.0, 5.0, 10.0], source: vec![0], ray: vec![0], escaping: vec![0] };
     let img = caustic_raster(&half, [0.0, 0.0, 10.0, 10.0], 10, 10);
@@ -146,6 +161,9 @@ fn every_pixel_holds_the_path_length_inside_it() {
     // Nearly level and nearly plumb ones, rising and falling, crossing a
     // few rows (or columns) over a long stretch, from outside the view.
     segs.extend_from_slice(&[3.3, -1.0, 4.1, 11.0, 8.9, 10.5, 7.6, 0.2, -0.5, 2.2, 10.5, 2.9, 11.0, 6.05, -1.0, 5.4]);
+    // Level and plumb ones wholly outside the view (above, below, left,
+    // right): nothing inside.
+    segs.extend_from_slice(&[11.0, 1.0, 11.0, 9.0, -1.0, 2.0, -1.0, 8.0, 2.0, -1.0, 8.0, -1.0, 2.0, 10.5, 8.0, 10.5]);
     for _ in 0..200 {
         for _ in 0..4 {
             segs.push((14.0 * next() - 2.0) as f32);
