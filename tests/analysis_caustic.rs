@@ -164,6 +164,8 @@ fn every_pixel_holds_the_path_length_inside_it() {
     // Level and plumb ones wholly outside the view (above, below, left,
     // right): nothing inside.
     segs.extend_from_slice(&[11.0, 1.0, 11.0, 9.0, -1.0, 2.0, -1.0, 8.0, 2.0, -1.0, 8.0, -1.0, 2.0, 10.5, 8.0, 10.5]);
+    // Short nearly plumb and nearly level ones inside a single pixel.
+    segs.extend_from_slice(&[3.1, 5.0, 3.3, 5.01, 4.0, 6.1, 4.01, 6.3]);
     for _ in 0..200 {
         for _ in 0..4 {
             segs.push((14.0 * next() - 2.0) as f32);
