@@ -110,6 +110,7 @@ fn raster_conserves_path_length() {
         assert!(caustic_raster(&fan, [0.0, 0.0, 10.0, 10.0], w, h).is_empty(), "{w} × {h}");
     }
     assert_eq!(caustic_raster(&fan, [0.0, 0.0, 10.0, 10.0], side, 1).len(), side);
+    assert_eq!(caustic_raster(&fan, [0.0, 0.0, 10.0, 10.0], 1, side).len(), side);
     // Segments with a coordinate that is not a number, or infinite, are
     // left out; the rest draw as before.
     let mut bad = fan.clone();
