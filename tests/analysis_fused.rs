@@ -18,6 +18,39 @@ fn close(a: Option<f64>, b: Option<f64>, what: &str) {
     }
 }
 
+/// Checks every figure of the report against the separate functions;
+/// returns the number of (screen, source) pairs checked.
+fn check_report(sc: &catoptric::Scene, res: &catoptric::TraceResult, label: &str) -> usize {
+    let report = trace_report(sc, res);
+    let mut checked = 0;
+    for (k, screen) in report.screens.iter().enumerate() {
+        let h = &res.screens[k];
+        for r in &screen.by_source {
+            let si = sc.sources.iter().position(|s| s.id() == r.source).unwrap();
+            let src = Some(si as u32);
+            let what = format!("{label} / {} / {}", screen.id, r.source);
+            let st = spot_stats(h, src);
+            close(Some(r.rms_radius_um), Some(st.rms_radius * 1e3), &format!("{what}: rms"));
+            close(Some(r.max_radius_um), Some(st.max_radius * 1e3), &format!("{what}: max"));
+            close(Some(r.centroid_mm[0]), Some(st.centroid[0]), &format!("{what}: centroid"));
+            let fit = focus_fit(h, src);
+            close(r.best_focus_shift_mm, fit.and_then(|f| f.best_shift()), &format!("{what}: best focus"));
+            let n = f_number(h, src);
+            close(r.f_number, n, &format!("{what}: f-number"));
+            close(r.airy_radius_um, n.map(|n| airy_radius(sc.wavelength_mm, n) * 1e3), &format!("{what}: airy"));
+            let extended = matches!(&sc.sources[si], Source::Beam(b) if b.sun_half_angle_mrad > 0.0);
+            let reference = fit.and_then(|f| f.best_point()).unwrap_or([st.centroid[0], st.centroid[1], 0.0]);
+            let wf = if extended { None } else { wavefront(h, src, reference, sc.wavelength_mm) };
+            close(r.wavefront_rms_waves, wf.map(|w| w.rms_waves), &format!("{what}: wavefront rms"));
+            close(r.wavefront_pv_waves, wf.map(|w| w.pv_waves), &format!("{what}: wavefront pv"));
+            let ee = encircled_energy(h, src).filter(|_| st.hits >= 3);
+            close(r.ee80_radius_um, ee.as_ref().and_then(|e| e.radius_for(0.8)).map(|x| x * 1e3), &format!("{what}: ee80"));
+            checked += 1;
+        }
+    }
+    checked
+}
+
 #[test]
 fn report_equals_the_separate_analyses_on_every_preset() {
     let dir = concat!(env!("CARGO_MANIFEST_DIR"), "/www/presets");
@@ -29,34 +62,27 @@ fn report_equals_the_separate_analyses_on_every_preset() {
         }
         let sc = scene(&std::fs::read_to_string(&p).unwrap());
         let res = trace(&sc, TraceOptions { rays: Some(4000), ..Default::default() });
-        let report = trace_report(&sc, &res);
-        for (k, screen) in report.screens.iter().enumerate() {
-            let h = &res.screens[k];
-            for r in &screen.by_source {
-                let si = sc.sources.iter().position(|s| s.id() == r.source).unwrap();
-                let src = Some(si as u32);
-                let what = format!("{} / {} / {}", p.display(), screen.id, r.source);
-                let st = spot_stats(h, src);
-                close(Some(r.rms_radius_um), Some(st.rms_radius * 1e3), &format!("{what}: rms"));
-                close(Some(r.max_radius_um), Some(st.max_radius * 1e3), &format!("{what}: max"));
-                close(Some(r.centroid_mm[0]), Some(st.centroid[0]), &format!("{what}: centroid"));
-                let fit = focus_fit(h, src);
-                close(r.best_focus_shift_mm, fit.and_then(|f| f.best_shift()), &format!("{what}: best focus"));
-                let n = f_number(h, src);
-                close(r.f_number, n, &format!("{what}: f-number"));
-                close(r.airy_radius_um, n.map(|n| airy_radius(sc.wavelength_mm, n) * 1e3), &format!("{what}: airy"));
-                let extended = matches!(&sc.sources[si], Source::Beam(b) if b.sun_half_angle_mrad > 0.0);
-                let reference = fit.and_then(|f| f.best_point()).unwrap_or([st.centroid[0], st.centroid[1], 0.0]);
-                let wf = if extended { None } else { wavefront(h, src, reference, sc.wavelength_mm) };
-                close(r.wavefront_rms_waves, wf.map(|w| w.rms_waves), &format!("{what}: wavefront rms"));
-                close(r.wavefront_pv_waves, wf.map(|w| w.pv_waves), &format!("{what}: wavefront pv"));
-                let ee = encircled_energy(h, src).filter(|_| st.hits >= 3);
-                close(r.ee80_radius_um, ee.as_ref().and_then(|e| e.radius_for(0.8)).map(|x| x * 1e3), &format!("{what}: ee80"));
-                checked += 1;
-            }
-        }
+        checked += check_report(&sc, &res, &p.display().to_string());
     }
     assert!(checked >= 8, "only {checked} (screen, source) pairs checked");
+}
+
+#[test]
+fn report_equals_the_separate_analyses_without_symmetry_across_the_section() {
+    // Every preset is symmetric about the drawing's plane, so across it
+    // (the pupil's second direction) every odd sum vanishes whatever its
+    // weight. Random pupil points on a tilted beam and a lamp's random
+    // cone break that symmetry: each of the fit's sums then shows.
+    let text = layout(
+        &[
+            mirror("m", [0.0, 800.0], 180.0, Some(1600.0), -1.0, 200.0, 0.0, 0.0, None),
+            screen("s", [0.0, 0.0], 0.0, 60.0, "square", false),
+        ],
+        &[beam("b", [0.0, 400.0], 0.5, 180.0, 3000, "random"), lamp("l", [3.0, -800.0], 0.0, 3.5, 3000, 1.0)],
+    );
+    let sc = scene(&text);
+    let res = trace(&sc, TraceOptions::default());
+    assert_eq!(check_report(&sc, &res, "asymmetric"), 2);
 }
 
 /// Every figure and curve of `analyse_all` on a pool of `threads` threads.
