@@ -249,6 +249,13 @@ fn cone_half_angle_is_the_widest_ray_about_the_mean_direction() {
         .collect();
     let got = cone_half_angle(&hits_with_directions(&cone), Some(0)).unwrap();
     assert!((got - deg(20.0)).abs() < 1e-12, "{} deg", got.to_degrees());
+    // The same cone turned about x: its mean turns with it, the
+    // half-angle stays 20°.
+    for a in [deg(30.0), deg(80.0)] {
+        let turned: Vec<[f64; 3]> = cone.iter().map(|d| [d[0], d[1] * a.cos() - d[2] * a.sin(), d[1] * a.sin() + d[2] * a.cos()]).collect();
+        let got = cone_half_angle(&hits_with_directions(&turned), Some(0)).unwrap();
+        assert!((got - deg(20.0)).abs() < 1e-12, "turned {a}: {} deg", got.to_degrees());
+    }
     let mut dirs = vec![[0.0, 0.0, 1.0]; 10];
     dirs.push([deg(120.0).sin(), 0.0, deg(120.0).cos()]);
     let m = dirs.iter().fold([0.0; 3], |a, d| [a[0] + d[0], a[1] + d[1], a[2] + d[2]]);
@@ -267,4 +274,20 @@ fn cone_half_angle_is_the_widest_ray_about_the_mean_direction() {
     assert!((n3 - 0.5 / deg(10.0).sin()).abs() < 1e-9, "N {n3}");
     // Parallel light has no cone and no f-number.
     assert!(catoptric::analysis::f_number(&hits_with_directions(&[[0.0, 0.0, 1.0]; 5]), Some(0)).is_none());
+}
+
+#[test]
+fn mean_direction_is_the_normalised_power_weighted_sum() {
+    // Definition (common practice): the unit vector along Σ w·d; none
+    // without hits or when the directions cancel.
+    use catoptric::analysis::mean_direction;
+    let (s, c) = (0.6, 0.8);
+    let m = mean_direction(&hits_with_directions(&[[s, 0.0, c], [-s, 0.0, c], [0.0, s, c]]), Some(0)).unwrap();
+    let n = (s * s + 9.0 * c * c).sqrt();
+    for (got, want) in [m.x, m.y, m.z].into_iter().zip([0.0, s / n, 3.0 * c / n]) {
+        assert!((got - want).abs() < 1e-15, "{m:?}");
+    }
+    assert!(mean_direction(&hits_with_directions(&[]), Some(0)).is_none());
+    assert!(mean_direction(&hits_with_directions(&[[0.0, s, c], [0.0, -s, -c]]), Some(0)).is_none());
+    assert!(mean_direction(&hits_with_directions(&[[0.0, s, c]]), Some(1)).is_none(), "no hits of source 1");
 }
