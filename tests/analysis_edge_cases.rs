@@ -249,12 +249,24 @@ fn cone_half_angle_is_the_widest_ray_about_the_mean_direction() {
         .collect();
     let got = cone_half_angle(&hits_with_directions(&cone), Some(0)).unwrap();
     assert!((got - deg(20.0)).abs() < 1e-12, "{} deg", got.to_degrees());
-    // The same cone turned about x: its mean turns with it, the
-    // half-angle stays 20°.
-    for a in [deg(30.0), deg(80.0)] {
-        let turned: Vec<[f64; 3]> = cone.iter().map(|d| [d[0], d[1] * a.cos() - d[2] * a.sin(), d[1] * a.sin() + d[2] * a.cos()]).collect();
+    // A cone of rays at 20° and 19.9° alternately, turned about x, then
+    // about y: its mean turns with it, the half-angle stays 20° (a search
+    // that weighed the directions wrongly would pick a 19.9° ray).
+    let close: Vec<[f64; 3]> = (0..12)
+        .map(|k| {
+            let (t, p) = (deg(if k % 2 == 0 { 20.0 } else { 19.9 }), k as f64 * std::f64::consts::TAU / 12.0);
+            [t.sin() * p.cos(), t.sin() * p.sin(), t.cos()]
+        })
+        .collect();
+    for (a, b) in [(30.0, 0.0), (80.0, 0.0), (30.0, 60.0), (70.0, -50.0), (45.0, 45.0), (-60.0, 35.0), (20.0, 75.0)] {
+        let (a, b) = (deg(a), deg(b));
+        let turned: Vec<[f64; 3]> = close
+            .iter()
+            .map(|d| [d[0], d[1] * a.cos() - d[2] * a.sin(), d[1] * a.sin() + d[2] * a.cos()])
+            .map(|d| [d[0] * b.cos() + d[2] * b.sin(), d[1], d[2] * b.cos() - d[0] * b.sin()])
+            .collect();
         let got = cone_half_angle(&hits_with_directions(&turned), Some(0)).unwrap();
-        assert!((got - deg(20.0)).abs() < 1e-12, "turned {a}: {} deg", got.to_degrees());
+        assert!((got - deg(20.0)).abs() < 1e-12, "turned {a}, {b}: {} deg", got.to_degrees());
     }
     let mut dirs = vec![[0.0, 0.0, 1.0]; 10];
     dirs.push([deg(120.0).sin(), 0.0, deg(120.0).cos()]);
