@@ -89,7 +89,7 @@ fn report_equals_the_separate_analyses_without_symmetry_across_the_section() {
     for rays in [2, 3, 5, 6, 7, 9, 257, 258, 259, 32_769] {
         let res = trace(&sc, TraceOptions { rays: Some(rays), ..Default::default() });
         let beam_hits = res.screens[0].source.iter().filter(|&&s| s == 0).count();
-        assert_eq!(beam_hits, rays as usize, "every ray of the beam arrives");
+        assert_eq!(beam_hits, rays, "every ray of the beam arrives");
         assert_eq!(check_report(&sc, &res, &format!("{rays} rays")), 2);
     }
 }
