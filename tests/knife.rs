@@ -181,8 +181,9 @@ fn bad_input_exits_2_naming_the_flag() {
 }
 
 /// The lit fraction is the share of the disk whose reflected rays pass
-/// the knife: counted here on a fine grid of pupil points through the
-/// independent trace (`stand_support`), for knives off the axis, where
+/// the knife: counted here on a fine grid of pupil points (area by
+/// counting, common practice) through the independent trace
+/// (`stand_support`, from the law of reflection), for knives off the axis, where
 /// the dark part depends on the zone (so on both x and y), not just on x.
 #[test]
 fn lit_fraction_is_the_share_of_pupil_points_passing_the_knife() {
@@ -213,7 +214,8 @@ fn lit_fraction_is_the_share_of_pupil_points_passing_the_knife() {
 
 /// A ray landing on the knife's edge itself (to rounding) passes: with a
 /// sphere, its source and the knife at its centre, every ray returns to
-/// the centre, so an edge exactly on the axis leaves the mirror lit.
+/// the centre (elementary geometry: each normal passes through it), so an
+/// edge exactly on the axis leaves the mirror lit.
 #[test]
 fn rays_grazing_the_edge_pass() {
     for source in [TestSource::Moving, TestSource::Fixed] {
