@@ -102,24 +102,42 @@ function pngSize(bytes) {
   return { width: bytes.readUInt32BE(16), height: bytes.readUInt32BE(20) };
 }
 
+/**
+ * Waits until the drawer has slid to the height it was given (its
+ * --drawer-h), the canvas's pixels match its box and nothing has moved for
+ * ten frames: a slow machine may still be sliding, or the editor may not
+ * have sized the canvas yet, when a fixed number of frames has passed.
+ */
+function layoutSettled(page) {
+  return page.waitForFunction(() => new Promise((ok) => {
+    const c = document.getElementById('canvas');
+    const d = document.getElementById('drawer');
+    const state = () => {
+      const r = c.getBoundingClientRect();
+      const dpr = window.devicePixelRatio || 1;
+      const target = parseFloat(d.style.getPropertyValue('--drawer-h'));
+      const dh = d.getBoundingClientRect().height;
+      const done = Math.abs(dh - target) < 1.5 && c.height === Math.round(r.height * dpr) && c.width === Math.round(r.width * dpr);
+      return done ? `${r.width}x${r.height}x${dh}` : null;
+    };
+    const s0 = state();
+    if (s0 === null) { requestAnimationFrame(() => ok(false)); return; }
+    let n = 0;
+    const tick = () => {
+      if (state() !== s0) { ok(false); return; }
+      if (++n === 10) { ok(d.getBoundingClientRect().height > 200); return; }
+      requestAnimationFrame(tick);
+    };
+    requestAnimationFrame(tick);
+  }), null, { timeout: 30_000 });
+}
+
 test('the drawing exports as a PNG of the chosen size', { timeout: 120_000 }, async () => {
   const { context, page, seen } = await openPage();
   try {
     await page.click('#btn-drawer'); // the canvas is short and wide now
     await page.evaluate(() => window.catoptric.clearMessage()); // an info strip would leave later and resize the canvas
-    // Wait until the drawer has stopped sliding: the canvas keeps one size
-    // over several frames.
-    await page.waitForFunction(() => new Promise((ok) => {
-      const c = document.getElementById('canvas');
-      const h0 = c.getBoundingClientRect().height;
-      let n = 0;
-      const tick = () => {
-        if (c.getBoundingClientRect().height !== h0) { ok(false); return; }
-        if (++n === 10) { ok(document.getElementById('drawer').getBoundingClientRect().height > 200); return; }
-        requestAnimationFrame(tick);
-      };
-      requestAnimationFrame(tick);
-    }));
+    await layoutSettled(page);
     const canvasBefore = await page.evaluate(() => {
       const c = document.getElementById('canvas');
       return { w: c.width, h: c.height, css: c.getBoundingClientRect().width, cssH: c.getBoundingClientRect().height, view: { ...window.catoptric.editor.view } };
@@ -148,6 +166,7 @@ test('the drawing exports as a PNG of the chosen size', { timeout: 120_000 }, as
     assert.deepEqual(size, { width: 1600, height: 1000 });
     assert.notEqual(canvasBefore.h, 1000, 'the picture does not follow the canvas size');
 
+    await layoutSettled(page);
     const canvasAfter = await page.evaluate(() => {
       const c = document.getElementById('canvas');
       return { w: c.width, h: c.height, view: { ...window.catoptric.editor.view } };
