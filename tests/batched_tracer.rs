@@ -110,6 +110,16 @@ fn a_ray_meeting_one_concave_mirror_twice_is_traced_like_the_reference() {
     for threads in [1, 2, 3, 8] {
         same(&trace(&sc, opts(None, threads)), &reference, &format!("{threads} threads"));
     }
+    // Over several chunks on several threads, where the threads write hits
+    // straight into the result: more hits on the screen than rays, so some
+    // chunk has more hits than its share of the result and puts the rest
+    // aside.
+    let rays = 3 * catoptric::trace::CHUNK + 1000;
+    let reference = trace_reference(&sc, opts(Some(rays), 1));
+    assert!(reference.screens[0].len() > rays, "the screen should be crossed more than once per ray");
+    for threads in [2, 3] {
+        same(&trace(&sc, opts(Some(rays), threads)), &reference, &format!("{rays} rays on {threads} threads"));
+    }
 }
 
 #[test]

@@ -274,8 +274,13 @@ kernels! {
     fn cross => cross_body(rec: &Rec, k: u32, opaque: bool, b: &mut Batch, n: usize) -> ();
 }
 
+/// Takes a batch's hits, in ray order, from the per-screen buffers.
+pub(crate) type Flush<'a> = dyn FnMut(&mut [ScreenHits]) + 'a;
+
 /// Traces rays `range` of `em` (source number `src`), appending the screen
-/// hits to `out` (one per screen) in ray order.
+/// hits to `out` (one per screen) in ray order. With `flush`, each batch's
+/// hits are handed to it as soon as they are in order (it may drain `out`),
+/// while they are still in cache.
 #[allow(clippy::too_many_arguments)]
 pub(crate) fn trace_range(
     scene: &Scene,
@@ -287,9 +292,10 @@ pub(crate) fn trace_range(
     hit_cap: u64,
     batch: &mut Batch,
     out: &mut [ScreenHits],
+    mut flush: Option<&mut Flush>,
 ) -> Tally {
     let mut tally = Tally::default();
-    let recorded_before: usize = out.iter().map(|h| h.len()).sum();
+    let mut recorded = 0usize;
     batch.recorded.resize_with(out.len(), Recorded::default);
     batch.touched.resize(comp.recs.len(), false);
     let mut start = range.start;
@@ -315,8 +321,11 @@ pub(crate) fn trace_range(
         }
         run_batch(scene, comp, kernel, batch, n, src, out, &mut tally);
         order_hits(batch, out);
+        recorded += batch.recorded.iter().zip(out.iter()).map(|(r, o)| o.len() - r.start).sum::<usize>();
+        if let Some(f) = flush.as_mut() {
+            f(out);
+        }
         start = end;
-        let recorded = out.iter().map(|h| h.len()).sum::<usize>() - recorded_before;
         if recorded as u64 > hit_cap {
             tally.over_cap = true;
             return tally;

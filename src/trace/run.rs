@@ -11,6 +11,9 @@ use super::source::Emitter;
 use super::tracer::{ScreenHits, TraceOptions, TraceResult};
 use crate::scene::Scene;
 
+#[cfg(not(target_arch = "wasm32"))]
+mod direct;
+
 /// Rays per chunk: the unit of work handed to a thread. Fixed, so the
 /// split never depends on the thread count.
 pub const CHUNK: usize = 16 * 1024;
@@ -150,7 +153,7 @@ pub fn trace_part(
     if cfg!(target_arch = "wasm32") || threads <= 1 || chunks.len() <= 1 {
         let mut batch = Batch::new();
         for (si, r) in chunks {
-            let t = trace_range(scene, &comp, kernel, &ems[si], si as u32, r.clone(), cap(r.len()), &mut batch, &mut res.screens);
+            let t = trace_range(scene, &comp, kernel, &ems[si], si as u32, r.clone(), cap(r.len()), &mut batch, &mut res.screens, None);
             add_tally(res, &t, max_hits);
             done += r.len() as u64;
             progress(done, total);
@@ -162,11 +165,32 @@ pub fn trace_part(
         return;
     }
     #[cfg(not(target_arch = "wasm32"))]
-    parallel(scene, &comp, kernel, &ems, &chunks, threads, (&cap, max_hits), res, &mut |n| {
-        done += n;
-        progress(done, total);
-    });
+    {
+        let mut report = |n: u64| {
+            done += n;
+            progress(done, total);
+        };
+        if total as usize <= DIRECT_MAX {
+            direct::parallel(scene, &comp, kernel, &ems, &chunks, threads, (&cap, max_hits), res, &mut report);
+        } else {
+            parallel(scene, &comp, kernel, &ems, &chunks, threads, (&cap, max_hits), res, &mut report);
+        }
+    }
     settle_limit(res);
+}
+
+/// Largest trace (rays) whose threads write their hits straight into the
+/// result (see [`direct`]); each screen reserves room for a hit per ray.
+/// Larger traces copy each wave's chunk buffers in instead.
+#[cfg(not(target_arch = "wasm32"))]
+const DIRECT_MAX: usize = RESERVE_CAP;
+
+/// A pool of the asked size unless the global one already is.
+#[cfg(not(target_arch = "wasm32"))]
+fn pool_of(threads: usize) -> Option<rayon::ThreadPool> {
+    (threads != rayon::current_num_threads())
+        .then(|| rayon::ThreadPoolBuilder::new().num_threads(threads).build().ok())
+        .flatten()
 }
 
 #[cfg(not(target_arch = "wasm32"))]
@@ -188,15 +212,12 @@ fn parallel(
         wave.par_iter()
             .map_init(Batch::new, |batch, (si, r)| {
                 let mut out = take_buffers(screens);
-                let t = trace_range(scene, comp, kernel, &ems[*si], *si as u32, r.clone(), cap(r.len()), batch, &mut out);
+                let t = trace_range(scene, comp, kernel, &ems[*si], *si as u32, r.clone(), cap(r.len()), batch, &mut out, None);
                 (out, t)
             })
             .collect()
     };
-    // A pool of the asked size unless the global one already is.
-    let pool = (threads != rayon::current_num_threads())
-        .then(|| rayon::ThreadPoolBuilder::new().num_threads(threads).build().ok())
-        .flatten();
+    let pool = pool_of(threads);
     // Waves of a few chunks per thread: progress is reported between them.
     // Each wave's outputs are appended (copies spread over the threads)
     // and their buffers go back to the pool for the next wave: memory
