@@ -5,7 +5,12 @@
 
 use crate::geometry::{Aperture, MirrorSurface};
 use super::slope::SlopeError;
+use crate::layout::Source;
 use crate::scene::{Part, Scene};
+
+/// Widening of an element's local z range, relative to the scene's size:
+/// far above the rounding of a point carried into the local frame.
+const SLAB_MARGIN: f64 = 1e-9;
 
 /// A layout-plane frame: origin (0, y, z), local z at angle θ from +z
 /// toward +y; `c`, `s` are cos θ and sin θ. Local x is global x.
@@ -139,6 +144,15 @@ pub(crate) struct Rec {
     pub by: f64,
     pub bz: f64,
     pub br: f64,
+    /// Local z range the element lies in, widened by the scene's rounding
+    /// margin: a ray starting beyond it and not heading back cannot meet
+    /// the element (a second, exact cull beside the sphere's).
+    pub z_lo: f64,
+    pub z_hi: f64,
+    /// Whether to apply that cull: only where rays can start inside the
+    /// bounding sphere (another element's or a source's sphere overlaps
+    /// it); elsewhere the sphere alone already drops the rays heading away.
+    pub slab: bool,
     /// Mirrors: power kept per reflection, and whether a ray leaving the
     /// face can meet it again on its next leg (see `Part::Mirror`).
     pub reflectivity: f64,
@@ -162,14 +176,15 @@ impl Compiled {
             .map(|e| {
                 let f = &e.frame;
                 let frame = PlaneFrame { oy: f.origin.y, oz: f.origin.z, c: f.ez.z, s: f.ez.y };
-                let (kind, reflectivity, no_return, slope) = match &e.part {
+                let (kind, reflectivity, no_return, slope, (z_lo, z_hi)) = match &e.part {
                     Part::Mirror { surface, reflectivity, no_return, slope } => {
-                        (mirror_kind(surface), *reflectivity, *no_return, *slope)
+                        (mirror_kind(surface), *reflectivity, *no_return, *slope, surface.z_range())
                     }
                     Part::Screen { half, circle, opaque, index } => {
-                        (Kind::Screen { half: *half, circle: *circle, opaque: *opaque, screen: *index }, 1.0, false, None)
+                        (Kind::Screen { half: *half, circle: *circle, opaque: *opaque, screen: *index }, 1.0, false, None, (0.0, 0.0))
                     }
                 };
+                let margin = SLAB_MARGIN * scene.scale.max(1.0);
                 Rec {
                     frame,
                     kind,
@@ -177,12 +192,32 @@ impl Compiled {
                     by: e.bound_center.y,
                     bz: e.bound_center.z,
                     br: e.bound_radius,
+                    z_lo: z_lo - margin,
+                    z_hi: z_hi + margin,
+                    slab: false,
                     reflectivity,
                     no_return,
                     slope,
                 }
             })
+            .collect::<Vec<Rec>>();
+        let sources = scene.sources.iter().map(|s| match s {
+            Source::Beam(b) => (b.center, 0.5 * b.diameter),
+            Source::Point(p) => (p.center, 0.0),
+        });
+        // (centre y, centre z, radius) of every place a ray can start from.
+        let starts: Vec<(f64, f64, f64)> = recs
+            .iter()
+            .map(|r| (r.by, r.bz, r.br))
+            .chain(sources.map(|(c, r)| (c[0], c[1], r)))
             .collect();
+        let mut recs = recs;
+        for (i, r) in recs.iter_mut().enumerate() {
+            // Every centre lies in the layout plane (x = 0).
+            r.slab = starts.iter().enumerate().any(|(j, &(y, z, rad))| {
+                j != i && (y - r.by).hypot(z - r.bz) < r.br + rad
+            });
+        }
         Compiled { recs }
     }
 }

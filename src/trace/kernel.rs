@@ -440,17 +440,33 @@ fn cull(r: &Rec, eps: f64, ox: f64, oy: f64, oz: f64, dx: f64, dy: f64, dz: f64,
 }
 
 /// The cull of every ray against element `k` into the `keep`/`t0`
-/// columns (a ray told to skip `k` is not kept); returns how many are kept.
+/// columns (a ray told to skip `k` is not kept, nor one beyond the
+/// element's local z range heading away from it: both could only miss);
+/// returns how many are kept.
 #[inline(always)]
 fn cull_body(r: &Rec, k: u32, eps: f64, b: &mut Batch, n: usize) -> usize {
+    if r.slab { cull_rays::<true>(r, k, eps, b, n) } else { cull_rays::<false>(r, k, eps, b, n) }
+}
+
+/// [`cull_body`]'s loop, with the z-range test when `SLAB`.
+#[inline(always)]
+fn cull_rays<const SLAB: bool>(r: &Rec, k: u32, eps: f64, b: &mut Batch, n: usize) -> usize {
     let (ox, oy, oz) = (&b.ox[..n], &b.oy[..n], &b.oz[..n]);
     let (dx, dy, dz) = (&b.dx[..n], &b.dy[..n], &b.dz[..n]);
     let (skip, tb) = (&b.skip[..n], &b.t[..n]);
     let (keep, t0) = (&mut b.keep[..n], &mut b.t0[..n]);
+    let f = r.frame;
     let mut kept = 0;
     for i in 0..n {
         let (kp, t) = cull(r, eps, ox[i], oy[i], oz[i], dx[i], dy[i], dz[i], tb[i]);
-        let kp = kp & (skip[i] != k as u64);
+        // Beyond the element's z range in its frame and not heading back:
+        // every point ahead is farther out (a focus above a deep dish).
+        let away = SLAB && {
+            let lz = (oy[i] - f.oy) * f.s + (oz[i] - f.oz) * f.c;
+            let ldz = dy[i] * f.s + dz[i] * f.c;
+            ((lz > r.z_hi) & (ldz >= 0.0)) | ((lz < r.z_lo) & (ldz <= 0.0))
+        };
+        let kp = kp & !away & (skip[i] != k as u64);
         keep[i] = kp as u64;
         t0[i] = t;
         kept += kp as usize;
