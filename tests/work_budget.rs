@@ -136,3 +136,22 @@ fn the_command_line_names_the_hit_limit() {
     assert!(out.is_empty());
     assert!(err.contains("screen hits") && err.lines().count() == 1, "{err}");
 }
+
+#[test]
+fn the_cap_is_shared_between_chunks_in_proportion_to_their_rays() {
+    // The arithmetic of a shared budget (common practice): if every chunk
+    // kept within its share, the whole trace would keep within the cap; so
+    // a trace whose hits exceed the cap must stop even though no single
+    // chunk records the whole cap. Here ~87 hits per ray, 40,000 rays in
+    // chunks of 16,384: a cap of 40 hits per ray in all is more than any
+    // one chunk records, and less than the trace does.
+    let sc = scene(&cavity(40_000, 200, 1, 0.0));
+    let full = trace(&sc, opts(2, 100_000_000));
+    let hits: u64 = full.screens.iter().map(|h| h.len() as u64).sum();
+    let cap = 40 * full.rays_launched;
+    let biggest_chunk = catoptric::trace::CHUNK as u64;
+    assert!(hits > cap && hits * biggest_chunk / full.rays_launched < cap, "{hits} hits against a cap of {cap}");
+    for threads in [1, 2] {
+        assert_eq!(trace(&sc, opts(threads, cap)).limit, Some(Limit::TooManyHits { cap }), "{threads} threads");
+    }
+}
