@@ -335,43 +335,36 @@ pub(crate) fn trace_range(
 }
 
 /// Puts a batch's hits on each screen in ray order. They already are unless
-/// a ray met one screen in two different rounds; then a stable counting
-/// sort by ray number (rounds keep their order) rearranges that batch's run.
+/// a ray met one screen in two different rounds; then that batch's run is
+/// a few ascending runs (one per round), and only its part from the first
+/// hit that a later round's hit must precede is sorted (stably, by ray
+/// number, so rounds keep their order) and rearranged.
 fn order_hits(b: &mut Batch, out: &mut [ScreenHits]) {
     for (r, o) in b.recorded.iter().zip(out.iter_mut()) {
         if r.sorted {
             continue;
         }
-        // Destination of each recorded hit: stable counting sort.
-        let at = &mut b.order;
-        at.clear();
-        at.resize(LANES + 1, 0);
-        for &ray in &r.rays {
-            at[ray as usize + 1] += 1;
-        }
-        for k in 1..at.len() {
-            at[k] += at[k - 1];
-        }
-        let dest: Vec<u32> = r
-            .rays
-            .iter()
-            .map(|&ray| {
-                let d = at[ray as usize];
-                at[ray as usize] += 1;
-                d
-            })
-            .collect();
-        let s = r.start;
+        let rays = &r.rays;
+        let Some(p) = rays.windows(2).position(|w| w[1] < w[0]).map(|i| i + 1) else { continue };
+        let low = rays[p..].iter().copied().min().unwrap_or(u32::MAX);
+        // Hits before `q` stay: no later hit's ray comes before theirs (a
+        // tie is the same ray, met in an earlier round).
+        let q = rays[..p].partition_point(|&x| x <= low);
+        let from = &mut b.order;
+        from.clear();
+        from.extend(q as u32..rays.len() as u32);
+        from.sort_by_key(|&i| rays[i as usize]);
+        let s = r.start + q;
         for col in [&mut o.u, &mut o.v, &mut o.du, &mut o.dv, &mut o.dw, &mut o.opl, &mut o.weight] {
             b.scratch.clear();
             b.scratch.extend_from_slice(&col[s..]);
-            for (j, &d) in dest.iter().enumerate() {
-                col[s + d as usize] = b.scratch[j];
+            for (d, &i) in col[s..].iter_mut().zip(from.iter()) {
+                *d = b.scratch[i as usize - q];
             }
         }
         let first: Vec<bool> = o.first[s..].to_vec();
-        for (j, &d) in dest.iter().enumerate() {
-            o.first[s + d as usize] = first[j];
+        for (d, &i) in o.first[s..].iter_mut().zip(from.iter()) {
+            *d = first[i as usize - q];
         }
     }
 }
