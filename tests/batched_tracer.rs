@@ -257,3 +257,21 @@ fn slope_errors_match_the_reference_bit_for_bit_on_any_threads_and_slices() {
         same(&merge_parts(&slices), &reference, &format!("slope errors in {parts} slices"));
     }
 }
+
+#[test]
+fn a_trace_too_large_to_write_in_place_merges_chunk_buffers_identically() {
+    // Rays × screens past the room reserved for writing hits in place
+    // (2²¹ slots): the threads trace into chunk buffers that are appended
+    // in ray order instead. A beam through a stack of 12 transparent
+    // screens, each ray crossing every one, on 1, 2 and 3 threads.
+    let screens: Vec<_> = (0..12).map(|i| screen(&format!("s{i}"), [0.0, 10.0 * i as f64], 180.0, 200.0, "square", false)).collect();
+    let text = layout(&screens, &[beam("beam", [0.0, -20.0], 0.0, 100.0, 180_000, "random")]);
+    let sc = scene(&text);
+    let one = trace(&sc, opts(None, 1));
+    let slots = one.rays_launched as usize * sc.screen_ids.len();
+    assert!(slots > 1 << 21, "{slots} slots");
+    assert!(one.screens.iter().all(|h| h.len() as u64 == one.rays_launched), "every ray crosses every screen");
+    for threads in [2, 3] {
+        same(&trace(&sc, opts(None, threads)), &one, &format!("{threads} threads"));
+    }
+}

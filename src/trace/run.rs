@@ -170,7 +170,7 @@ pub fn trace_part(
             done += n;
             progress(done, total);
         };
-        if total as usize <= DIRECT_MAX {
+        if (total as usize).saturating_mul(res.screens.len()) <= DIRECT_MAX {
             direct::parallel(scene, &comp, kernel, &ems, &chunks, threads, (&cap, max_hits), res, &mut report);
         } else {
             parallel(scene, &comp, kernel, &ems, &chunks, threads, (&cap, max_hits), res, &mut report);
@@ -179,9 +179,11 @@ pub fn trace_part(
     settle_limit(res);
 }
 
-/// Largest trace (rays) whose threads write their hits straight into the
-/// result (see [`direct`]); each screen reserves room for a hit per ray.
-/// Larger traces copy each wave's chunk buffers in instead.
+/// Most hit slots (rays × screens) a trace may reserve for its threads to
+/// write hits straight into the result (see [`direct`]: every screen holds
+/// a slot per ray, and chunks write all over that room, so a screen that
+/// records few hits still touches most of it). Larger traces copy each
+/// wave's chunk buffers in instead.
 #[cfg(not(target_arch = "wasm32"))]
 const DIRECT_MAX: usize = RESERVE_CAP;
 
