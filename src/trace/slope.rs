@@ -65,3 +65,46 @@ impl SlopeError {
         unit(&frame.to_world_dir(&reflect(&d, &tilted)))
     }
 }
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use rand_xoshiro::rand_core::{Rng, SeedableRng};
+    use rand_xoshiro::SplitMix64;
+
+    /// SplitMix64's first output from state `s`, by the rand_xoshiro crate
+    /// (checked there against Vigna's reference splitmix64.c).
+    fn splitmix(s: u64) -> u64 {
+        SplitMix64::seed_from_u64(s).next_u64()
+    }
+
+    #[test]
+    fn mix_is_the_splitmix64_finaliser() {
+        let mut s = 0x0123_4567_89ab_cdef_u64;
+        for seed in [0, 1, 42, 1 << 63, u64::MAX] {
+            assert_eq!(mix(seed), splitmix(seed), "state {seed}");
+        }
+        for _ in 0..1000 {
+            s = splitmix(s);
+            assert_eq!(mix(s), splitmix(s), "state {s}");
+        }
+    }
+
+    #[test]
+    fn gauss_pair_is_box_muller_of_the_hashed_counters() {
+        // The counters hashed as documented (mirror seed, then ray, then
+        // source in the high and event in the low 32 bits), two uniforms
+        // of 53 bits, and the Box–Muller transform (Box & Muller, Ann.
+        // Math. Statist. 29, 1958): √(−2 ln u1)·(cos, sin)(2π u2).
+        for (seed, src, ray, event) in [(7u64, 0u32, 0u64, 0u32), (0x9e37, 3, 123_456_789, 5), (u64::MAX, 65_535, u64::MAX, 17)] {
+            let h1 = splitmix(seed ^ splitmix(ray ^ splitmix((u64::from(src) << 32) | u64::from(event))));
+            let h2 = splitmix(h1);
+            let u1 = ((h1 >> 11) + 1) as f64 / 2f64.powi(53);
+            let u2 = (h2 >> 11) as f64 / 2f64.powi(53);
+            let r = (-2.0 * u1.ln()).sqrt();
+            let a = 2.0 * std::f64::consts::PI * u2;
+            let (g1, g2) = gauss_pair(seed, src, ray, event);
+            assert_eq!((g1.to_bits(), g2.to_bits()), ((r * a.cos()).to_bits(), (r * a.sin()).to_bits()), "{seed} {src} {ray} {event}");
+        }
+    }
+}
