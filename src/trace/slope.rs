@@ -107,4 +107,29 @@ mod tests {
             assert_eq!((g1.to_bits(), g2.to_bits()), ((r * a.cos()).to_bits(), (r * a.sin()).to_bits()), "{seed} {src} {ray} {event}");
         }
     }
+
+    #[test]
+    fn perturb_tilts_the_vertex_normal_along_local_x_and_y() {
+        // At the vertex (normal +z) the tangent axes are local x and
+        // n × x = y: the normal tilts to (σ·g1, σ·g2, 1)/norm and the ray
+        // leaves by the law of reflection about it (r = d − 2(d·n)n, Hecht,
+        // Optics, 5th ed., §4.3 in vector form).
+        let frame = Frame::in_plane([0.0, 0.0], 0.0);
+        let err = SlopeError { sigma: 0.01, seed: 99 };
+        let d = [0.0, 0.6, -0.8];
+        let out = Vec3::new(0.0, 0.6, 0.8); // d reflected by the ideal surface
+        for (src, ray, event) in [(0u32, 5u64, 1u32), (2, 77, 3)] {
+            let (g1, g2) = gauss_pair(err.seed, src, ray, event);
+            let m = [err.sigma * g1, err.sigma * g2, 1.0];
+            let len = (m[0] * m[0] + m[1] * m[1] + m[2] * m[2]).sqrt();
+            let m = m.map(|x| x / len);
+            let dm = d[0] * m[0] + d[1] * m[1] + d[2] * m[2];
+            let want: [f64; 3] = std::array::from_fn(|k| d[k] - 2.0 * dm * m[k]);
+            let got = err.perturb(&frame, &Vec3::new(0.0, 0.0, 1.0), &out, src, ray, event);
+            for k in 0..3 {
+                assert!((got[k] - want[k]).abs() < 1e-14, "{src} {ray} {event}: {got:?} against {want:?}");
+            }
+            assert!(g1.abs() > 1e-3 && g2.abs() > 1e-3, "both tilts matter here: {g1} {g2}");
+        }
+    }
 }
