@@ -215,3 +215,37 @@ pub fn sun_directions(shape: Sunshape, csr: f64, half: f64, n: usize, seed: u64)
     });
     (pts, sh.outer)
 }
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn limb_darkening_is_the_eddington_law() {
+        // I(μ)/I(1) = (2 + 3μ)/5: 1 at the centre, 2/5 at the limb
+        // (Mihalas, Stellar Atmospheres, 2nd ed. 1978, ch. 3).
+        for (mu, want) in [(1.0, 1.0), (0.0, 0.4), (0.5, 0.7), (0.2, 0.52)] {
+            assert!((limb_intensity(mu) - want).abs() < 1e-15, "I({mu}) = {}", limb_intensity(mu));
+        }
+    }
+
+    #[test]
+    fn the_limb_darkened_power_fraction_integrates_the_limb_law() {
+        // The sampler's closed form F(ρ) = (2 − μ² − μ³)/2 against
+        // Simpson's rule on ∫₀^ρ I(μ(r)) r dr / ∫₀^1 I(μ(r)) r dr, with
+        // μ = √(1 − r²) on a small-angle disk of unit radius.
+        let shape = Shape::new(Sunshape::Limb, 0.0, 1.0);
+        let f = |r: f64| limb_intensity((1.0 - r * r).max(0.0).sqrt()) * r;
+        let simpson = |b: f64| {
+            let n = 4000;
+            let h = b / n as f64;
+            let s: f64 = (1..n).map(|i| f(i as f64 * h) * if i % 2 == 1 { 4.0 } else { 2.0 }).sum();
+            (s + f(0.0) + f(b)) * h / 3.0
+        };
+        let total = simpson(1.0);
+        for k in [512, 2048, 4096, 6144, 8000] {
+            let (rho, cdf) = (shape.theta[k], shape.cdf[k]);
+            assert!((cdf - simpson(rho) / total).abs() < 1e-6, "ρ = {rho}: {cdf} against {}", simpson(rho) / total);
+        }
+    }
+}
