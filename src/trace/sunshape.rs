@@ -282,4 +282,29 @@ mod tests {
         let ours = buie_disk_integral();
         assert!(((ours - fine) / fine).abs() < 1e-9, "{ours} against {fine}");
     }
+
+    #[test]
+    fn the_aureole_power_at_gamma_minus_two_is_the_logarithmic_limit() {
+        // ∫ e^κ θ^γ θ dθ over [4.65, 43.6] is e^κ (b^p − a^p)/p with
+        // p = γ + 2, and e^κ ln(b/a) in the limit p → 0 (calculus). Find
+        // the χ where the published γ(χ) = 2.2 ln(0.52χ) χ^0.43 − 0.1
+        // (Buie et al. 2003) is −2 by bisection (γ falls as χ grows here).
+        let gamma = |chi: f64| 2.2 * (0.52 * chi).ln() * chi.powf(0.43) - 0.1;
+        let (mut lo, mut hi) = (0.01f64, 0.05f64);
+        for _ in 0..200 {
+            let mid = 0.5 * (lo + hi);
+            if gamma(mid) > -2.0 { lo = mid } else { hi = mid }
+        }
+        let chi = 0.5 * (lo + hi);
+        assert!((gamma(chi) + 2.0).abs() < 1e-13, "γ = {}", gamma(chi));
+        let kappa = 0.9 * (13.5 * chi).ln() * chi.powf(-0.3);
+        let limit = kappa.exp() * (BUIE_AUREOLE_MRAD / BUIE_DISK_MRAD).ln();
+        let at = buie_aureole_power(chi);
+        assert!(((at - limit) / limit).abs() < 1e-9, "{at} against {limit}");
+        // And the general form joins it on either side.
+        for f in [1.0 - 1e-4, 1.0 + 1e-4] {
+            let near = buie_aureole_power(chi * f);
+            assert!(((near - limit) / limit).abs() < 1e-3, "χ·{f}: {near} against {limit}");
+        }
+    }
 }
