@@ -352,3 +352,19 @@ pub fn merge_parts(parts: &[TraceResult]) -> TraceResult {
     settle_limit(&mut res);
     res
 }
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn a_trace_uses_every_core_unless_told_otherwise() {
+        // The command line's contract: `--threads N`, default every core
+        // the system offers; 0 is taken as 1.
+        let cores = std::thread::available_parallelism().map(|n| n.get()).unwrap_or(1);
+        assert_eq!(thread_count(&TraceOptions::default()), cores);
+        for (asked, used) in [(0, 1), (1, 1), (3, 3), (64, 64)] {
+            assert_eq!(thread_count(&TraceOptions { threads: Some(asked), ..Default::default() }), used);
+        }
+    }
+}
