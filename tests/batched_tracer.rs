@@ -177,6 +177,18 @@ fn thread_counts_give_identical_results_and_reports() {
 }
 
 #[test]
+fn a_trace_of_many_progress_waves_is_identical_on_any_thread_count() {
+    // More chunks than one progress wave holds (8 per thread): every wave's
+    // chunks must meet their own places in the result.
+    let sc = Scene::compile(&scenes()[0].layout);
+    let rays = 40 * catoptric::trace::CHUNK + 7;
+    let one = trace(&sc, opts(Some(rays), 1));
+    for threads in [2, 3] {
+        same(&trace(&sc, opts(Some(rays), threads)), &one, &format!("{rays} rays on {threads} threads"));
+    }
+}
+
+#[test]
 fn slices_merge_into_exactly_the_whole_trace() {
     // As the page's worker pool does: each worker traces slice k of K.
     for s in scenes() {
