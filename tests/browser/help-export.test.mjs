@@ -19,8 +19,8 @@ let env;
 before(async () => { env = await setUp(); });
 after(async () => { await tearDown(env); });
 
-async function openPage(viewport = { width: 1280, height: 800 }) {
-  const context = await env.browser.newContext({ viewport, acceptDownloads: true });
+async function openPage(viewport = { width: 1280, height: 800 }, reducedMotion = 'no-preference') {
+  const context = await env.browser.newContext({ viewport, acceptDownloads: true, reducedMotion });
   const page = await context.newPage();
   const seen = watchPage(page, env.origin);
   await page.goto(env.server.url);
@@ -133,22 +133,32 @@ function layoutSettled(page) {
 }
 
 test('the drawing exports as a PNG of the chosen size', { timeout: 120_000 }, async () => {
-  const { context, page, seen } = await openPage();
+  // Reduced motion: the drawer opens at once instead of sliding.
+  const { context, page, seen } = await openPage(undefined, 'reduce');
   try {
     await page.click('#btn-drawer'); // the canvas is short and wide now
     await page.evaluate(() => window.catoptric.clearMessage()); // an info strip would leave later and resize the canvas
     await layoutSettled(page);
     const canvasBefore = await page.evaluate(() => {
       const c = document.getElementById('canvas');
-      return { w: c.width, h: c.height, css: c.getBoundingClientRect().width, cssH: c.getBoundingClientRect().height, view: { ...window.catoptric.editor.view } };
+      return { w: c.width, h: c.height, view: { ...window.catoptric.editor.view } };
     });
 
     await page.click('#btn-export');
     await page.click('[data-export="png"]');
     assert.ok(await page.isVisible('#export-png'));
-    await page.click('#export-png [data-scale="3"]');
-    assert.equal(Number(await page.inputValue('#export-width')), Math.round(canvasBefore.css * 3));
-    assert.equal(Number(await page.inputValue('#export-height')), Math.round(canvasBefore.cssH * 3));
+    // The 3× button and the canvas's box read in one go: nothing can move in between.
+    const scaled = await page.evaluate(() => {
+      document.querySelector('#export-png [data-scale="3"]').click();
+      const r = document.getElementById('canvas').getBoundingClientRect();
+      const shown = (id) => !document.getElementById(id).hidden && document.getElementById(id).textContent.trim();
+      return {
+        w: Number(document.getElementById('export-width').value), h: Number(document.getElementById('export-height').value),
+        css: r.width, cssH: r.height, strips: [shown('message'), shown('trace-notice')],
+      };
+    });
+    assert.equal(scaled.w, Math.round(scaled.css * 3), JSON.stringify(scaled));
+    assert.equal(scaled.h, Math.round(scaled.cssH * 3), JSON.stringify(scaled));
 
     // A bad size names its field and saves nothing.
     await page.fill('#export-width', '20000');
@@ -169,9 +179,10 @@ test('the drawing exports as a PNG of the chosen size', { timeout: 120_000 }, as
     await layoutSettled(page);
     const canvasAfter = await page.evaluate(() => {
       const c = document.getElementById('canvas');
-      return { w: c.width, h: c.height, view: { ...window.catoptric.editor.view } };
+      const shown = (id) => !document.getElementById(id).hidden && document.getElementById(id).textContent.trim();
+      return { w: c.width, h: c.height, view: { ...window.catoptric.editor.view }, strips: [shown('message'), shown('trace-notice')] };
     });
-    assert.deepEqual({ w: canvasAfter.w, h: canvasAfter.h }, { w: canvasBefore.w, h: canvasBefore.h });
+    assert.deepEqual({ w: canvasAfter.w, h: canvasAfter.h }, { w: canvasBefore.w, h: canvasBefore.h }, JSON.stringify(canvasAfter.strips));
     assert.deepEqual(canvasAfter.view, canvasBefore.view, 'the page keeps its view');
     assert.deepEqual(seen.errors, []);
   } finally {
