@@ -34,6 +34,9 @@ const NONE: u32 = u32::MAX;
 /// A ray free to meet any element (as wide as the float columns, so that
 /// masks mixing the two need no repacking).
 const NO_SKIP: u64 = u64::MAX;
+/// Lanes compared at a time when looking for a ray free to meet an element
+/// (speed only).
+const SKIP_BLOCK: usize = 64;
 /// A reflected ray's second root on its own conic is trusted to rule a
 /// return out only when it lies more than this many self-hit distances
 /// (`Scene::t_eps`) from the hit: closer, the two roots are nearly equal
@@ -272,6 +275,9 @@ kernels! {
     fn reflect_conic => reflect_conic_body(rec: &Rec, cr: &ConicRec, k: u32, max_bounces: u32, eps: f64, predict: bool, b: &mut Batch, n: usize) -> ();
     /// Crossing a screen.
     fn cross => cross_body(rec: &Rec, k: u32, opaque: bool, b: &mut Batch, n: usize) -> ();
+    /// One batch's rounds: the bookkeeping between the kernels (fills,
+    /// counts, lane lists, packing) compiled for the same machine.
+    fn run_batch => run_batch_body(scene: &Scene, comp: &Compiled, kern: Kernel, b: &mut Batch, n: usize, src: u32, out: &mut [ScreenHits], tally: &mut Tally) -> ();
 }
 
 /// Takes a batch's hits, in ray order, from the per-screen buffers.
@@ -319,7 +325,7 @@ pub(crate) fn trace_range(
             r.rays.clear();
             r.sorted = true;
         }
-        run_batch(scene, comp, kernel, batch, n, src, out, &mut tally);
+        run_batch(kernel, scene, comp, kernel, batch, n, src, out, &mut tally);
         order_hits(batch, out);
         recorded += batch.recorded.iter().zip(out.iter()).map(|(r, o)| o.len() - r.start).sum::<usize>();
         if let Some(f) = flush.as_mut() {
@@ -369,17 +375,19 @@ fn order_hits(b: &mut Batch, out: &mut [ScreenHits]) {
     }
 }
 
+#[inline(always)]
 #[allow(clippy::too_many_arguments)]
-fn run_batch(
+fn run_batch_body(
     scene: &Scene,
     comp: &Compiled,
     kernel: Kernel,
     b: &mut Batch,
-    mut n: usize,
+    n: usize,
     src: u32,
     out: &mut [ScreenHits],
     tally: &mut Tally,
 ) {
+    let mut n = n;
     let max_events = (scene.max_bounces as usize + 1) * (scene.elements.len() + 1);
     let eps = scene.t_eps;
     for round in 0..max_events {
@@ -395,7 +403,9 @@ fn run_batch(
                 b.touched[k] = general(scene, rec, k, eps, b, n) > 0;
                 continue;
             }
-            if b.skip[..n].iter().filter(|&&s| s != k as u64).count() == 0 {
+            // Blocks of lanes, each compared whole (vectorised), so the
+            // usual answer comes from the first block.
+            if !b.skip[..n].chunks(SKIP_BLOCK).any(|c| c.iter().fold(false, |a, &s| a | (s != k as u64))) {
                 continue; // no ray of the batch can meet it on this leg
             }
             let kept = cull_pass(kernel, rec, k as u32, eps, b, n);
@@ -594,6 +604,7 @@ fn general(scene: &Scene, r: &Rec, k: usize, eps: f64, b: &mut Batch, n: usize) 
 /// Applies every ray's nearest hit, element by element (reflect, record,
 /// absorb), counts the rays that escaped, then packs the live rays to the
 /// front in order. Returns how many live on.
+#[inline(always)]
 #[allow(clippy::too_many_arguments)]
 fn shade(
     scene: &Scene,
@@ -643,7 +654,7 @@ fn shade(
 }
 
 /// col[j] = col[sel[j]] for ascending `sel` (sel[j] ≥ j, so in place).
-#[inline]
+#[inline(always)]
 fn gather<T: Copy>(col: &mut [T], sel: &[u32]) {
     for (j, &i) in sel.iter().enumerate() {
         col[j] = col[i as usize];
@@ -652,6 +663,7 @@ fn gather<T: Copy>(col: &mut [T], sel: &[u32]) {
 
 /// Screen `k`: rays arriving on the sensitive face are recorded (in the
 /// screen frame); the ray goes on unless the screen is opaque.
+#[inline(always)]
 #[allow(clippy::too_many_arguments)]
 fn record(rec: &Rec, k: u32, opaque: bool, kernel: Kernel, b: &mut Batch, n: usize, src: u32, o: &mut ScreenHits, screen: usize) {
     cross(kernel, rec, k, opaque, b, n);
@@ -700,7 +712,11 @@ fn record(rec: &Rec, k: u32, opaque: bool, kernel: Kernel, b: &mut Batch, n: usi
     }
     o.source.extend(std::iter::repeat_n(src, m));
     let ray = &b.ray[..n];
-    r.rays.extend(lanes.iter().map(|&i| ray[i as usize]));
+    if m == n {
+        r.rays.extend_from_slice(ray);
+    } else {
+        r.rays.extend(lanes.iter().map(|&i| ray[i as usize]));
+    }
     // A hit is the ray's first on this screen unless the batch recorded
     // the ray here in an earlier round.
     if before == 0 {
@@ -716,7 +732,7 @@ fn record(rec: &Rec, k: u32, opaque: bool, kernel: Kernel, b: &mut Batch, n: usi
 
 /// Writes the numbers of the lanes where `on` holds, in order, to the
 /// front of `sel` (as long as `on`).
-#[inline]
+#[inline(always)]
 fn list_lanes(on: &[bool], sel: &mut [u32]) {
     let mut j = 0;
     for (i, &a) in on.iter().enumerate() {
