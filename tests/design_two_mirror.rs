@@ -123,6 +123,17 @@ fn layout_is_valid_and_round_trips() {
         let srcs: Vec<&str> = d.layout.sources.iter().map(|s| s.id()).collect();
         assert_eq!(srcs, ["on-axis", "off-axis"]);
     }
+    // The layout is named after its form (the forms' names as in
+    // Schroeder, ch. 6), diameter and focal ratio F/D = 3200/300.
+    for (kind, title) in [
+        (TwoMirrorKind::Cassegrain, "Classical Cassegrain"),
+        (TwoMirrorKind::RitcheyChretien, "Ritchey–Chrétien"),
+        (TwoMirrorKind::DallKirkham, "Dall–Kirkham"),
+        (TwoMirrorKind::Gregorian, "Classical Gregorian"),
+        (TwoMirrorKind::AplanaticGregorian, "Aplanatic Gregorian"),
+    ] {
+        assert_eq!(design(kind, 0.3).layout.name, format!("{title} 300 mm f/10.67"), "{kind:?}");
+    }
     let d = design(TwoMirrorKind::Cassegrain, 0.0);
     assert_eq!(d.layout.sources.len(), 1, "no field, no off-axis beam");
 }

@@ -69,3 +69,25 @@ fn first_arrivals_are_flagged_alike_by_both_tracers() {
     let one = trace(&scene(&ellipsoidal_cavity(1)), opts);
     assert!(one.screens[0].first.iter().all(|&f| f));
 }
+
+#[test]
+fn first_arrivals_are_counted_on_any_screen_of_the_layout() {
+    // The same cavity with the crossed screen listed after two others (out
+    // of every ray's way, beside the cavity): still one first arrival per
+    // launched ray, from the reference tracer as from the batched one.
+    let mut v: serde_json::Value = serde_json::from_str(&ellipsoidal_cavity(16)).unwrap();
+    let elements = v["elements"].as_array_mut().unwrap();
+    for (i, id) in ["aside-1", "aside-2"].iter().enumerate() {
+        elements.insert(0, screen(id, [500.0 + 50.0 * i as f64, 0.0], 0.0, 2.0, "circle", false));
+    }
+    let sc = scene(&v.to_string());
+    let focus = sc.screen_ids.iter().position(|s| s == "focus").unwrap();
+    assert_eq!(focus, 2);
+    let opts = TraceOptions { rays: Some(300), ..Default::default() };
+    for res in [trace_reference(&sc, opts), trace(&sc, opts)] {
+        let hits = &res.screens[focus];
+        assert!(hits.len() as u64 > 2 * res.rays_launched, "rays come back: {} crossings", hits.len());
+        assert_eq!(hits.first.iter().filter(|&&f| f).count() as u64, res.rays_launched);
+        assert!(res.screens[0].is_empty() && res.screens[1].is_empty());
+    }
+}

@@ -59,10 +59,6 @@ impl ScreenHits {
         self.source.reserve(n);
         self.first.reserve(n);
     }
-    /// Appends every hit of `o`.
-    pub fn append(&mut self, o: &ScreenHits) {
-        self.extend_range(o, 0..o.len());
-    }
     /// Appends hits `r` of `o`.
     pub fn extend_range(&mut self, o: &ScreenHits, r: std::ops::Range<usize>) {
         self.u.extend_from_slice(&o.u[r.clone()]);
