@@ -219,4 +219,130 @@ fn a_primary_faster_than_f_1_5_is_flagged() {
     assert_eq!(d.warnings.len(), 1, "{:?}", d.warnings);
     assert!(d.warnings[0].contains("f/1 ") && d.warnings[0].contains("f/1.5"), "{}", d.warnings[0]);
     assert!(design(TwoMirrorKind::RitcheyChretien, 0.0).warnings.is_empty(), "the f/4 primary of the worked example");
+    let edge = TwoMirrorSpec { primary_focal: 450.0, ..fast };
+    assert!(design_two_mirror(&edge).expect("valid").warnings.is_empty(), "f/1.5 itself is not faster than f/1.5");
+}
+
+/// Conic sag z(ρ) = cρ² / (1 + √(1 − (1+K)c²ρ²)), c = 1/R (the standard
+/// conic section of revolution, e.g. Schroeder ch. 2).
+fn sag(r: f64, k: f64, rho: f64) -> f64 {
+    let c = 1.0 / r;
+    c * rho * rho / (1.0 + (1.0 - (1.0 + k) * c * c * rho * rho).sqrt())
+}
+
+#[test]
+fn the_hole_passes_every_traced_ray_of_the_field_and_no_more() {
+    // Independent of the design's first-order rule: the meridional fans of
+    // the on-axis and the edge-of-field beams are traced, and each ray's
+    // leg from the secondary to the focus is followed to where it crosses
+    // the primary's surface (z = −sag(ρ), the primary facing −z at the
+    // origin). The hole must be as wide as the widest crossing, to the
+    // first order's accuracy (the cone's real and paraxial heights differ
+    // by a fraction of the primary's sag over its focal length, 0.4 %).
+    for kind in [TwoMirrorKind::Cassegrain, TwoMirrorKind::RitcheyChretien] {
+        for field in [0.0, 0.3] {
+            let d = design(kind, field);
+            let (r1, k1) = (d.primary.radius_mm, d.primary.conic);
+            let scene = Scene::compile(&d.layout);
+            let fan = catoptric::trace::trace_fan(&scene, 2001, None);
+            // Legs in order per (source, ray); the third is secondary → focus.
+            let mut legs: std::collections::BTreeMap<(u16, u32), Vec<[f64; 4]>> = Default::default();
+            for (i, s) in fan.segments.chunks_exact(4).enumerate() {
+                legs.entry((fan.source[i], fan.ray[i])).or_default().push([s[0] as f64, s[1] as f64, s[2] as f64, s[3] as f64]);
+            }
+            let mut widest = 0.0f64;
+            let mut followed = 0;
+            for l in legs.values().filter(|l| l.len() >= 3) {
+                let [ya, za, yb, zb] = l[2];
+                assert!(za < -0.5 * d.separation_mm && zb > 0.0, "{kind:?}: leg {:?}", l[2]);
+                // Bisection on z(t) + sag(|y(t)|) = 0: negative at the
+                // secondary, positive at the focus screen.
+                let f = |t: f64| za + t * (zb - za) + sag(r1, k1, (ya + t * (yb - ya)).abs());
+                let (mut lo, mut hi) = (0.0, 1.0);
+                assert!(f(lo) < 0.0 && f(hi) > 0.0);
+                for _ in 0..100 {
+                    let mid = 0.5 * (lo + hi);
+                    if f(mid) < 0.0 { lo = mid } else { hi = mid }
+                }
+                widest = widest.max((ya + lo * (yb - ya)).abs());
+                followed += 1;
+            }
+            assert!(followed > 50, "{kind:?} {field}°: {followed} rays reach the focus");
+            let half = 0.5 * d.primary.hole_mm;
+            assert!((half - widest).abs() < 0.005 * widest, "{kind:?} {field}°: hole radius {half} mm, widest crossing {widest} mm");
+        }
+    }
+}
+
+#[test]
+fn focal_ratio_and_obstruction_of_the_worked_example() {
+    // Focal ratio N = F/D (the definition); the linear obstruction is the
+    // secondary's diameter over the primary's (common practice).
+    let d = design(TwoMirrorKind::Cassegrain, 0.2);
+    assert!(rel(d.focal_ratio, 3200.0 / 300.0) < 1e-12);
+    assert!(rel(d.obstruction_fraction, d.secondary.diameter_mm / 300.0) < 1e-12);
+    assert!(d.obstruction_fraction > 0.3 && d.obstruction_fraction < 0.4);
+}
+
+#[test]
+fn refusals_state_the_rule_that_was_broken() {
+    // Schroeder ch. 6 sign conventions: |m| = F/f₁ > 1, 0 < k < 1 for a
+    // Cassegrain (the secondary between the primary and its focus, so
+    // B < m·f₁), and the secondary smaller than the primary.
+    let refused = |s: TwoMirrorSpec| design_two_mirror(&s).expect_err("must be refused");
+    let cass = spec(TwoMirrorKind::Cassegrain, 0.0);
+    for f in [1200.0, 1200.0 * (1.0 + 5e-10)] {
+        let e = refused(TwoMirrorSpec { focal: f, ..cass });
+        assert_eq!(e.field, "focal");
+        assert!(e.message.contains("must be longer than the primary focal length"), "{e}");
+    }
+    // B = m·f₁ = 3200 puts the secondary on the primary; a micrometre short
+    // of it still does (separation f₁(1 − k) ≈ 6·10⁻⁷ mm).
+    for b in [3200.0, 3300.0, 3200.0 - 2.2e-6] {
+        let e = refused(TwoMirrorSpec { back_focus: b, ..cass });
+        assert_eq!(e.field, "back_focus");
+        assert!(e.message.contains("at or behind the primary") && e.message.contains("less than m·f₁"), "{e}");
+    }
+    let e = refused(TwoMirrorSpec { back_focus: -5.0, ..cass });
+    assert!(e.message.contains("must be greater than 0"), "{e}");
+    // A secondary wider than the primary: from the field (10°: |k|D +
+    // 2d·tan θ = 98.9 + 283.7 mm) it names the field; when even the
+    // on-axis beam needs it (a Gregorian with m = −1.5 and β = 0.2 has
+    // k = 1.2/(−0.5) = −2.4) it names the back focus, with a field or not.
+    let e = refused(TwoMirrorSpec { field_deg: 10.0, ..cass });
+    assert_eq!(e.field, "field_deg", "{e}");
+    assert!(e.message.contains("the secondary would need a diameter"), "{e}");
+    for field in [0.0, 0.5] {
+        let greg = TwoMirrorSpec { focal: 1800.0, back_focus: 240.0, ..spec(TwoMirrorKind::Gregorian, field) };
+        let e = refused(greg);
+        assert_eq!(e.field, "back_focus", "{e}");
+        assert!(e.message.contains("the secondary would need a diameter"), "{e}");
+    }
+}
+
+#[test]
+fn beams_start_clear_of_the_secondary_aimed_at_the_primary_vertex() {
+    // The layout's stated rules (docs/FORMATS.md): each beam starts
+    // ⌈d + |secondary sag at its rim| + 0.05·D + 1⌉ mm (whole mm) from the
+    // primary vertex, back along its own direction, so its centre line
+    // meets the vertex; the screen `focus` is ⌈max(3·F·tan θ, 0.02·D,
+    // 1)⌉ mm wide (to 0.5 mm): twice the field's image height F·tan θ
+    // with margin.
+    use catoptric::layout::Source;
+    for field in [0.0, 0.3] {
+        let d = design(TwoMirrorKind::Cassegrain, field);
+        let s = &d.secondary;
+        let launch = (d.separation_mm + sag(s.radius_mm, s.conic, 0.5 * s.diameter_mm).abs() + 0.05 * 300.0 + 1.0).ceil();
+        assert!(launch > d.separation_mm + 10.0);
+        for src in &d.layout.sources {
+            let Source::Beam(b) = src else { panic!("beams only") };
+            let (sn, cs) = b.direction_deg.to_radians().sin_cos();
+            assert!((b.center[0] + launch * sn).abs() < 1e-9 && (b.center[1] + launch * cs).abs() < 1e-9, "{} at {:?}, launch {launch}", b.id, b.center);
+            assert_eq!(b.diameter, 300.0);
+        }
+        let Some(Element::Screen(screen)) = d.layout.elements.iter().find(|e| e.id() == "focus") else { panic!("screen focus") };
+        let want = ((3.0 * 3200.0 * field.to_radians().tan()).max(0.02 * 300.0).max(1.0) / 0.5).ceil() * 0.5;
+        assert_eq!(screen.size, want, "field {field}°");
+        assert!(!d.layout.to_json_pretty().contains("-0.0"), "no negative zero in the layout");
+    }
 }
