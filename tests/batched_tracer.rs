@@ -123,6 +123,29 @@ fn a_ray_meeting_one_concave_mirror_twice_is_traced_like_the_reference() {
 }
 
 #[test]
+fn a_tie_between_two_elements_goes_to_the_one_listed_first() {
+    // A screen in the tangent plane of a concave mirror's vertex: the
+    // beam's central ray (the hex lattice's centre point) meets both at
+    // the same distance. Both tracers give it to the element listed first
+    // (common practice for a deterministic tie rule): the mirror, which
+    // sends it straight back, so the screen — behind every other ray's
+    // hit on the mirror's rising face — records nothing; listed the other
+    // way round, the screen takes that one ray.
+    let text = |mirror_first: bool| {
+        let m = mirror("bowl", [0.0, 0.0], 180.0, Some(200.0), 0.0, 40.0, 0.0, 0.0, None);
+        let s = screen("touch", [0.0, 0.0], 180.0, 1.0, "circle", false);
+        let elements = if mirror_first { [m, s] } else { [s, m] };
+        layout(&elements, &[beam("beam", [0.0, -100.0], 0.0, 20.0, 301, "hex")])
+    };
+    for (mirror_first, hits) in [(true, 0), (false, 1)] {
+        let sc = scene(&text(mirror_first));
+        let reference = trace_reference(&sc, opts(None, 1));
+        assert_eq!(reference.screens[0].len(), hits, "mirror listed first: {mirror_first}");
+        same(&trace(&sc, opts(None, 2)), &reference, &format!("mirror listed first: {mirror_first}"));
+    }
+}
+
+#[test]
 fn rays_meeting_a_deep_bowl_again_straight_after_reflecting_match_the_reference() {
     // The batched tracer rules out a return to the mirror just left from
     // the reflected line's second root on the conic (it keeps the root's

@@ -91,3 +91,32 @@ fn first_arrivals_are_counted_on_any_screen_of_the_layout() {
         assert!(res.screens[0].is_empty() && res.screens[1].is_empty());
     }
 }
+
+#[test]
+fn a_stack_of_screens_is_crossed_on_the_way_out_and_back_with_one_bounce() {
+    // Three transparent screens in a beam in front of a plane mirror
+    // (law of reflection: the normal beam comes straight back), one
+    // bounce allowed: each ray crosses all three going out (their backs),
+    // reflects, and crosses them again coming back, where their faces
+    // record it — seven events per ray, each screen one hit per ray.
+    let mut v: serde_json::Value = serde_json::from_str(&layout(
+        &[
+            screen("a", [0.0, 10.0], 0.0, 40.0, "square", false),
+            screen("b", [0.0, 20.0], 0.0, 40.0, "square", false),
+            screen("c", [0.0, 30.0], 0.0, 40.0, "square", false),
+            mirror("flat", [0.0, 50.0], 180.0, None, 0.0, 40.0, 0.0, 0.0, None),
+        ],
+        &[beam("beam", [0.0, 0.0], 0.0, 20.0, 500, "hex")],
+    ))
+    .unwrap();
+    v["max_bounces"] = serde_json::json!(1);
+    let sc = scene(&v.to_string());
+    let opts = TraceOptions::default();
+    for res in [trace_reference(&sc, opts), trace(&sc, opts)] {
+        for (k, h) in res.screens.iter().enumerate() {
+            assert_eq!(h.len() as u64, res.rays_launched, "screen {k}");
+            assert!(h.dw.iter().all(|&w| (w + 1.0).abs() < 1e-12), "arriving head-on");
+        }
+        assert_eq!(res.rays_escaped, res.rays_launched);
+    }
+}
