@@ -325,6 +325,8 @@ pub(crate) fn trace_range(
             r.rays.clear();
             r.sorted = true;
         }
+        // The first `kernel` picks the compiled copy, the second is passed on
+        // to the kernels that copy calls.
         run_batch(kernel, scene, comp, kernel, batch, n, src, out, &mut tally);
         order_hits(batch, out);
         recorded += batch.recorded.iter().zip(out.iter()).map(|(r, o)| o.len() - r.start).sum::<usize>();
