@@ -142,6 +142,13 @@ fn too_few_samples_do_not_fit() {
     assert!((c[4] - 0.3).abs() < 1e-6 && (c[7] + 0.1).abs() < 1e-6, "{} {}", c[4], c[7]);
     let m = TERMS - 1;
     assert!(fit(&x[..m], &y[..m], &w[..m], &values[..m]).is_none());
+    // Weighted least squares with every weight zero (rays that carry no
+    // power) weighs nothing: no fit, rather than all-zero coefficients.
+    assert!(fit(&x, &y, &vec![0.0; TERMS], &values).is_none());
+    // A weight that is not a number poisons the sums: no fit either.
+    let mut bad = w.clone();
+    bad[3] = f64::NAN;
+    assert!(fit(&x, &y, &bad, &values).is_none());
 }
 
 #[test]

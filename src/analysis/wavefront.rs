@@ -235,6 +235,10 @@ impl<'s, 'a> Fit<'s, 'a> {
         });
         let ns = Matrix3::from_fn(|i, j| n[(i, j)] * scale[i] * scale[j]);
         let rs = r.component_mul(&scale);
+        // Checked before the SVD, whose iteration need not end on a NaN.
+        if !(ns.iter().all(|v| v.is_finite()) && rs.iter().all(|v| v.is_finite())) {
+            return None;
+        }
         let svd = ns.svd(true, true);
         let smax = svd.singular_values.max();
         let sol = if smax > 0.0 { svd.solve(&rs, smax * FIT_RCOND).ok()? } else { Vector3::zeros() };

@@ -119,7 +119,8 @@ pub fn zernike_all(x: f64, y: f64, out: &mut [f64; TERMS]) {
 
 /// Weighted least-squares Zernike coefficients (in the unit of `values`)
 /// of samples at pupil points (`x`, `y`) with weights `w`. `None` when
-/// there are fewer samples than terms or the sums are not finite.
+/// there are fewer samples than terms, every weight is zero or the sums
+/// are not finite.
 pub fn fit(x: &[f64], y: &[f64], w: &[f64], values: &[f64]) -> Option<[f64; TERMS]> {
     let n = x.len().min(y.len()).min(w.len()).min(values.len());
     if n < TERMS {
@@ -143,6 +144,10 @@ pub fn fit(x: &[f64], y: &[f64], w: &[f64], values: &[f64]) -> Option<[f64; TERM
         for b in 0..a {
             ata[(a, b)] = ata[(b, a)];
         }
+    }
+    // Checked before the SVD, whose iteration need not end on a NaN.
+    if !(ata.iter().all(|v| v.is_finite()) && atb.iter().all(|v| v.is_finite())) {
+        return None;
     }
     let svd = ata.svd(true, true);
     let smax = svd.singular_values.max();
