@@ -109,6 +109,17 @@ fn secondary_and_hole_follow_the_stated_rules() {
     let d0 = design(TwoMirrorKind::Cassegrain, 0.0);
     let at_vertex = 300.0 * 250.0 / 3200.0;
     assert!(d0.primary.hole_mm > at_vertex && rel(d0.primary.hole_mm, at_vertex) < 1e-3, "{}", d0.primary.hole_mm);
+    // Exactly where the cone meets the surface: ρ = |k|(D/2)·(B + z(ρ))/(d + B),
+    // z the primary's sag (the surface lies z in front of the vertex
+    // plane), solved here by bisection.
+    let (k, sep) = (d0.height_ratio.abs(), d0.separation_mm);
+    let g = |rho: f64| k * 150.0 * (250.0 + sag(d0.primary.radius_mm, d0.primary.conic, rho)) / (sep + 250.0) - rho;
+    let (mut lo, mut hi) = (0.0, 150.0);
+    for _ in 0..200 {
+        let mid = 0.5 * (lo + hi);
+        if g(mid) > 0.0 { lo = mid } else { hi = mid }
+    }
+    assert!(rel(0.5 * d0.primary.hole_mm, lo) < 1e-12, "{} vs {lo}", 0.5 * d0.primary.hole_mm);
 }
 
 #[test]
@@ -345,4 +356,26 @@ fn beams_start_clear_of_the_secondary_aimed_at_the_primary_vertex() {
         assert_eq!(screen.size, want, "field {field}°");
         assert!(!d.layout.to_json_pretty().contains("-0.0"), "no negative zero in the layout");
     }
+}
+
+#[test]
+fn a_conic_that_ends_before_its_rim_is_refused_naming_its_mirror() {
+    // A conic of revolution with 1 + K > 0 exists only out to ρ = |R|/√(1+K)
+    // (Schroeder ch. 2: the sag's square root turns imaginary there). Dall–
+    // Kirkham (spherical secondary, K₁ + 1 = k(m−1)(m+1)²/m³ from the
+    // spherical-aberration condition with K₂ = 0):
+    let dk = |primary_focal, focal, back_focus| TwoMirrorSpec {
+        kind: TwoMirrorKind::DallKirkham, diameter: 300.0, primary_focal, focal, back_focus, field_deg: 0.0,
+    };
+    // f₁ = 30, m = 4, β = 1/3: k = 4/15, K₁ + 1 = 0.3125, the primary ends
+    // at ρ = 60/√0.3125 = 107 mm, inside its 150 mm semi-diameter.
+    let e = design_two_mirror(&dk(30.0, 120.0, 10.0)).expect_err("the primary cannot reach its rim");
+    assert_eq!(e.field, "primary_focal", "{e}");
+    assert!(e.message.contains("ends at ρ = 107."), "{e}");
+    // f₁ = 50, m = 4, β = 0.1: k = 0.22, the primary reaches (ends at
+    // 197 mm) but the spherical secondary (|R₂| = 2mkf₁/(m−1) = 29.33 mm)
+    // would need a 33 mm semi-diameter.
+    let e = design_two_mirror(&dk(50.0, 200.0, 5.0)).expect_err("the secondary cannot reach its rim");
+    assert_eq!(e.field, "back_focus", "{e}");
+    assert!(e.message.contains("ends at ρ = 29.3") && e.message.contains("semi-diameter 33.0"), "{e}");
 }

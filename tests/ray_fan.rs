@@ -63,3 +63,27 @@ fn an_escaping_leg_is_drawn_for_the_asked_length_or_twice_the_scene() {
         assert_eq!(seen, 5, "{extend:?}");
     }
 }
+
+#[test]
+fn a_lamps_fan_spreads_evenly_in_angle_across_its_cone() {
+    // Definition of the meridional fan of a point source (common practice):
+    // n rays evenly spaced in angle from one edge of the cone to the
+    // other, in the drawing's plane. A lamp at (10, −20) pointing at 30°
+    // with a 20° half-angle: five rays at 10°, 20°, 30°, 40° and 50°
+    // (angles from +z toward +y, as `direction_deg`), each escaping for
+    // the asked length from the lamp.
+    let text = layout(
+        &[screen("away", [0.0, -500.0], 0.0, 10.0, "square", false)],
+        &[lamp("l", [10.0, -20.0], 30.0, 20.0, 100, 1.0)],
+    );
+    let sc = scene(&text);
+    let fan = trace_fan(&sc, 5, Some(100.0));
+    assert_eq!(fan.ray, [0, 1, 2, 3, 4], "one escaping leg per ray");
+    for (j, s) in fan.segments.chunks_exact(4).enumerate() {
+        let (dy, dz) = (s[2] as f64 - s[0] as f64, s[3] as f64 - s[1] as f64);
+        assert!((s[0] as f64 - 10.0).abs() < 1e-5 && (s[1] as f64 + 20.0).abs() < 1e-5, "ray {j} starts at the lamp");
+        assert!((dy.hypot(dz) - 100.0).abs() < 1e-3, "ray {j} length");
+        let angle = dy.atan2(dz).to_degrees();
+        assert!((angle - (10.0 + 10.0 * j as f64)).abs() < 1e-4, "ray {j} at {angle}°");
+    }
+}
