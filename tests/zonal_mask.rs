@@ -46,4 +46,61 @@ fn mask_refuses_bad_input() {
     assert_eq!(zonal_mask_svg(0.0, 5).unwrap_err().field, "diameter");
     assert_eq!(zonal_mask_svg(200.0, 0).unwrap_err().field, "zones");
     assert_eq!(zonal_mask_svg(f64::NAN, 3).unwrap_err().field, "diameter");
+    // The stated limits are inclusive: 5000 mm and 100 zones are drawn,
+    // one step past either is refused naming its field.
+    assert!(zonal_mask_svg(5000.0, 100).is_ok());
+    assert_eq!(zonal_mask_svg(5000.5, 5).unwrap_err().field, "diameter");
+    assert_eq!(zonal_mask_svg(200.0, 101).unwrap_err().field, "zones");
+}
+
+/// Numbers of attribute `name` on every element whose tag starts `tag`
+/// and whose class is `class`.
+fn nums(svg: &str, tag: &str, class: &str, name: &str) -> Vec<f64> {
+    let marked: Vec<&str> = svg.split('<').filter(|e| e.starts_with(tag) && e.contains(&format!("class=\"{class}\""))).collect();
+    marked.iter().flat_map(|e| attrs(&format!("<{e}"), tag, name)).map(|v| v.parse().unwrap()).collect()
+}
+
+#[test]
+fn openings_sit_on_each_zone_either_side_of_the_centre() {
+    // The zonal (Couder) screen: one opening over each zone on both sides
+    // of the centre along a diameter, through which the zone is read
+    // (Texereau, How to Make a Telescope, 2nd ed., ch. 4, from memory).
+    // D = 200, N = 5: centre at the 12 mm margin plus a = 112 mm; edges as
+    // above; openings D/12 = 16.67 mm tall, centred on the diameter.
+    let svg = zonal_mask_svg(200.0, 5).unwrap();
+    let edges = [0.0, 44.72136, 63.24555, 77.45967, 89.44272, 100.0];
+    let (cx, cy, win) = (112.0, 112.0, 200.0 / 12.0);
+    for v in nums(&svg, "circle", "zone-edge", "cx").iter().chain(&nums(&svg, "circle", "zone-edge", "cy")) {
+        assert!((v - 112.0).abs() < 1e-9, "circles centred on the mirror: {v}");
+    }
+    let (xs, ws) = (nums(&svg, "rect", "opening", "x"), nums(&svg, "rect", "opening", "width"));
+    let (ys, hs) = (nums(&svg, "rect", "opening", "y"), nums(&svg, "rect", "opening", "height"));
+    assert_eq!(xs.len(), 10, "two openings per zone");
+    let mut spans: Vec<(f64, f64)> = xs.iter().zip(&ws).map(|(&x, &w)| (x, x + w)).collect();
+    spans.sort_by(|a, b| a.0.total_cmp(&b.0));
+    let mut want: Vec<(f64, f64)> = edges.windows(2).flat_map(|e| [(cx - e[1], cx - e[0]), (cx + e[0], cx + e[1])]).collect();
+    want.sort_by(|a, b| a.0.total_cmp(&b.0));
+    for (got, w) in spans.iter().zip(&want) {
+        assert!((got.0 - w.0).abs() < 1e-3 && (got.1 - w.1).abs() < 1e-3, "opening {got:?} vs {w:?}");
+    }
+    for (y, h) in ys.iter().zip(&hs) {
+        assert!((h - win).abs() < 1e-3 && (y + 0.5 * h - cy).abs() < 1e-3, "opening y {y}, height {h}");
+    }
+    // The centre mark crosses at the centre: arms of D/20 = 10 mm.
+    let mark = &attrs(&svg[svg.find("<path class=\"centre-mark\"").unwrap()..], "path", "d")[0];
+    let v: Vec<f64> = mark.split_whitespace().filter_map(|t| t.parse().ok()).collect();
+    assert_eq!(v, [102.0, 112.0, 122.0, 112.0, 102.0, 122.0], "{mark}");
+    // Zone numbers over the middle of each zone's right-hand opening.
+    let labels: Vec<f64> = svg.split('<').filter(|e| e.starts_with("text") && !e.contains("font-size")).map(|e| attrs(&format!("<{e}"), "text", "x")[0].parse().unwrap()).collect();
+    assert_eq!(labels.len(), 5);
+    for (x, e) in labels.iter().zip(edges.windows(2)) {
+        assert!((x - (cx + 0.5 * (e[0] + e[1]))).abs() < 1e-2, "label at {x}");
+    }
+    // The scale bar's ticks every 10 mm along its 200 mm.
+    let bar = svg.split("class=\"scale-bar\"").nth(1).unwrap();
+    let ticks: Vec<f64> = attrs(bar, "path", "d").iter().skip(1).map(|d| d.split_whitespace().nth(1).unwrap().parse().unwrap()).collect();
+    assert_eq!(ticks.len(), 21);
+    for (t, x) in ticks.iter().enumerate() {
+        assert!((x - (12.0 + 10.0 * t as f64)).abs() < 1e-9, "tick {t} at {x}");
+    }
 }
