@@ -235,7 +235,7 @@ fn a_primary_faster_than_f_1_5_is_flagged() {
 }
 
 /// Conic sag z(ρ) = cρ² / (1 + √(1 − (1+K)c²ρ²)), c = 1/R (the standard
-/// conic section of revolution, e.g. Schroeder ch. 2).
+/// conic of revolution: ISO 10110-12; Schroeder ch. 2, from memory).
 fn sag(r: f64, k: f64, rho: f64) -> f64 {
     let c = 1.0 / r;
     c * rho * rho / (1.0 + (1.0 - (1.0 + k) * c * c * rho * rho).sqrt())
@@ -243,7 +243,8 @@ fn sag(r: f64, k: f64, rho: f64) -> f64 {
 
 #[test]
 fn the_hole_passes_every_traced_ray_of_the_field_and_no_more() {
-    // Independent of the design's first-order rule: the meridional fans of
+    // Independent of the design's first-order rule (common practice: check
+    // a paraxial layout by tracing it): the meridional fans of
     // the on-axis and the edge-of-field beams are traced, and each ray's
     // leg from the secondary to the focus is followed to where it crosses
     // the primary's surface (z = −sag(ρ), the primary facing −z at the
@@ -333,7 +334,8 @@ fn refusals_state_the_rule_that_was_broken() {
 
 #[test]
 fn beams_start_clear_of_the_secondary_aimed_at_the_primary_vertex() {
-    // The layout's stated rules (docs/FORMATS.md): each beam starts
+    // Not optics but the layout's documented contract (docs/FORMATS.md),
+    // which the flux figures depend on through the screen's size: each beam starts
     // ⌈d + |secondary sag at its rim| + 0.05·D + 1⌉ mm (whole mm) from the
     // primary vertex, back along its own direction, so its centre line
     // meets the vertex; the screen `focus` is ⌈max(3·F·tan θ, 0.02·D,
@@ -361,7 +363,8 @@ fn beams_start_clear_of_the_secondary_aimed_at_the_primary_vertex() {
 #[test]
 fn a_conic_that_ends_before_its_rim_is_refused_naming_its_mirror() {
     // A conic of revolution with 1 + K > 0 exists only out to ρ = |R|/√(1+K)
-    // (Schroeder ch. 2: the sag's square root turns imaginary there). Dall–
+    // (the sag's square root turns imaginary there; ISO 10110-12's sag
+    // formula, Schroeder ch. 2 from memory). Dall–
     // Kirkham (spherical secondary, K₁ + 1 = k(m−1)(m+1)²/m³ from the
     // spherical-aberration condition with K₂ = 0):
     let dk = |primary_focal, focal, back_focus| TwoMirrorSpec {

@@ -95,7 +95,8 @@ fn first_arrivals_are_counted_on_any_screen_of_the_layout() {
 #[test]
 fn a_stack_of_screens_is_crossed_on_the_way_out_and_back_with_one_bounce() {
     // Three transparent screens in a beam in front of a plane mirror
-    // (law of reflection: the normal beam comes straight back), one
+    // (law of reflection, Hecht, Optics, 5th ed., §4.4, from memory: a
+    // beam at normal incidence comes straight back), one
     // bounce allowed: each ray crosses all three going out (their backs),
     // reflects, and crosses them again coming back, where their faces
     // record it — seven events per ray, each screen one hit per ray.
