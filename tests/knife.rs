@@ -116,6 +116,7 @@ fn command_prints_the_contract_json() {
     assert_eq!(code, 0, "{err}");
     let v: Value = serde_json::from_str(&out).unwrap();
     assert!((v["null_radius_mm"].as_f64().unwrap() - 50.0).abs() < 1e-6);
+    assert_eq!(v["measured"], Value::Bool(false), "no measured departure given");
     // With the edge on the axis, X(−x, −y) = −X(x, y): half the disk is lit.
     assert!((v["lit_fraction"].as_f64().unwrap() - 0.5).abs() < 1e-3);
     let (code, out, _) =
@@ -150,6 +151,7 @@ fn measured_profile_moves_the_null_zone() {
     assert_eq!(code, 0, "{err}");
     let v: Value = serde_json::from_str(&out).unwrap();
     let got = v["null_radius_mm"].as_f64().unwrap();
+    assert_eq!(v["measured"], Value::Bool(true), "the report says the mirror carries a measured departure");
     let dep = move |rho: f64| (-h * (rho / a).powi(4), -4.0 * h * rho.powi(3) / a.powi(4));
     let dep_fn: &dyn Fn(f64) -> (f64, f64) = &dep;
     let stand = Stand { r: R, k: -1.0, s, moving: true, departure: Some(dep_fn) };

@@ -77,9 +77,31 @@ fn sphere_fixed_source_edges_match_the_exact_closed_form() {
 fn sphere_with_the_grating_at_its_centre_shows_no_band_edge() {
     for source in [TestSource::Moving, TestSource::Fixed] {
         assert_eq!(edges(&spec(0.0, 4.0, 0.0, source)), Vec::<f64>::new(), "{source:?}");
+        // The finest grating allowed: the noise is 4000 times more levels.
+        assert_eq!(edges(&spec(0.0, 1000.0, 0.0, source)), Vec::<f64>::new(), "{source:?}, 1000 lines per mm");
         let pic = ronchi_picture(&spec(0.0, 4.0, 0.0, source), 64).unwrap();
         let inside: Vec<f32> = pic.lit.iter().zip(&pic.inside).filter(|(_, i)| **i > 0.0).map(|(l, _)| *l).collect();
         assert!(inside.iter().all(|&l| l == inside[0]), "{source:?}: one tone");
+        // X = 0 is the start of an opaque half (kp ≤ X < kp + p/2 with
+        // k = 0, the grating convention of docs/FORMATS.md): dark glass.
+        assert_eq!(inside[0], 0.0, "{source:?}: every ray ends on the ruling edge, the start of an opaque half");
+    }
+}
+
+/// Which side is dark: the fixed-source sphere sends the ray from (x, y)
+/// to X = −x·S/√(R² − ρ²) (elementary geometry, as above). For S = 10 mm,
+/// p = 0.25 mm the first edge lies at |x| ≈ pR/(2S) = 25 mm (|X| = p/2), so within
+/// 20 mm of the centre the glass right of it (x > 0: X in (−p/2, 0), an
+/// open half) is lit and the glass left of it (X in (0, p/2), opaque)
+/// is dark; the picture has the mirror's +x on the right (docs/FORMATS.md).
+#[test]
+fn the_picture_shows_the_opaque_half_dark() {
+    let size = 200; // 1 mm a pixel across the 200 mm mirror
+    let pic = ronchi_picture(&spec(0.0, 4.0, 10.0, TestSource::Fixed), size).unwrap();
+    let row = size / 2;
+    for off in 1..20 {
+        assert_eq!(pic.lit[row * size + size / 2 + off], 1.0, "{off} mm right of the centre is lit");
+        assert_eq!(pic.lit[row * size + size / 2 - 1 - off], 0.0, "{off} mm left of the centre is dark");
     }
 }
 
@@ -155,7 +177,10 @@ fn a_turned_edge_bends_the_band_ends() {
     let (k, lines, s) = (-1.0, 4.0, -8.0);
     let target = edges(&spec(k, lines, s, TestSource::Moving));
     let measured_spec = RonchiSpec { measured: Some(&knots), ..spec(k, lines, s, TestSource::Moving) };
-    let measured = edges(&measured_spec);
+    let measured_report = ronchigram(&measured_spec).expect("valid spec");
+    assert!(measured_report.measured, "the report says the mirror carries a measured departure");
+    assert!(!ronchigram(&spec(k, lines, s, TestSource::Moving)).unwrap().measured);
+    let measured = measured_report.band_edges_mm;
     let dep_fn: &dyn Fn(f64) -> (f64, f64) = &dep;
     let stand = Stand { r: R, k, s, moving: true, departure: Some(dep_fn) };
     let want = band_edges(&stand, a, 1.0 / lines, 20_000);
@@ -228,4 +253,18 @@ fn bad_input_exits_2_naming_the_flag() {
         assert_eq!(err.lines().count(), 1, "{err}");
         assert!(err.contains(flag), "{args:?}: {err}");
     }
+}
+
+/// The grating's ruling density has an inclusive upper limit (docs/FORMATS.md
+/// §3): 1000 lines per mm is accepted, anything above refused naming the
+/// field. The grating stands 0.01 mm from the centre of curvature so even
+/// the finest grating gives a few bands (pR/(4S) = 50 mm apart; common
+/// practice, derived in the first test above).
+#[test]
+fn lines_per_mm_limit_is_inclusive() {
+    let at = ronchigram(&spec(0.0, 1000.0, 0.01, TestSource::Moving)).expect("1000 lines per mm is allowed");
+    assert_eq!(at.band_edges_mm.len(), 2, "{:?}", at.band_edges_mm);
+    let err = ronchigram(&spec(0.0, 1000.5, 0.01, TestSource::Moving)).unwrap_err().to_string();
+    assert!(err.contains("lines_per_mm") && err.contains("1000"), "{err}");
+    assert!(ronchi_picture(&spec(0.0, 1000.5, 0.01, TestSource::Moving), 32).is_err());
 }

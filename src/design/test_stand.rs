@@ -55,8 +55,6 @@ pub struct TestStand {
     semi_diameter: f64,
     plane_z: f64,
     source_z: f64,
-    offset: f64,
-    source: TestSource,
     measured: bool,
 }
 
@@ -120,20 +118,11 @@ impl TestStand {
             TestSource::Moving => plane_z,
             TestSource::Fixed => radius,
         };
-        Ok(TestStand { profile, radius, semi_diameter: a, plane_z, source_z, offset, source: spec.source, measured: spec.measured.is_some() })
+        Ok(TestStand { profile, radius, semi_diameter: a, plane_z, source_z, measured: spec.measured.is_some() })
     }
 
-    pub fn radius(&self) -> f64 {
-        self.radius
-    }
     pub fn semi_diameter(&self) -> f64 {
         self.semi_diameter
-    }
-    pub fn offset(&self) -> f64 {
-        self.offset
-    }
-    pub fn source(&self) -> TestSource {
-        self.source
     }
     pub fn is_measured(&self) -> bool {
         self.measured
@@ -408,5 +397,20 @@ mod tests {
         assert!(noise.is_empty(), "{noise:?}");
         // Too many crossings: refused.
         assert!(level_crossings(|x| 1e3 * x, 0.0, 1.0, 1e-12, 100).is_none());
+    }
+
+    #[test]
+    fn a_fast_function_refines_the_scan_and_a_too_fast_one_is_refused() {
+        // Arithmetic (common practice): 3000x crosses every whole number
+        // k = 1..3000 at x = k/3000. One first-scan step changes it by
+        // 3000/4096 of a level, so the scan must be refined to find each.
+        let c = level_crossings(|x| 3000.0 * x, 0.0, 1.0, 1e-12, 10_000).unwrap();
+        assert_eq!(c.len(), 3000);
+        for (i, got) in c.iter().enumerate() {
+            let want = (i + 1) as f64 / 3000.0;
+            assert!((got - want).abs() < 1e-12, "{got} vs {want}");
+        }
+        // A quarter level per step would take 4·10⁷ steps, past MAX_SCAN_STEPS.
+        assert!(level_crossings(|x| 1e7 * x, 0.0, 1.0, 1e-12, usize::MAX).is_none());
     }
 }
