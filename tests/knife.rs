@@ -85,6 +85,12 @@ fn sphere_at_its_centre_darkens_all_at_once() {
         assert!(before.whole_mirror_nulls && before.null_radius_mm.is_none());
         let pic = knife_picture(&spec(0.0, 0.0, 0.001, source), 64).unwrap();
         assert!(pic.lit.iter().all(|&l| l == 0.0));
+        // Edge drawn back: every inside pixel fully lit, the vertex too (an
+        // odd size puts a sub-sample on the axis, where the normal is +z).
+        let pic = knife_picture(&spec(0.0, 0.0, -0.001, source), 63).unwrap();
+        let centre = 31 * 63 + 31;
+        assert_eq!(pic.inside[centre], 1.0);
+        assert!(pic.lit.iter().zip(&pic.inside).all(|(&l, &i)| i == 0.0 || l == 1.0), "{source:?}: all lit");
     }
 }
 
@@ -256,4 +262,32 @@ fn surface_readings_are_the_normal_crossings() {
     }
     let e = surface_readings(R, -1.0, D, None, &[10.0, f64::NAN]).unwrap_err();
     assert!(e.to_string().contains("radii[1]"), "{e}");
+}
+
+/// Off the horizontal diameter too, the stand's landing point (X, Y) is the
+/// independent exact trace's (tests/stand_support: the law of reflection
+/// on the conic's normal, r = d − 2(d·n)n, common practice): paraboloid,
+/// hyperboloid and oblate ellipsoid, moving and fixed source, points in
+/// every quadrant.
+#[test]
+fn landing_points_off_the_diameter_match_the_independent_trace() {
+    use catoptric::design::test_stand::{StandSpec, TestStand};
+    for (k, s, source) in [(-1.0, 0.6, TestSource::Moving), (-4.0, -3.0, TestSource::Fixed), (0.5, 2.0, TestSource::Moving)] {
+        let stand = TestStand::new(StandSpec {
+            radius: R,
+            conic: k,
+            diameter: D,
+            offset_field: "knife_mm",
+            offset_mm: s,
+            source,
+            measured: None,
+        })
+        .unwrap();
+        let indep = Stand { r: R, k, s, moving: source == TestSource::Moving, departure: None };
+        for (x, y) in [(30.0, 40.0), (-70.0, 20.0), (-10.0, -90.0), (55.0, -55.0), (0.0, 80.0)] {
+            let (gx, gy) = stand.landing(x, y).expect("the ray reaches the plane");
+            let (wx, wy) = indep.land(x, y);
+            assert!((gx - wx).abs() < 1e-9 && (gy - wy).abs() < 1e-9, "K {k}, ({x}, {y}): ({gx}, {gy}) vs ({wx}, {wy})");
+        }
+    }
 }

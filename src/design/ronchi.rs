@@ -97,7 +97,8 @@ pub fn ronchigram(spec: &RonchiSpec<'_>) -> Result<Ronchigram, InputError> {
         source: spec.source.name().to_string(),
         offset_mm: spec.offset_mm,
         lines_per_mm: spec.lines_per_mm,
-        band_edges_mm: edges.into_iter().filter(|&x| x > 0.0).collect(),
+        // level_crossings reports points of (0, a] only: x = 0 never.
+        band_edges_mm: edges,
         measured: stand.is_measured(),
     })
 }
