@@ -79,6 +79,8 @@ fn sphere_with_the_grating_at_its_centre_shows_no_band_edge() {
         assert_eq!(edges(&spec(0.0, 4.0, 0.0, source)), Vec::<f64>::new(), "{source:?}");
         // The finest grating allowed: the noise is 4000 times more levels.
         assert_eq!(edges(&spec(0.0, 1000.0, 0.0, source)), Vec::<f64>::new(), "{source:?}, 1000 lines per mm");
+        let fine = ronchi_picture(&spec(0.0, 1000.0, 0.0, source), 64).unwrap();
+        assert!(fine.lit.iter().all(|&l| l == 0.0), "{source:?}, 1000 lines per mm: dark");
         let pic = ronchi_picture(&spec(0.0, 4.0, 0.0, source), 64).unwrap();
         let inside: Vec<f32> = pic.lit.iter().zip(&pic.inside).filter(|(_, i)| **i > 0.0).map(|(l, _)| *l).collect();
         assert!(inside.iter().all(|&l| l == inside[0]), "{source:?}: one tone");
