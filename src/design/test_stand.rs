@@ -400,6 +400,37 @@ mod tests {
     }
 
     #[test]
+    fn rgba_blends_dark_to_lit_glass_and_the_disk_sets_alpha() {
+        // The picture's contract (docs/FORMATS.md §3, `--png`): lit glass
+        // pale, dark glass nearly black, a partly lit pixel in between
+        // (linear blend, rounded), transparent outside the disk.
+        let pic = MirrorPicture { size: 2, inside: vec![1.0, 1.0, 0.5, 0.0], lit: vec![1.0, 0.0, 0.5, 0.0] };
+        let px = pic.rgba();
+        assert_eq!(px.len(), 16);
+        assert_eq!(&px[0..4], &[238, 236, 226, 255]);
+        assert_eq!(&px[4..8], &[22, 22, 28, 255]);
+        // Halfway: (22 + 238)/2 = 130, (22 + 236)/2 = 129, (28 + 226)/2 = 127; alpha 127.5 → 128.
+        assert_eq!(&px[8..12], &[130, 129, 127, 128]);
+        assert_eq!(px[15], 0);
+    }
+
+    #[test]
+    fn picture_sizes_from_1_to_the_limit_are_accepted() {
+        // Inclusive limits of the picture's side (common practice: a bad
+        // size names the field; the page and CLI share this check).
+        for bad_size in [0, MAX_PICTURE_SIZE + 1] {
+            let e = MirrorPicture::render(bad_size, 1.0, |_, _| true).unwrap_err();
+            assert_eq!(e.field, "size");
+        }
+        let one = MirrorPicture::render(1, 1.0, |_, _| true).unwrap();
+        // 3 × 3 sub-samples at x, y ∈ {−2/3, 0, 2/3}: even the corners
+        // (ρ² = 8/9) lie inside the unit disk.
+        assert_eq!(one.inside, vec![1.0]);
+        let big = MirrorPicture::render(MAX_PICTURE_SIZE, 1.0, |x, _| x > 0.0).unwrap();
+        assert_eq!(big.lit.len(), MAX_PICTURE_SIZE * MAX_PICTURE_SIZE);
+    }
+
+    #[test]
     fn a_fast_function_refines_the_scan_and_a_too_fast_one_is_refused() {
         // Arithmetic (common practice): 3000x crosses every whole number
         // k = 1..3000 at x = k/3000. One first-scan step changes it by
