@@ -291,3 +291,31 @@ fn landing_points_off_the_diameter_match_the_independent_trace() {
         }
     }
 }
+
+/// Departure knots handed to the library directly (not through the CSV
+/// reader) are checked too: at least two rows, radii from 0 or more and
+/// increasing, finite numbers; the message names the row (common practice).
+#[test]
+fn bad_departure_knots_are_refused_naming_the_row() {
+    let cases: [(&[[f64; 2]], &str); 5] = [
+        (&[[0.0, 0.0]], "measured"),
+        (&[[0.0, 0.0], [50.0, 1e-4], [50.0, 2e-4]], "measured[2]"),
+        (&[[-1.0, 0.0], [50.0, 1e-4]], "measured[0]"),
+        (&[[0.0, 0.0], [f64::NAN, 1e-4]], "measured[1]"),
+        (&[[0.0, 0.0], [50.0, f64::INFINITY]], "measured[1]"),
+    ];
+    for (knots, field) in cases {
+        let e = knife_view(&KnifeSpec { measured: Some(knots), ..spec(-1.0, 0.6, 0.0, TestSource::Moving) }).unwrap_err();
+        assert_eq!(e.field, field, "{knots:?}: {e}");
+    }
+    let ok: &[[f64; 2]] = &[[0.0, 0.0], [100.0, 1e-4]];
+    assert!(knife_view(&KnifeSpec { measured: Some(ok), ..spec(-1.0, 0.6, 0.0, TestSource::Moving) }).is_ok());
+    // The row limit is inclusive.
+    let max = catoptric::design::measured::MAX_ROWS;
+    let rows = |n: usize| -> Vec<[f64; 2]> { (0..n).map(|i| [100.0 * i as f64 / (n - 1) as f64, 0.0]).collect() };
+    let at = rows(max);
+    assert!(knife_view(&KnifeSpec { measured: Some(&at), ..spec(-1.0, 0.6, 0.0, TestSource::Moving) }).is_ok());
+    let over = rows(max + 1);
+    let e = knife_view(&KnifeSpec { measured: Some(&over), ..spec(-1.0, 0.6, 0.0, TestSource::Moving) }).unwrap_err();
+    assert_eq!(e.field, "measured");
+}
