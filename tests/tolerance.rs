@@ -66,6 +66,29 @@ fn zero_tolerances_give_the_nominal_at_every_percentile() {
 }
 
 #[test]
+fn nominal_strehl_of_an_aberrated_sphere_is_mahajans() {
+    // The f/5 sphere preset stopped down to D = 120 mm (R = 2000, f = 1000):
+    // third-order spherical aberration W040 = D⁴/(512 f³) = 4.05e-4 mm
+    // = 0.736 waves at 550 nm (third-order theory, twice the sphere's
+    // departure from the paraboloid ρ⁴/(8R³)). Balanced by defocus only the
+    // Zernike term remains: ρ⁴ = Z(4,0)/(6√5) + ρ² − 1/6 with
+    // Z(4,0) = √5(6ρ⁴ − 6ρ² + 1) of unit RMS (ANSI Z80.28), so
+    // σ = W040/(6√5) = 0.0549 waves, and Strehl ≈ exp(−(2πσ)²) = 0.888
+    // (Mahajan, JOSA 72, 1258 (1982)).
+    let mut l = preset("sphere-f5");
+    mirror_mut(&mut l, "primary").aperture.diameter = 120.0;
+    if let catoptric::layout::Source::Beam(b) = &mut l.sources[0] {
+        b.diameter = 120.0;
+    }
+    let r = tolerance(&l, &ToleranceSpec { rays: Some(20_000), trials: 1, ..spec("focus") }, None).unwrap();
+    let w040 = 120f64.powi(4) / (512.0 * 1000f64.powi(3)) / 550e-6;
+    let sigma = w040 / (6.0 * 5f64.sqrt());
+    let mahajan = (-(2.0 * std::f64::consts::PI * sigma).powi(2)).exp();
+    let got = r.nominal.strehl.expect("a point source has a Strehl ratio");
+    assert!((got - mahajan).abs() < 0.02, "Strehl {got} vs Mahajan {mahajan}");
+}
+
+#[test]
 fn nominal_is_the_layouts_own_trace() {
     // Common practice: with no error the run measures the layout as drawn,
     // so its nominal figures are those `catoptric trace` reports.
