@@ -301,3 +301,23 @@ fn bad_input_exits_2_named() {
         assert!(err.contains(flag), "{a:?}: {err}");
     }
 }
+
+/// A screen no ray reaches has no spot and no wavefront: no RMS radius, no
+/// Strehl ratio, nothing intercepted (common practice: a figure of an empty
+/// spot is undefined, not zero and not NaN).
+#[test]
+fn a_screen_no_ray_reaches_has_no_figures() {
+    use catoptric::design::merit::{measure, Target};
+    let mut l = preset("sphere-f5");
+    for e in &mut l.elements {
+        if let Element::Screen(s) = e {
+            s.center = [500.0, 0.0]; // far off to the side of the beam
+        }
+    }
+    let t = Target::new(&l, Some("focus"), None).unwrap();
+    let (f, _) = measure(&l, &t, Some(500), None, false);
+    assert_eq!(f.hits, 0);
+    assert_eq!(f.rms_radius_um, None);
+    assert_eq!(f.strehl, None);
+    assert_eq!(f.intercept, 0.0);
+}
