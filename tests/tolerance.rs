@@ -321,3 +321,33 @@ fn a_screen_no_ray_reaches_has_no_figures() {
     assert_eq!(f.strehl, None);
     assert_eq!(f.intercept, 0.0);
 }
+
+/// Refocusing moves the screen to the best focus before measuring, as a
+/// maker refocuses: a paraboloid (R = 2000 mm) images an axial star
+/// perfectly at its focus f = R/2 (Hecht, Optics, 5th ed., §5.4 on mirrors: the
+/// paraboloid's focal property), so a screen drawn 1.5 mm off the focus
+/// comes back to it and the spot shrinks to nothing; without refocus the
+/// layout is measured as drawn.
+#[test]
+fn refocus_moves_the_screen_to_the_paraboloids_focus() {
+    use catoptric::design::merit::{best_shift, measure, trace_layout, Target};
+    let mut l = preset("paraboloid-f5");
+    for e in &mut l.elements {
+        if let Element::Screen(s) = e {
+            s.center = [0.0, 1.5]; // the focus is at the origin
+        }
+    }
+    let t = Target::new(&l, Some("focus"), None).unwrap();
+    let (_, res) = trace_layout(&l, Some(2000), None);
+    let shift = best_shift(&res, &t).expect("converging light has a best focus");
+    assert!((shift + 1.5).abs() < 1e-9, "shift {shift}");
+    let (f, moved) = measure(&l, &t, Some(2000), None, true);
+    let Element::Screen(s) = &moved.elements[t.element] else { panic!("the target is a screen") };
+    assert!(s.center[0].abs() < 1e-12 && s.center[1].abs() < 1e-9, "{:?}", s.center);
+    assert!(f.rms_radius_um.unwrap() < 1e-6, "{:?}", f.rms_radius_um);
+    let (g, same) = measure(&l, &t, Some(2000), None, false);
+    assert_eq!(same, l);
+    // Defocus 1.5 mm at f/5: a blur of radius 1.5/(2·5) = 0.15 mm at the
+    // rim, RMS 0.15/√2 for a uniformly filled disk = 106 µm.
+    assert!((g.rms_radius_um.unwrap() - 106.07).abs() < 2.0, "{:?}", g.rms_radius_um);
+}
