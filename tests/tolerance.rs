@@ -351,3 +351,17 @@ fn refocus_moves_the_screen_to_the_paraboloids_focus() {
     // rim, RMS 0.15/√2 for a uniformly filled disk = 106 µm.
     assert!((g.rms_radius_um.unwrap() - 106.07).abs() < 2.0, "{:?}", g.rms_radius_um);
 }
+
+/// A lamp of 0 W launches nothing: its intercept is 0, not 0/0 (common
+/// practice: the fraction of nothing is reported as none reaching).
+#[test]
+fn a_dark_lamp_intercepts_nothing() {
+    use catoptric::design::merit::{measure, Target};
+    let mut l = preset("ellipsoid-lamp");
+    if let catoptric::layout::Source::Point(p) = &mut l.sources[0] {
+        p.power_w = 0.0;
+    }
+    let t = Target::new(&l, Some("target"), None).unwrap();
+    let (f, _) = measure(&l, &t, Some(500), None, false);
+    assert_eq!(f.intercept, 0.0);
+}
