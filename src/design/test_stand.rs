@@ -395,6 +395,9 @@ mod tests {
         // Noise about a level is no crossing.
         let noise = level_crossings(|x| 1e-14 * (1e4 * x).sin(), 0.0, 1.0, 1e-12, 100).unwrap();
         assert!(noise.is_empty(), "{noise:?}");
+        // About any level, not only 0.
+        let noise = level_crossings(|x| 3.0 + 1e-14 * (1e4 * x).sin(), 0.0, 1.0, 1e-12, 100).unwrap();
+        assert!(noise.is_empty(), "{noise:?}");
         // Too many crossings: refused.
         assert!(level_crossings(|x| 1e3 * x, 0.0, 1.0, 1e-12, 100).is_none());
     }
