@@ -434,6 +434,31 @@ mod tests {
     }
 
     #[test]
+    fn crossings_of_a_scan_that_starts_past_zero() {
+        // 3x over [1, 2] crosses 4 and 5 at 4/3 and 5/3 and ends on 6 at 2
+        // (arithmetic, common practice); 3 at the start is no crossing.
+        let c = level_crossings(|x| 3.0 * x, 1.0, 2.0, 1e-12, 100).unwrap();
+        assert_eq!(c.len(), 3, "{c:?}");
+        for (got, want) in c.iter().zip([4.0 / 3.0, 5.0 / 3.0, 2.0]) {
+            assert!((got - want).abs() < 1e-12, "{got} vs {want}");
+        }
+    }
+
+    #[test]
+    fn a_wiggle_faster_than_the_first_scan_is_followed() {
+        // 0.4·sin(2π·3000x + 0.3) is zero at x = (kπ − 0.3)/(6000π),
+        // k = 1 … 6000 (common practice): 6000 sign changes, more than the
+        // first scan's 4096 steps can see without refining.
+        let g = |x: f64| 0.4 * (2.0 * std::f64::consts::PI * 3000.0 * x + 0.3).sin();
+        let c = level_crossings(g, 0.0, 1.0, 1e-12, 10_000).unwrap();
+        assert_eq!(c.len(), 6000);
+        for (k, got) in c.iter().enumerate() {
+            let want = ((k + 1) as f64 * std::f64::consts::PI - 0.3) / (6000.0 * std::f64::consts::PI);
+            assert!((got - want).abs() < 1e-9, "{k}: {got} vs {want}");
+        }
+    }
+
+    #[test]
     fn a_fast_function_refines_the_scan_and_a_too_fast_one_is_refused() {
         // Arithmetic (common practice): 3000x crosses every whole number
         // k = 1..3000 at x = k/3000. One first-scan step changes it by
