@@ -365,3 +365,36 @@ fn a_dark_lamp_intercepts_nothing() {
     let (f, _) = measure(&l, &t, Some(500), None, false);
     assert_eq!(f.intercept, 0.0);
 }
+
+/// Over several sources the best focus is the screen position that makes
+/// the hit-weighted mean of the sources' mean-square radii smallest: here
+/// checked by brute force (common practice), moving the screen by ±20 µm
+/// about the pooled best shift of an f/5 paraboloid with a star on axis and
+/// one 0.3° off it (whose coma and astigmatism move its own best focus).
+#[test]
+fn pooled_best_focus_of_two_stars_is_the_brute_force_minimum() {
+    use catoptric::design::merit::{best_shift, measure, move_screen, trace_layout, Target};
+    let mut l = preset("paraboloid-f5");
+    let catoptric::layout::Source::Beam(b) = &l.sources[0] else { panic!("a beam") };
+    let mut off = b.clone();
+    off.id = "off-axis".into();
+    off.direction_deg += 0.3;
+    off.rays = 5000;
+    l.sources.push(catoptric::layout::Source::Beam(off));
+    let t = Target::new(&l, Some("focus"), None).unwrap();
+    let (_, res) = trace_layout(&l, Some(3000), None);
+    let s = best_shift(&res, &t).unwrap();
+    // The off-axis star alone focuses elsewhere than the axial one (exactly
+    // at the paraboloid's focus, s = 0).
+    let alone = best_shift(&res, &Target::new(&l, Some("focus"), Some("off-axis")).unwrap()).unwrap();
+    assert!(alone.abs() > 1e-3 && s.abs() > 1e-4 && (s - alone).abs() > 1e-4, "pooled {s}, off-axis alone {alone}");
+    let rms_at = |shift: f64| {
+        let mut m = l.clone();
+        move_screen(&mut m, &t, shift);
+        measure(&m, &t, Some(3000), None, false).0.rms_radius_um.unwrap()
+    };
+    let best = rms_at(s);
+    for d in [-0.02, 0.02] {
+        assert!(best < rms_at(s + d), "RMS {best} at the pooled focus, {} at {d} mm from it", rms_at(s + d));
+    }
+}
