@@ -398,3 +398,31 @@ fn pooled_best_focus_of_two_stars_is_the_brute_force_minimum() {
         assert!(best < rms_at(s + d), "RMS {best} at the pooled focus, {} at {d} mm from it", rms_at(s + d));
     }
 }
+
+/// Moving a tilted screen "along its axis" keeps it on the line through
+/// its centre along its own normal, as the compiled scene orients it
+/// (common practice: a refocus slides the sensor along its normal), by the
+/// distance asked.
+#[test]
+fn a_tilted_screen_moves_along_its_own_normal() {
+    use catoptric::design::merit::{move_screen, Target};
+    use catoptric::geometry::Vec3;
+    let mut l = preset("paraboloid-f5");
+    for e in &mut l.elements {
+        if let Element::Screen(s) = e {
+            s.axis_deg = 30.0;
+            s.center = [3.0, -2.0];
+        }
+    }
+    let t = Target::new(&l, Some("focus"), None).unwrap();
+    let scene = Scene::compile(&l);
+    let frame = &scene.elements[t.element].frame;
+    let c0 = frame.to_world_point(&Vec3::zeros());
+    let normal = frame.to_world_dir(&Vec3::z());
+    let mut moved = l.clone();
+    move_screen(&mut moved, &t, 2.5);
+    let c1 = Scene::compile(&moved).elements[t.element].frame.to_world_point(&Vec3::zeros());
+    let step = c1 - c0;
+    assert!((step.norm() - 2.5).abs() < 1e-12, "moved {}", step.norm());
+    assert!(step.cross(&normal).norm() < 1e-12, "{step:?} is not along the normal {normal:?}");
+}
