@@ -304,18 +304,15 @@ fn bad_departure_knots_are_refused_naming_the_row() {
         (&[[0.0, 0.0], [f64::NAN, 1e-4]], "measured[1]"),
         (&[[0.0, 0.0], [50.0, f64::INFINITY]], "measured[1]"),
     ];
+    let view = |knots: &[[f64; 2]]| knife_view(&KnifeSpec { measured: Some(knots), ..spec(-1.0, 0.6, 0.0, TestSource::Moving) });
     for (knots, field) in cases {
-        let e = knife_view(&KnifeSpec { measured: Some(knots), ..spec(-1.0, 0.6, 0.0, TestSource::Moving) }).unwrap_err();
+        let e = view(knots).unwrap_err();
         assert_eq!(e.field, field, "{knots:?}: {e}");
     }
-    let ok: &[[f64; 2]] = &[[0.0, 0.0], [100.0, 1e-4]];
-    assert!(knife_view(&KnifeSpec { measured: Some(ok), ..spec(-1.0, 0.6, 0.0, TestSource::Moving) }).is_ok());
+    assert!(view(&[[0.0, 0.0], [100.0, 1e-4]]).is_ok());
     // The row limit is inclusive.
     let max = catoptric::design::measured::MAX_ROWS;
     let rows = |n: usize| -> Vec<[f64; 2]> { (0..n).map(|i| [100.0 * i as f64 / (n - 1) as f64, 0.0]).collect() };
-    let at = rows(max);
-    assert!(knife_view(&KnifeSpec { measured: Some(&at), ..spec(-1.0, 0.6, 0.0, TestSource::Moving) }).is_ok());
-    let over = rows(max + 1);
-    let e = knife_view(&KnifeSpec { measured: Some(&over), ..spec(-1.0, 0.6, 0.0, TestSource::Moving) }).unwrap_err();
-    assert_eq!(e.field, "measured");
+    assert!(view(&rows(max)).is_ok());
+    assert_eq!(view(&rows(max + 1)).unwrap_err().field, "measured");
 }

@@ -33,6 +33,16 @@ fn rms_um(l: &Layout) -> f64 {
     spot_stats(&res.screens[0], Some(0)).rms_radius * 1e3
 }
 
+/// Moves every screen of `l` (the presets used here have one) and sets its axis.
+fn place_screen(l: &mut Layout, center: [f64; 2], axis_deg: f64) {
+    for e in &mut l.elements {
+        if let Element::Screen(s) = e {
+            s.center = center;
+            s.axis_deg = axis_deg;
+        }
+    }
+}
+
 fn mirror_mut<'a>(l: &'a mut Layout, id: &str) -> &'a mut catoptric::layout::Mirror {
     l.elements
         .iter_mut()
@@ -309,11 +319,7 @@ fn bad_input_exits_2_named() {
 fn a_screen_no_ray_reaches_has_no_figures() {
     use catoptric::design::merit::{measure, Target};
     let mut l = preset("sphere-f5");
-    for e in &mut l.elements {
-        if let Element::Screen(s) = e {
-            s.center = [500.0, 0.0]; // far off to the side of the beam
-        }
-    }
+    place_screen(&mut l, [500.0, 0.0], 0.0); // far off to the side of the beam
     let t = Target::new(&l, Some("focus"), None).unwrap();
     let (f, _) = measure(&l, &t, Some(500), None, false);
     assert_eq!(f.hits, 0);
@@ -324,7 +330,7 @@ fn a_screen_no_ray_reaches_has_no_figures() {
 
 /// Refocusing moves the screen to the best focus before measuring, as a
 /// maker refocuses: a paraboloid (R = 2000 mm) images an axial star
-/// perfectly at its focus f = R/2 (Hecht, Optics, 5th ed., §5.4 on mirrors: the
+/// perfectly at its focus f = R/2 (Hecht, Optics, 5th ed., §5.4 on mirrors, from memory: the
 /// paraboloid's focal property), so a screen drawn 1.5 mm off the focus
 /// comes back to it and the spot shrinks to nothing; without refocus the
 /// layout is measured as drawn.
@@ -332,11 +338,7 @@ fn a_screen_no_ray_reaches_has_no_figures() {
 fn refocus_moves_the_screen_to_the_paraboloids_focus() {
     use catoptric::design::merit::{best_shift, measure, trace_layout, Target};
     let mut l = preset("paraboloid-f5");
-    for e in &mut l.elements {
-        if let Element::Screen(s) = e {
-            s.center = [0.0, 1.5]; // the focus is at the origin
-        }
-    }
+    place_screen(&mut l, [0.0, 1.5], 0.0); // the focus is at the origin
     let t = Target::new(&l, Some("focus"), None).unwrap();
     let (_, res) = trace_layout(&l, Some(2000), None);
     let shift = best_shift(&res, &t).expect("converging light has a best focus");
@@ -395,7 +397,8 @@ fn pooled_best_focus_of_two_stars_is_the_brute_force_minimum() {
     };
     let best = rms_at(s);
     for d in [-0.02, 0.02] {
-        assert!(best < rms_at(s + d), "RMS {best} at the pooled focus, {} at {d} mm from it", rms_at(s + d));
+        let near = rms_at(s + d);
+        assert!(best < near, "RMS {best} at the pooled focus, {near} at {d} mm from it");
     }
 }
 
@@ -408,12 +411,7 @@ fn a_tilted_screen_moves_along_its_own_normal() {
     use catoptric::design::merit::{move_screen, Target};
     use catoptric::geometry::Vec3;
     let mut l = preset("paraboloid-f5");
-    for e in &mut l.elements {
-        if let Element::Screen(s) = e {
-            s.axis_deg = 30.0;
-            s.center = [3.0, -2.0];
-        }
-    }
+    place_screen(&mut l, [3.0, -2.0], 30.0);
     let t = Target::new(&l, Some("focus"), None).unwrap();
     let scene = Scene::compile(&l);
     let frame = &scene.elements[t.element].frame;
