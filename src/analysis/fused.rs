@@ -247,7 +247,8 @@ fn fit_block(c: Columns<'_>, f: &Fit, out: &mut [Lanes; 13]) {
     let mut b = out.map(V4);
     let ([gu, gv, gdu, gdv, gdw, gopl, gw], full) = groups([u, v, du, dv, dw, opl, w]);
     for q in 0..gu.len() {
-        let d = shifted(f, x0, [gu[q], gv[q], gdu[q], gdv[q], gdw[q], gopl[q]].map(V4));
+        // Spelled out: `[…].map(V4)` is left as a call in this loop.
+        let d = shifted(f, x0, [V4(gu[q]), V4(gv[q]), V4(gdu[q]), V4(gdv[q]), V4(gdw[q]), V4(gopl[q])]);
         for (s, t) in b.iter_mut().zip(fit_terms(V4(gw[q]), d)) {
             *s = *s + t;
         }
