@@ -424,3 +424,82 @@ fn a_tilted_screen_moves_along_its_own_normal() {
     assert!((step.norm() - 2.5).abs() < 1e-12, "moved {}", step.norm());
     assert!(step.cross(&normal).norm() < 1e-12, "{step:?} is not along the normal {normal:?}");
 }
+
+#[test]
+fn each_kind_moves_each_mirror_as_the_model_says() {
+    // The model of the module documentation (docs/FORMATS.md §3), applied
+    // here by hand in its stated order: decentre along the local y of the
+    // axis as it stands, turn the axis, move along the turned axis, scale
+    // the radius by (1 + p/100), add to the conic constant. Axes turned
+    // off 0° and 180° so every sine and cosine counts, and every draw's
+    // sign matters.
+    let mut l = preset("cassegrain");
+    mirror_mut(&mut l, "primary").axis_deg = 20.0;
+    mirror_mut(&mut l, "secondary").axis_deg = 195.0;
+    let amounts = [0.5, 3.0, 0.2, 0.5, 0.05];
+    let s = ToleranceSpec {
+        decenter_mm: amounts[0],
+        tilt_arcmin: amounts[1],
+        despace_mm: amounts[2],
+        radius_pct: amounts[3],
+        conic: amounts[4],
+        ..spec("focus")
+    };
+    let plan = TolerancePlan::new(&l, &s).unwrap();
+    for t in 0..12 {
+        let p = plan.trial_layout(t).unwrap();
+        for (ord, id) in ["primary", "secondary"].into_iter().enumerate() {
+            let d = ErrorKind::ALL.map(|k| unit_draw(1, t as u64, ord, k));
+            let (mut want, got) = (mirror_mut(&mut l.clone(), id).clone(), mirror_mut(&mut p.clone(), id).clone());
+            let a = want.axis_deg.to_radians();
+            want.vertex = [want.vertex[0] + amounts[0] * d[0] * a.cos(), want.vertex[1] - amounts[0] * d[0] * a.sin()];
+            want.axis_deg += amounts[1] * d[1] / 60.0;
+            let a = want.axis_deg.to_radians();
+            want.vertex = [want.vertex[0] + amounts[2] * d[2] * a.sin(), want.vertex[1] + amounts[2] * d[2] * a.cos()];
+            let r = want.profile.radius.unwrap();
+            let close = |x: f64, y: f64| (x - y).abs() <= 1e-12 * (1.0 + y.abs());
+            assert!(close(got.vertex[0], want.vertex[0]) && close(got.vertex[1], want.vertex[1]), "{t} {id}: {:?} vs {:?}", got.vertex, want.vertex);
+            assert!(close(got.axis_deg, want.axis_deg), "{t} {id}");
+            assert!(close(got.profile.radius.unwrap(), r * (1.0 + amounts[3] * d[3] / 100.0)), "{t} {id}");
+            assert!(close(got.profile.conic, want.profile.conic + amounts[4] * d[4]), "{t} {id}");
+        }
+    }
+}
+
+#[test]
+fn draws_are_uniform_on_minus_one_to_one() {
+    // One-sample Kolmogorov–Smirnov test against U(−1, 1) at α = 0.001,
+    // critical D = 1.95/√n (Press et al., Numerical Recipes, 3rd ed.,
+    // §14.3.3; the coefficient from standard tables), over draws of many
+    // trials, mirrors and kinds; each draw inside [−1, 1).
+    let mut x: Vec<f64> = (0..400u64)
+        .flat_map(|t| (0..3).flat_map(move |m| ErrorKind::ALL.map(|k| unit_draw(7, t, m, k))))
+        .collect();
+    assert!(x.iter().all(|d| (-1.0..1.0).contains(d)), "a draw outside [−1, 1)");
+    x.sort_by(f64::total_cmp);
+    let n = x.len() as f64;
+    let d = x.iter().enumerate().map(|(i, &v)| {
+        let f = 0.5 * (v + 1.0);
+        (f - i as f64 / n).abs().max(((i + 1) as f64 / n - f).abs())
+    });
+    let d = d.fold(0.0, f64::max);
+    assert!(d < 1.95 / n.sqrt(), "KS D = {d}");
+}
+
+#[test]
+fn a_tolerance_that_breaks_the_layout_is_named() {
+    // A primary made spherical, then a radius 99 % short: a sphere far
+    // smaller than the mirror; a conic constant 2000 larger closes the
+    // paraboloid into an ellipsoid that ends inside its rim. The
+    // refusal names the tolerance to reduce.
+    let mut sphere = preset("cassegrain");
+    mirror_mut(&mut sphere, "primary").profile.conic = 0.0;
+    for (l, s, field) in [
+        (sphere, ToleranceSpec { radius_pct: 99.0, ..spec("focus") }, "radius_pct"),
+        (preset("cassegrain"), ToleranceSpec { conic: 2000.0, ..spec("focus") }, "conic"),
+    ] {
+        let e = tolerance(&l, &s, None).unwrap_err();
+        assert_eq!(e.field, field, "{}", e.message);
+        assert!(e.message.contains("smaller tolerance"), "{}", e.message);
+    }
+}
