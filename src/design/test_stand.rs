@@ -389,9 +389,12 @@ mod tests {
         for (got, want) in c.iter().zip([1.0 / 3.0, 2.0 / 3.0, 1.0]) {
             assert!((got - want).abs() < 1e-12, "{got} vs {want}");
         }
-        // A parabola that touches the level 1 at x = 0.5 and goes back.
-        let touch = level_crossings(|x| 1.0 + (x - 0.5) * (x - 0.5), 0.0, 1.0, 1e-12, 100).unwrap();
-        assert!(touch.is_empty(), "{touch:?}");
+        // Parabolas that touch the level 1 at x = 0.5 (a scan point) from
+        // above and from below and go back.
+        for sign in [1.0, -1.0] {
+            let touch = level_crossings(|x| 1.0 + sign * (x - 0.5) * (x - 0.5), 0.0, 1.0, 1e-12, 100).unwrap();
+            assert!(touch.is_empty(), "{sign}: {touch:?}");
+        }
         // Noise about a level is no crossing.
         let noise = level_crossings(|x| 1e-14 * (1e4 * x).sin(), 0.0, 1.0, 1e-12, 100).unwrap();
         assert!(noise.is_empty(), "{noise:?}");
@@ -470,6 +473,12 @@ mod tests {
             let want = (i + 1) as f64 / 3000.0;
             assert!((got - want).abs() < 1e-12, "{got} vs {want}");
         }
+        // A ramp of 128 levels in the first step, then flat: a quarter
+        // level per step takes exactly MAX_SCAN_STEPS steps, still
+        // allowed; levels 1 … 127 at k/524288 and 128 held to the end.
+        let c = level_crossings(|x| (524_288.0 * x).min(128.0), 0.0, 1.0, 1e-12, 1000).unwrap();
+        assert_eq!(c.len(), 128);
+        assert!((c[0] - 1.0 / 524_288.0).abs() < 1e-13 && (c[127] - 1.0 / 4096.0).abs() < 1e-13, "{} {}", c[0], c[127]);
         // A quarter level per step would take 4·10⁷ steps, past MAX_SCAN_STEPS.
         assert!(level_crossings(|x| 1e7 * x, 0.0, 1.0, 1e-12, usize::MAX).is_none());
     }
