@@ -503,3 +503,26 @@ fn a_tolerance_that_breaks_the_layout_is_named() {
         assert!(e.message.contains("smaller tolerance"), "{}", e.message);
     }
 }
+
+#[test]
+fn a_trial_that_breaks_the_layout_names_the_kind_to_blame() {
+    // Only the radius of a spherical primary varies, by up to 99 %: the
+    // trials whose draw shrinks it below the mirror's semi-diameter are
+    // refused naming `radius_pct`, the others pass; a second tolerance
+    // that breaks nothing (a small decentre) does not take the blame.
+    let mut l = preset("cassegrain");
+    mirror_mut(&mut l, "primary").profile.conic = 0.0;
+    let plan = TolerancePlan::new(&l, &ToleranceSpec { radius_pct: 99.0, decenter_mm: 0.01, ..spec("focus") }).unwrap();
+    let (mut refused, mut passed) = (0, 0);
+    for t in 0..300 {
+        match plan.trial_layout(t) {
+            Ok(_) => passed += 1,
+            Err(e) => {
+                assert_eq!(e.field, "radius_pct", "trial {t}: {}", e.message);
+                assert!(e.message.contains(&format!("trial {}", t + 1)), "{}", e.message);
+                refused += 1;
+            }
+        }
+    }
+    assert!(refused > 0 && passed > 0, "{refused} refused, {passed} passed");
+}

@@ -401,8 +401,11 @@ mod tests {
         // About any level, not only 0.
         let noise = level_crossings(|x| 3.0 + 1e-14 * (1e4 * x).sin(), 0.0, 1.0, 1e-12, 100).unwrap();
         assert!(noise.is_empty(), "{noise:?}");
-        // Too many crossings: refused.
+        // Too many crossings: refused; exactly as many as allowed: kept
+        // (2.5x crosses 1 and 2 at 0.4 and 0.8).
         assert!(level_crossings(|x| 1e3 * x, 0.0, 1.0, 1e-12, 100).is_none());
+        let c = level_crossings(|x| 2.5 * x, 0.0, 1.0, 1e-12, 2).unwrap();
+        assert!(c.len() == 2 && (c[0] - 0.4).abs() < 1e-12 && (c[1] - 0.8).abs() < 1e-12, "{c:?}");
     }
 
     #[test]
@@ -458,6 +461,21 @@ mod tests {
         for (k, got) in c.iter().enumerate() {
             let want = ((k + 1) as f64 * std::f64::consts::PI - 0.3) / (6000.0 * std::f64::consts::PI);
             assert!((got - want).abs() < 1e-9, "{k}: {got} vs {want}");
+        }
+    }
+
+    #[test]
+    fn levels_crossed_in_one_step_come_out_in_order() {
+        // −2.5·tanh((x − c)/w) falls through 2, 1, 0, −1, −2 at
+        // x = c − w·atanh(k/2.5) (arithmetic, common practice). With w
+        // far below the first scan's step the refined steps still span
+        // several levels each; the crossings must come out ascending.
+        let (c0, w) = (0.500_03, 1e-5);
+        let c = level_crossings(|x| -2.5 * ((x - c0) / w).tanh(), 0.0, 1.0, 1e-12, 100).unwrap();
+        assert_eq!(c.len(), 5, "{c:?}");
+        for (got, k) in c.iter().zip([2.0f64, 1.0, 0.0, -1.0, -2.0]) {
+            let want = c0 - w * (k / 2.5).atanh();
+            assert!((got - want).abs() < 1e-12, "level {k}: {got} vs {want}");
         }
     }
 
