@@ -184,13 +184,8 @@ mod tests {
         // on its edges and not a number.
         let (half, nx, ny) = (3.0, 7, 5);
         let mut h = ScreenHits::default();
-        let mut seed = 0x2545_f491_4f6c_dd1d_u64;
-        let mut next = || {
-            seed ^= seed << 13;
-            seed ^= seed >> 7;
-            seed ^= seed << 17;
-            (seed >> 11) as f64 / (1u64 << 53) as f64
-        };
+        // Spread points: the fractional parts of k·(√5 − 1)/2 and k·(√2 − 1).
+        let spread = |k: usize, a: f64| 8.0 * (k as f64 * a).fract() - 4.0;
         let n = 2 * 8 * nx * ny * MAX_FLUX_PARTS + 1000;
         for k in 0..n {
             let (u, v) = match k % 97 {
@@ -198,7 +193,7 @@ mod tests {
                 1 => (-half, half),
                 2 => (half, -half),
                 3 => (10.0 * half, -10.0 * half),
-                _ => (8.0 * next() - 4.0, 8.0 * next() - 4.0),
+                _ => (spread(k, 0.618_033_988_749_895), spread(k, 0.414_213_562_373_095_1)),
             };
             h.u.push(u);
             h.v.push(v);
