@@ -547,3 +547,21 @@ fn each_draw_is_its_documented_word_pair() {
         }
     }
 }
+
+#[test]
+fn percentiles_interpolate_between_order_statistics() {
+    // Hyndman & Fan, "Sample quantiles in statistical packages", The
+    // American Statistician 50(4), 1996, definition 7: position (n − 1)q
+    // from 0 in the sorted values, linear between neighbours. Worked by
+    // hand: 1..10 at q = 0.25 sits at 2.25 → 3.25; {15, 20, 35, 40, 50}
+    // (given unsorted) at 0.9 sits at 3.6 → 46, at 0.5 exactly on 35,
+    // at 0.3 at 1.2 → 20 + 0.2·15 = 23, at 0 and 1 on the extremes.
+    use catoptric::design::tolerance::percentile;
+    let ten: Vec<f64> = (1..=10).map(f64::from).collect();
+    let five = [40.0, 15.0, 50.0, 35.0, 20.0];
+    for (xs, q, want) in [(&ten[..], 0.25, 3.25), (&five[..], 0.9, 46.0), (&five[..], 0.5, 35.0), (&five[..], 0.0, 15.0), (&five[..], 1.0, 50.0), (&five[..], 0.3, 23.0)] {
+        let got = percentile(xs, q);
+        assert!((got - want).abs() < 1e-12, "q {q}: {got} vs {want}");
+    }
+    assert!(percentile(&[], 0.5).is_nan());
+}
