@@ -440,6 +440,32 @@ mod tests {
     }
 
     #[test]
+    fn the_picture_covers_the_disk_and_no_more() {
+        // A disk of radius a in a 2a square covers π/4 of it (area of a
+        // circle, common geometry); with 3 × 3 samples a pixel the sum of
+        // the coverage fractions matches to the rim's sampling error
+        // (about one sample row around the perimeter). The corners lie
+        // outside, and the middle row is inside from edge to edge.
+        let n = 90;
+        let pic = MirrorPicture::render(n, 50.0, |_, _| true).unwrap();
+        let area: f64 = pic.inside.iter().map(|&v| f64::from(v)).sum();
+        let want = std::f64::consts::FRAC_PI_4 * (n * n) as f64;
+        assert!((area - want).abs() < 2.0 * std::f64::consts::PI * n as f64 / 2.0 / 3.0, "{area} vs {want}");
+        for corner in [0, n - 1, n * (n - 1), n * n - 1] {
+            assert_eq!(pic.inside[corner], 0.0, "corner {corner}");
+        }
+        assert!(pic.inside[n / 2 * n..(n / 2 + 1) * n].iter().all(|&v| v > 0.0));
+        // Row by row, the lit width is the chord 2√(a² − y²) to within a
+        // pixel at each end.
+        for row in [5, 20, 44, 70] {
+            let y = 50.0 - (row as f64 + 0.5) * (100.0 / n as f64);
+            let chord = 2.0 * (50.0f64 * 50.0 - y * y).sqrt() * n as f64 / 100.0;
+            let got: f64 = pic.inside[row * n..(row + 1) * n].iter().map(|&v| f64::from(v)).sum();
+            assert!((got - chord).abs() < 2.0, "row {row}: {got} vs {chord}");
+        }
+    }
+
+    #[test]
     fn crossings_of_a_scan_that_starts_past_zero() {
         // 3x over [1, 2] crosses 4 and 5 at 4/3 and 5/3 and ends on 6 at 2
         // (arithmetic, common practice); 3 at the start is no crossing.
