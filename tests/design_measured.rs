@@ -186,6 +186,8 @@ fn bad_readings_name_the_field() {
     assert_eq!(e(&[[130.0, 0.1]]), "readings[0].r_mm");
     assert_eq!(profile_from_readings(-R, -1.0, D, &[[30.0, 0.1]]).unwrap_err().field, "radius");
     assert_eq!(zones_needing_work(R, -1.0, D, &[[30.0, 0.1]], -1.0).unwrap_err().field, "tolerance_nm");
+    // A zone past the semi-diameter (by 0.2 mm) is refused there too.
+    assert_eq!(zones_needing_work(R, -1.0, D, &[[0.5 * D + 0.2, 0.1]], 5.0).unwrap_err().field, "readings[0].r_mm");
 }
 
 /// A departure table that is only piston plus a change of radius (a ρ²
@@ -213,4 +215,69 @@ fn departure_table_piston_and_focus_are_not_figure_errors() {
     assert_eq!(top.verdict, ZoneVerdict::High);
     assert!(work.iter().filter(|w| w.verdict == ZoneVerdict::High).count() == 1);
     assert!(departures_needing_work(&rows, -1.0).unwrap_err().field == "tolerance_nm");
+}
+
+/// Where the readings put a zone's normal through the vertex side of the
+/// mirror (R + ζ(ρ) − z ≤ 0: the normals would cross behind it) no
+/// surface fits, and the refusal says where. Sphere, readings falling
+/// linearly from 0 at ρ = 10 mm to −1990 mm at 90 mm (extrapolated
+/// linearly beyond): the meridian dz/dρ = ρ/(R + ζ − z) (the
+/// normal-intercept definition above) reaches R + ζ = z at ρ = 89.609 mm,
+/// z = 19.7 mm (integrated separately by classical Runge–Kutta at a step
+/// 250 times finer, Press et al., Numerical Recipes, 3rd ed., §17.1);
+/// the refusal names a ρ within two of the product's steps of it.
+#[test]
+fn readings_whose_normals_cross_behind_the_mirror_are_refused_where_they_do() {
+    let e = profile_from_readings(R, 0.0, D, &[[10.0, 0.0], [90.0, -1990.0]]).unwrap_err();
+    assert_eq!(e.field, "readings", "{e}");
+    let msg = e.to_string();
+    let at: f64 = msg.split("ρ = ").nth(1).and_then(|s| s.split(' ').next()).and_then(|s| s.parse().ok()).expect("ρ in the message");
+    assert!((at - 89.609).abs() <= 0.05, "{msg}");
+    // Close to that but not past it, the readings are a steep, valid figure.
+    assert!(profile_from_readings(R, 0.0, D, &[[10.0, 0.0], [100.0, -1850.0]]).is_ok());
+}
+
+/// Input limits, inclusive where the documentation says "at most"
+/// (common practice: a limit is accepted, one past it is refused, and
+/// the refusal names the field): MAX_ROWS readings, a zone at the
+/// semi-diameter, a conic constant of magnitude 10⁶, a departure of
+/// 10⁷ mm; an oblate conic (R = 2000, K = 3) ends at ρ = R/√(1 + K) =
+/// 1000 mm (the conic's domain, ISO 10110-12 sag formula), so a 1900 mm
+/// mirror fits and a 2100 mm one does not.
+#[test]
+fn limits_are_inclusive_and_refusals_name_the_field() {
+    use catoptric::design::measured::MAX_ROWS;
+    let many: Vec<[f64; 2]> = (1..=MAX_ROWS).map(|i| [i as f64 * 0.1, 0.0]).collect();
+    assert!(profile_from_readings(R, -1.0, D, &many).is_ok());
+    let mut more = many.clone();
+    more.push([99.0, 0.0]);
+    assert_eq!(profile_from_readings(R, -1.0, D, &more).unwrap_err().field, "readings");
+    assert!(profile_from_readings(R, -1.0, D, &[[50.0, 0.0], [0.5 * D, 0.0]]).is_ok());
+    assert!(profile_from_readings(R, -1.0e6, D, &[[50.0, moving_source_reading(R, -1.0e6, 50.0)]]).is_ok());
+    for k in [-1.0e6 - 1.0, -2.0e6] {
+        assert_eq!(profile_from_readings(R, k, D, &[[50.0, 0.0]]).unwrap_err().field, "conic");
+    }
+    assert!(profile_from_readings(R, 3.0, 1900.0, &[[50.0, 0.0]]).is_ok());
+    assert_eq!(profile_from_readings(R, 3.0, 2100.0, &[[50.0, 0.0]]).unwrap_err().field, "diameter");
+    assert!(parse_departure_csv("radius,departure_mm\n0,0\n10,1e7\n").is_ok());
+    for (text, field) in [
+        ("radius,departure_mm\n0,0\n10,1.0000001e7\n", "csv line 3 (departure)"),
+        ("0,0\n10,1e300\n", "csv line 2 (departure)"),
+        ("-1,0\n10,1\n", "csv line 1 (radius)"),
+        ("0,0\n2e7,1\n", "csv line 2 (radius)"),
+    ] {
+        assert_eq!(parse_departure_csv(text).unwrap_err().field, field, "{text:?}");
+    }
+}
+
+/// The traced layout of a measured mirror: its screen at the design focus
+/// R/2 is square, 2 % of the diameter across but at least 1 mm (a
+/// documented contract of `measured_layout`).
+#[test]
+fn the_measured_layout_screen_is_two_percent_of_the_diameter() {
+    for (d, want) in [(200.0, 4.0), (30.0, 1.0), (500.0, 10.0)] {
+        let l = measured_layout("m", R, -1.0, d, &[[0.0, 0.0], [0.5 * d, 0.0]]).unwrap();
+        let s = l.elements.iter().find_map(|e| if let Element::Screen(s) = e { Some(s) } else { None }).unwrap();
+        assert_eq!((s.size, s.center), (want, [0.0, -0.5 * R]), "d = {d}");
+    }
 }

@@ -219,8 +219,9 @@ pub fn measured_mirror(id: &str, radius: f64, conic: f64, d: f64, departure: &[[
 }
 
 /// A layout to trace a measured mirror: the mirror (`mirror`), a screen
-/// `focus` at the design focus R/2 facing it, and a beam `on-axis`
-/// filling it. Validated.
+/// `focus` at the design focus R/2 facing it (square, 2 % of the
+/// diameter across, at least 1 mm), and a beam `on-axis` filling it.
+/// Validated.
 pub fn measured_layout(name: &str, radius: f64, conic: f64, d: f64, departure: &[[f64; 2]]) -> Result<Layout, InputError> {
     let m = measured_mirror("mirror", radius, conic, d, departure)?;
     let screen = Element::Screen(Screen {
