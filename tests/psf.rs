@@ -408,3 +408,27 @@ fn a_square_clipped_pupil_is_partial_and_has_the_triangle_mtf() {
     // The pupil is perfect: its Strehl is still 1 (same-pupil reference).
     assert!(r.strehl >= 0.99, "{}", r.strehl);
 }
+
+#[test]
+fn a_wavefront_too_steep_for_the_grid_is_noted_with_its_largest_step() {
+    // A perfect f/8 paraboloid with the screen δ = 2 mm beyond focus:
+    // W020 = δ/(8N²) ≈ 7 waves at the rim (the defocus formula above).
+    // On a 32-cell grid (cell centres −1 + (k + ½)/16) the largest change
+    // between neighbouring lit cells is at the rim of the middle rows,
+    // between centres 29/32 and 31/32: W020·((31/32)² − (29/32)²) =
+    // 0.1171875·W020 ≈ 0.83 waves, past the ½ wave a grid can hold
+    // (Nyquist sampling of the pupil phase, common practice), so the
+    // report says the PSF is aliased and by how much. At its best focus
+    // the same mirror is smooth and gets no such note.
+    let delta = 2.0;
+    let text = layout(&[mirror_with_hole(1600.0, -1.0, 100.0, 0.0), screen("s", 0.0, 200.0 - delta, 40.0, "square", false)], &[star(100.0, 60000, 0.0)]);
+    let n = paraboloid_n(800.0, 50.0);
+    let w020 = delta / (8.0 * n * n) / 550e-6;
+    let want = 0.1171875 * w020;
+    let r = image(&text, PsfFocus::Screen, 32);
+    let note = r.notes.iter().find(|s| s.contains("aliased")).unwrap_or_else(|| panic!("no aliasing note: {:?}", r.notes));
+    let step: f64 = note.split("changes by ").nth(1).and_then(|s| s.split(' ').next()).and_then(|s| s.parse().ok()).expect("the step in the note");
+    assert!((step - want).abs() < 0.03 * want, "{note} (want {want:.3})");
+    let best = image(&text, PsfFocus::Best, 32);
+    assert!(best.notes.iter().all(|s| !s.contains("aliased")), "{:?}", best.notes);
+}
