@@ -281,3 +281,31 @@ fn the_measured_layout_screen_is_two_percent_of_the_diameter() {
         assert_eq!((s.size, s.center), (want, [0.0, -0.5 * R]), "d = {d}");
     }
 }
+
+/// A smooth figure error of c·(ρ/a)⁴ on the paraboloid, read at ten
+/// zones: after removing piston and a change of radius by area-weighted
+/// least squares, what is left is c·(u² − u + 1/6) with u = (ρ/a)² (the
+/// fit of u² by p + q·u with uniform weight in u, i.e. per unit area, is
+/// q = 1, p = −1/6: the shifted Legendre polynomial P₂*(u)/6; Abramowitz
+/// & Stegun 22.2.11). Each zone's reported error matches to 2 nm of the
+/// 100 nm error; a zone on the rim is judged too, and a tolerance of 0 is
+/// allowed.
+#[test]
+fn zone_errors_are_the_departure_less_piston_and_focus() {
+    let (c, a) = (1e-4, 0.5 * D);
+    let bump = move |r: f64| c * (r / a).powi(4);
+    let mut radii = zone_radii(10);
+    radii.push(a);
+    let readings: Vec<[f64; 2]> = radii.iter().map(|&r| [r, reading_of(r, &bump)]).collect();
+    let work = zones_needing_work(R, -1.0, D, &readings, 0.0).unwrap();
+    assert_eq!(work.len(), radii.len());
+    for w in &work {
+        let u = (w.r_mm / a).powi(2);
+        let want = c * (u * u - u + 1.0 / 6.0) * 1e6;
+        assert!((w.surface_error_nm - want).abs() < 2.0, "ρ = {}: {} nm vs {want} nm", w.r_mm, w.surface_error_nm);
+        // With no tolerance every zone proud of the target is high, every
+        // one below it low.
+        let verdict = if want > 2.0 { Some(ZoneVerdict::High) } else if want < -2.0 { Some(ZoneVerdict::Low) } else { None };
+        assert!(verdict.is_none_or(|v| v == w.verdict), "ρ = {}: {:?} for {want} nm", w.r_mm, w.verdict);
+    }
+}
