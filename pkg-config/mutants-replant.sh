@@ -23,9 +23,9 @@ for o in json.load(open(sys.argv[1]))["outcomes"]:
         print(f'{o["diff_path"]}\t{m["file"]}\t{m["name"]}')
 PY
   d="$out/mutants.out/$diff"
-  if ! patch -s --dry-run "$file" < "$d" > /dev/null 2>&1; then echo "NOAPPLY $name"; continue; fi
-  patch -s "$file" < "$d"
+  if ! patch -s --dry-run --no-backup-if-mismatch "$file" < "$d" > /dev/null 2>&1; then echo "NOAPPLY $name"; continue; fi
+  patch -s --no-backup-if-mismatch "$file" < "$d"
   if cargo test -q "$@" > /dev/null 2>&1; then echo "MISSED  $name"; else echo "CAUGHT  $name"; fi
-  patch -s -R "$file" < "$d"
+  patch -s -R --no-backup-if-mismatch "$file" < "$d"
 done
 git diff --stat -- src
