@@ -15,7 +15,7 @@ filter=.
 if [[ ${1:-} != -- ]]; then filter=$1; shift; fi
 [[ ${1:-} == -- ]] && shift
 cd "$(dirname "$0")/.."
-python3 - "$out/mutants.out/outcomes.json" <<'PY' | grep -E -- "$filter" | while IFS=$'\t' read -r diff file name; do
+python3 - "$out/mutants.out/outcomes.json" <<'PY' | { grep -E -- "$filter" || echo "no missed mutant matches $filter" >&2; } | while IFS=$'\t' read -r diff file name; do
 import json, sys
 for o in json.load(open(sys.argv[1]))["outcomes"]:
     if o.get("summary") == "MissedMutant":
