@@ -9,8 +9,9 @@
 //! v axis, each made perpendicular to m (Gram–Schmidt, in that order). So
 //! pupil x runs along screen u, pupil y along screen v (the tangential
 //! direction), and θ turns from +x toward +y. The unit pupil is centred on
-//! the weighted centroid of the lit pupil and its radius is the outermost
-//! ray's (the lit pupil's outer rim).
+//! the weighted centroid of the lit pupil — which is m itself, since m is
+//! the rays' power-weighted mean direction: Σ w·(d·ex) = |Σ w·d|·(m·ex) = 0
+//! — and its radius is the outermost ray's (the lit pupil's outer rim).
 //!
 //! # Wavefront
 //!
@@ -82,23 +83,16 @@ pub(crate) fn pupil_rays(sel: &Subset, reference: [f64; 3], wavelength_mm: f64) 
     let weight = sel.weights().into_owned();
     let n = sel.n;
     let mut out = PupilRays { x: Vec::with_capacity(n), y: Vec::with_capacity(n), opd_waves: Vec::with_capacity(n), ..Default::default() };
-    let (mut cx, mut cy) = (0.0, 0.0);
+    let (mut rmax, mut rmin) = (0.0f64, f64::INFINITY);
     for k in 0..n {
+        // Centred by construction (module doc): no centroid to subtract.
         let (a, b) = (du[k] * ex.x + dv[k] * ex.y + dw[k] * ex.z, du[k] * ey.x + dv[k] * ey.y + dw[k] * ey.z);
         out.x.push(a);
         out.y.push(b);
-        cx += weight[k] * a;
-        cy += weight[k] * b;
-        out.opd_waves.push(-f.sample_of(u[k], v[k], du[k], dv[k], dw[k], opl[k])[3] / wavelength_mm);
-    }
-    let (cx, cy) = (cx / sel.w, cy / sel.w);
-    let (mut rmax, mut rmin) = (0.0f64, f64::INFINITY);
-    for k in 0..n {
-        out.x[k] -= cx;
-        out.y[k] -= cy;
-        let r = out.x[k].hypot(out.y[k]);
+        let r = a.hypot(b);
         rmax = rmax.max(r);
         rmin = rmin.min(r);
+        out.opd_waves.push(-f.sample_of(u[k], v[k], du[k], dv[k], dw[k], opl[k])[3] / wavelength_mm);
     }
     if !(rmax > 0.0 && rmax.is_finite()) || out.opd_waves.iter().any(|w| !w.is_finite()) {
         return None;
@@ -274,4 +268,262 @@ fn summed_area(a: &[f64], n: usize) -> Vec<f64> {
 fn box_sum(s: &[f64], n: usize, r0: usize, r1: usize, c0: usize, c1: usize) -> f64 {
     let m = n + 1;
     s[r1 * m + c1] - s[r0 * m + c1] - s[r1 * m + c0] + s[r0 * m + c0]
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::trace::ScreenHits;
+
+    const LAMBDA: f64 = 550e-6;
+
+    /// Points spread evenly over the unit disk: Vogel's sunflower spiral
+    /// (H. Vogel, Math. Biosci. 44 (1979) 179–189), radius √((k+½)/n),
+    /// angle k times the golden angle.
+    fn sunflower(n: usize) -> Vec<(f64, f64)> {
+        let golden = std::f64::consts::PI * (3.0 - 5f64.sqrt());
+        (0..n).map(|k| (((k as f64 + 0.5) / n as f64).sqrt(), k as f64 * golden)).collect()
+    }
+
+    /// Hits of rays d = cos θ·m + sin θ·(cos φ·e1 + sin φ·e2) converging on
+    /// `p` (screen frame, p.z ahead of the screen), with a designed
+    /// wavefront: each ray's path to p is shortened by λ·W(ρ, φ).
+    fn converging(m: Vec3, rays: &[(f64, f64)], sin_max: f64, p: Vec3, wave: impl Fn(f64, f64) -> f64, weight: impl Fn(f64) -> f64) -> ScreenHits {
+        // The test's own basis across m: e1 from m × z (not the code's).
+        let e1 = m.cross(&Vec3::z()).normalize();
+        let e2 = m.cross(&e1);
+        let mut h = ScreenHits::default();
+        for &(rho, phi) in rays {
+            let s = rho * sin_max;
+            let d = m * (1.0 - s * s).sqrt() + (e1 * phi.cos() + e2 * phi.sin()) * s;
+            let t = p.z / d.z; // from the screen (z = 0) on to p
+            let hit = p - d * t;
+            h.u.push(hit.x);
+            h.v.push(hit.y);
+            h.du.push(d.x);
+            h.dv.push(d.y);
+            h.dw.push(d.z);
+            h.opl.push(1000.0 - t - LAMBDA * wave(rho, phi));
+            h.weight.push(weight(rho));
+            h.source.push(0);
+            h.first.push(true);
+        }
+        h
+    }
+
+    /// The sunflower's points and their opposites (φ + π): a set whose
+    /// mean direction is exactly m, as for any symmetric pupil.
+    fn paired(n: usize) -> Vec<(f64, f64)> {
+        sunflower(n).into_iter().flat_map(|(r, a)| [(r, a), (r, a + std::f64::consts::PI)]).collect()
+    }
+
+    fn tilted() -> Vec3 {
+        Vec3::new(0.3, -0.2, 1.0).normalize()
+    }
+
+    #[test]
+    fn pupil_points_are_direction_cosines_across_the_mean_direction() {
+        // Common practice: the exit pupil in direction cosines, the ray's
+        // transverse direction component sin θ about the chief direction;
+        // a cone of half-angle θmax fills the unit pupil, ρ = sin θ/sin θmax.
+        // Light tilted out of both screen axes, so each axis's Gram–Schmidt
+        // step matters; a spherical-plus-fourth-order wavefront of known
+        // sign (positive = shorter path, arriving early).
+        let m = tilted();
+        let rays = paired(200);
+        let (sin_max, p) = (0.12, Vec3::new(1.0, -2.0, 3.0));
+        let wave = |rho: f64, _: f64| 0.8 * rho * rho - 0.3 * rho.powi(4);
+        let h = converging(m, &rays, sin_max, p, wave, |_| 1.0);
+        let sel = Subset::new(&h, Some(0));
+        let r = pupil_rays(&sel, [p.x, p.y, p.z], LAMBDA).expect("a full cone");
+        let rho_max = rays.iter().map(|r| r.0).fold(0.0, f64::max);
+        assert!((r.rim - rho_max * sin_max).abs() < 1e-12, "rim {}", r.rim);
+        assert_eq!(r.obscuration, 0.0, "a full disk");
+        let w0 = wave(rays[0].0, 0.0);
+        for (k, &(rho, phi)) in rays.iter().enumerate() {
+            let got = r.x[k].hypot(r.y[k]);
+            assert!((got - rho / rho_max).abs() < 1e-9, "ray {k}: ρ {got} against {}", rho / rho_max);
+            assert!((r.opd_waves[k] - (wave(rho, phi) - w0)).abs() < 1e-6, "ray {k}: W {} against {}", r.opd_waves[k], wave(rho, phi) - w0);
+        }
+        assert_eq!(r.weight, vec![1.0; rays.len()]);
+    }
+
+    #[test]
+    fn pupil_x_runs_along_screen_u_and_y_along_screen_v() {
+        // The documented axes (module doc): a ray leaning from m toward
+        // the screen's +u lies on the pupil's +x axis (y = 0); one leaning
+        // toward +v has y > 0. Common practice for a right-handed pupil.
+        let m = tilted();
+        let mut rays = paired(25);
+        let mut h = converging(m, &rays, 0.1, Vec3::new(0.0, 0.0, 2.0), |_, _| 0.0, |_| 1.0);
+        for (k, lean) in [(0, Vec3::x()), (1, Vec3::y())] {
+            let d = (m + lean * 0.05).normalize();
+            (h.du[k], h.dv[k], h.dw[k]) = (d.x, d.y, d.z);
+            rays[k] = (f64::NAN, f64::NAN);
+        }
+        let sel = Subset::new(&h, Some(0));
+        let r = pupil_rays(&sel, [0.0, 0.0, 2.0], LAMBDA).unwrap();
+        // The two leaning rays pull the mean direction a little; their
+        // positions about it still lie where the axes say, to that pull.
+        assert!(r.x[0] > 0.1 && r.y[0].abs() < 0.05 * r.x[0], "toward +u: ({}, {})", r.x[0], r.y[0]);
+        assert!(r.y[1] > 0.1, "toward +v: ({}, {})", r.x[1], r.y[1]);
+    }
+
+    #[test]
+    fn an_annular_cone_reports_its_obscuration_and_parallel_light_has_no_pupil() {
+        // Obscuration ratio ε = inner/outer radius of the lit annulus
+        // (common practice; e.g. a central hole). Rays inside sin θ ≥ 0.4
+        // sin θmax only.
+        let m = tilted();
+        let rays: Vec<(f64, f64)> = paired(300).into_iter().map(|(r, a)| (0.4 + 0.6 * r, a)).collect();
+        let h = converging(m, &rays, 0.1, Vec3::new(0.0, 0.0, 2.0), |_, _| 0.0, |_| 1.0);
+        let r = pupil_rays(&Subset::new(&h, Some(0)), [0.0, 0.0, 2.0], LAMBDA).unwrap();
+        let (lo, hi) = rays.iter().fold((f64::INFINITY, 0.0f64), |(l, h), r| (l.min(r.0), h.max(r.0)));
+        assert!((r.obscuration - lo / hi).abs() < 1e-9, "ε {}", r.obscuration);
+
+        // Every ray along the screen normal: no cone (every pupil point
+        // exactly 0), no pupil to normalise.
+        let mut parallel = ScreenHits::default();
+        for k in 0..20 {
+            parallel.extend_range(&h, 0..1);
+            (parallel.u[k], parallel.v[k]) = (0.1 * k as f64, -0.05 * k as f64);
+            (parallel.du[k], parallel.dv[k], parallel.dw[k]) = (0.0, 0.0, 1.0);
+        }
+        let sel = Subset::new(&parallel, Some(0));
+        assert!(sel.mean_dir().is_some() && Fit::start(&sel, [0.0, 0.0, 2.0]).is_some(), "well-formed hits");
+        assert!(pupil_rays(&sel, [0.0, 0.0, 2.0], LAMBDA).is_none());
+    }
+
+    /// Rays on a sunflower over the unit disk (or an annulus from `inner`)
+    /// with values `f(x, y)` and weights `w(ρ)`.
+    fn disk(n: usize, inner: f64, w: impl Fn(f64) -> f64) -> PupilRays {
+        let mut p = PupilRays { rim: 0.1, obscuration: inner, ..Default::default() };
+        for (rho, a) in sunflower(n) {
+            // Evenly over the annulus: equal areas for equal steps of ρ².
+            let rho = (inner * inner + (1.0 - inner * inner) * rho * rho).sqrt();
+            p.x.push(rho * a.cos());
+            p.y.push(rho * a.sin());
+            p.weight.push(w(rho));
+        }
+        // Outermost ray exactly on the rim, as pupil_rays normalises.
+        let s = p.x.iter().zip(&p.y).map(|(x, y)| x.hypot(*y)).fold(0.0, f64::max);
+        p.x.iter_mut().chain(p.y.iter_mut()).for_each(|c| *c /= s);
+        p.opd_waves = vec![0.0; n];
+        p
+    }
+
+    fn centre(n: usize, k: usize) -> f64 {
+        -1.0 + (k as f64 + 0.5) * 2.0 / n as f64
+    }
+
+    #[test]
+    fn resampling_reproduces_a_tilted_plane_at_every_lit_cell() {
+        // Linear interpolation in a triangle is exact for a linear function
+        // (barycentric coordinates; e.g. de Berg et al., Computational
+        // Geometry, 3rd ed., §9.1). The lit cells are the disk's: every cell
+        // centre well inside lit, every one outside the unit disk dark.
+        let p = disk(3000, 0.0, |_| 1.0);
+        let values: Vec<f64> = p.x.iter().zip(&p.y).map(|(x, y)| 0.7 * x - 0.3 * y + 0.25).collect();
+        let n = 32;
+        let g = resample(&p, &values, n).unwrap();
+        assert_eq!(g.n, n);
+        let mut lit = 0;
+        for i in 0..n {
+            for j in 0..n {
+                let (x, y) = (centre(n, j), centre(n, i));
+                let k = i * n + j;
+                let r = x.hypot(y);
+                if r < 0.95 {
+                    assert!(g.amplitude[k] > 0.0, "cell ({i}, {j}) at r = {r} dark");
+                }
+                if r > 1.0 + 1e-9 {
+                    assert_eq!(g.amplitude[k], 0.0, "cell ({i}, {j}) at r = {r} lit");
+                }
+                if g.amplitude[k] > 0.0 {
+                    lit += 1;
+                    let want = 0.7 * x - 0.3 * y + 0.25;
+                    assert!((g.opd_waves[k] - want).abs() < 1e-9, "cell ({i}, {j}): {} against {want}", g.opd_waves[k]);
+                    // Evenly spread rays of equal power: a flat amplitude.
+                    if r < 0.8 {
+                        assert!((g.amplitude[k] - 1.0).abs() < 0.1, "cell ({i}, {j}) amplitude {}", g.amplitude[k]);
+                    }
+                }
+            }
+        }
+        assert_eq!(g.lit, lit);
+        assert!((g.fill - 1.0).abs() < 0.03, "fill {}", g.fill);
+    }
+
+    #[test]
+    fn resampling_leaves_the_central_hole_dark() {
+        // Triangles spanning the hole have edges of the hole's size, far
+        // beyond the ray spacing: dropped, so the hole stays dark and the
+        // annulus (cells between ε and 1) is filled. Common practice.
+        let p = disk(3000, 0.4, |_| 1.0);
+        let values = vec![0.0; p.x.len()];
+        let n = 32;
+        let g = resample(&p, &values, n).unwrap();
+        for i in 0..n {
+            for j in 0..n {
+                let r = centre(n, j).hypot(centre(n, i));
+                let a = g.amplitude[i * n + j];
+                if r < 0.35 {
+                    assert_eq!(a, 0.0, "hole cell ({i}, {j}) at r = {r} lit");
+                } else if r > 0.45 && r < 0.95 {
+                    assert!(a > 0.0, "annulus cell ({i}, {j}) at r = {r} dark");
+                }
+            }
+        }
+        assert!((g.fill - 1.0).abs() < 0.05, "fill of the annulus {}", g.fill);
+    }
+
+    #[test]
+    fn resampled_amplitude_follows_the_square_root_of_the_power_density() {
+        // Amplitude = √(intensity) (common practice, e.g. Goodman,
+        // Introduction to Fourier Optics, 3rd ed., §6.1); with evenly
+        // spread rays the power density is the weight profile, here a
+        // Gaussian apodisation e^(−2ρ²), so amplitude ∝ e^(−ρ²). Up to the
+        // averaging box of a few ray spacings.
+        let p = disk(20000, 0.0, |r| (-2.0 * r * r).exp());
+        let n = 32;
+        let g = resample(&p, &vec![0.0; p.x.len()], n).unwrap();
+        let mid = n / 2;
+        let a0 = 0.25 * (g.amplitude[(mid - 1) * n + mid - 1] + g.amplitude[(mid - 1) * n + mid] + g.amplitude[mid * n + mid - 1] + g.amplitude[mid * n + mid]);
+        let r0 = centre(n, mid).hypot(centre(n, mid));
+        for i in 0..n {
+            for j in 0..n {
+                let r = centre(n, j).hypot(centre(n, i));
+                if r < 0.75 {
+                    let want = (r0 * r0 - r * r).exp();
+                    let got = g.amplitude[i * n + j] / a0;
+                    assert!((got - want).abs() < 0.03, "cell ({i}, {j}) at r = {r}: {got} against {want}");
+                }
+            }
+        }
+        // The amplitudes are scaled to a mean of 1 over the lit cells.
+        let mean = g.amplitude.iter().sum::<f64>() / g.lit as f64;
+        assert!((mean - 1.0).abs() < 1e-12, "mean {mean}");
+    }
+
+    #[test]
+    fn the_largest_step_is_taken_between_lit_neighbours_only() {
+        // Definition (module doc): the largest |ΔW| between lit cells side
+        // by side along a row or a column, the Nyquist test of the phase
+        // (common practice). A 3×3 grid worked by hand:
+        //   W: 0.0 0.1 0.9      lit: 1 1 0
+        //      0.2 0.5 0.6           1 1 1
+        //      5.0 0.3 0.2           0 1 1
+        // Row steps between lit cells 0.1, 0.3 (0.2→0.5), 0.1, 0.1; column
+        // steps 0.2, 0.4 (0.1→0.5), 0.2 (0.5→0.3), 0.4 (0.6→0.2). The dark
+        // cells' 0.9 and 5.0 must not count: the largest is 0.4.
+        let amplitude = vec![1.0, 1.0, 0.0, 1.0, 1.0, 1.0, 0.0, 1.0, 1.0];
+        let opd = vec![0.0, 0.1, 0.9, 0.2, 0.5, 0.6, 5.0, 0.3, 0.2];
+        let g = PupilGrid { n: 3, amplitude, opd_waves: opd, lit: 7, fill: 1.0 };
+        assert!((g.max_step_waves() - 0.4).abs() < 1e-12, "{}", g.max_step_waves());
+        // Steps down a column only, then along a row only.
+        let col = PupilGrid { n: 2, amplitude: vec![1.0; 4], opd_waves: vec![0.0, 0.0, -0.7, 0.0], lit: 4, fill: 1.0 };
+        assert!((col.max_step_waves() - 0.7).abs() < 1e-12, "{}", col.max_step_waves());
+        let row = PupilGrid { n: 2, amplitude: vec![1.0; 4], opd_waves: vec![0.0, 0.0, 0.0, 0.6], lit: 4, fill: 1.0 };
+        assert!((row.max_step_waves() - 0.6).abs() < 1e-12, "{}", row.max_step_waves());
+    }
 }
