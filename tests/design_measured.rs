@@ -11,6 +11,7 @@ use catoptric::design::{
     departures_needing_work, measured_layout, moving_source_reading, parse_departure_csv, profile_from_readings, zone_edges, zones_needing_work,
     ZoneVerdict,
 };
+use catoptric::design::measured::MAX_ROWS;
 use catoptric::geometry::Profile;
 use catoptric::layout::{parse_layout, Element};
 use catoptric::{trace, Scene, TraceOptions};
@@ -215,6 +216,42 @@ fn departure_table_piston_and_focus_are_not_figure_errors() {
     assert_eq!(top.verdict, ZoneVerdict::High);
     assert!(work.iter().filter(|w| w.verdict == ZoneVerdict::High).count() == 1);
     assert!(departures_needing_work(&rows, -1.0).unwrap_err().field == "tolerance_nm");
+}
+
+/// Rows at uneven radii weigh by the annulus each stands for (halfway to
+/// its neighbours): rows at ρ = 0, 10, 30 mm stand for areas ∝ 5², 20² − 5²,
+/// 30² − 20² = 25, 375, 500. Worked by hand with the weighted least-squares
+/// normal equations (Press et al., Numerical Recipes 3rd ed. §15.4) for
+/// piston p and a ρ² term q, departures (0, 0, 100 nm):
+///   [900 487500; 487500 4.0875e8]·(p, q) = (0.05, 45)·1e-3,
+///   det = 1.3021875e11, p = −1.5e6/det mm, q = 16125/det mm⁻¹,
+/// residuals e = (Δz − p − q·ρ²)·1e6 nm = 1.5e12/det, −1.125e11/det,
+/// 100 − 1.30125e13/det.
+#[test]
+fn departure_rows_weigh_by_the_annulus_they_stand_for() {
+    let rows = [[0.0, 0.0], [10.0, 0.0], [30.0, 100e-6]];
+    let det = 1.3021875e11;
+    let want = [1.5e12 / det, -1.125e11 / det, 100.0 - 1.30125e13 / det];
+    let work = departures_needing_work(&rows, 5.0).unwrap();
+    for (w, e) in work.iter().zip(want) {
+        assert!((w.surface_error_nm - e).abs() < 1e-6, "ρ {}: {} nm against {e} nm", w.r_mm, w.surface_error_nm);
+    }
+    let verdicts: Vec<_> = work.iter().map(|w| w.verdict).collect();
+    assert_eq!(verdicts, [ZoneVerdict::High, ZoneVerdict::Ok, ZoneVerdict::Ok]);
+    // A zero tolerance is allowed: every row off the fit is high or low.
+    let strict: Vec<_> = departures_needing_work(&rows, 0.0).unwrap().iter().map(|w| w.verdict).collect();
+    assert_eq!(strict, [ZoneVerdict::High, ZoneVerdict::Low, ZoneVerdict::High]);
+}
+
+/// The table needs two rows at least (piston and focus take two) and at
+/// most MAX_ROWS; each limit is met exactly. A documented input contract.
+#[test]
+fn departure_tables_take_two_to_max_rows() {
+    let table = |n: usize| (0..n).map(|i| [i as f64, 1e-6 * i as f64]).collect::<Vec<[f64; 2]>>();
+    assert_eq!(departures_needing_work(&table(1), 5.0).unwrap_err().field, "csv");
+    assert_eq!(departures_needing_work(&table(2), 5.0).unwrap().len(), 2);
+    assert_eq!(departures_needing_work(&table(MAX_ROWS), 5.0).unwrap().len(), MAX_ROWS);
+    assert_eq!(departures_needing_work(&table(MAX_ROWS + 1), 5.0).unwrap_err().field, "csv");
 }
 
 /// Where the readings put a zone's normal through the vertex side of the
