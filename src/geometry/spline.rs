@@ -143,5 +143,34 @@ mod tests {
         let e = NaturalSpline::even(&[[2.0, 1.0], [3.0, 1.0]]).unwrap();
         assert!((e.eval(0.0).0 - 1.0).abs() < 1e-12);
         assert!(NaturalSpline::even(&[[-1.0, 0.0], [1.0, 0.0]]).is_none());
+        // Refused even when the mirrored knots would still increase.
+        assert!(NaturalSpline::even(&[[-1.0, 0.0], [2.0, 0.0]]).is_none());
+        assert!(NaturalSpline::even(&[[f64::NAN, 0.0], [2.0, 0.0]]).is_none());
+        assert!(NaturalSpline::even(&[]).is_none());
+    }
+
+    #[test]
+    fn natural_spline_matches_hand_worked_examples() {
+        // Natural cubic spline (Press et al., Numerical Recipes 3rd ed.
+        // §3.3, eqs. 3.3.3 and 3.3.7), worked by hand.
+        // Equal steps, knots (0,0) (1,1) (2,0) (3,2): interior equations
+        // 4m₁ + m₂ = −12, m₁ + 4m₂ = 18, so m₁ = −4.4, m₂ = 5.6. At t = ½:
+        // y = ½ + (−⅜)(−4.4)/6 = 0.775, y′ = 1 + (−¼)(−4.4)/6 = 1.18333…;
+        // at t = 2.5: y = 1 − ⅜·5.6/6 = 0.65. End slopes 1 + 4.4/6 and
+        // 2 + 5.6/6 continue linearly outside.
+        let s = NaturalSpline::new(&[[0.0, 0.0], [1.0, 1.0], [2.0, 0.0], [3.0, 2.0]]).unwrap();
+        let close = |got: (f64, f64), want: (f64, f64)| (got.0 - want.0).abs() < 1e-12 && (got.1 - want.1).abs() < 1e-12;
+        assert!(close(s.eval(0.5), (0.775, 1.0 + 1.1 / 6.0)), "{:?}", s.eval(0.5));
+        assert!((s.eval(2.5).0 - 0.65).abs() < 1e-12, "{:?}", s.eval(2.5));
+        let (d0, d3) = (1.0 + 4.4 / 6.0, 2.0 + 5.6 / 6.0);
+        assert!(close(s.eval(-1.0), (-d0, d0)), "{:?}", s.eval(-1.0));
+        assert!(close(s.eval(4.0), (2.0 + d3, d3)), "{:?}", s.eval(4.0));
+        // Unequal steps h₀ = 1, h₁ = 2, knots (0,0) (1,1) (3,0): one
+        // interior equation 2(h₀+h₁)m₁ = 6(−½ − 1), m₁ = −1.5. At t = 2
+        // (a = b = ½, h = 2): y = ½ + (−⅜)(−1.5)·4/6 = 0.875,
+        // y′ = −½ + (¼)(−1.5)·2/6 = −0.625.
+        let u = NaturalSpline::new(&[[0.0, 0.0], [1.0, 1.0], [3.0, 0.0]]).unwrap();
+        assert!(close(u.eval(2.0), (0.875, -0.625)), "{:?}", u.eval(2.0));
+        assert_eq!(u.knots().collect::<Vec<_>>(), vec![(0.0, 0.0), (1.0, 1.0), (3.0, 0.0)]);
     }
 }
