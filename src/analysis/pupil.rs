@@ -455,6 +455,27 @@ mod tests {
     }
 
     #[test]
+    fn resampling_fills_a_randomly_sampled_pupil() {
+        // Rays at random pupil points (a random sampling pattern) leave
+        // edges of every length; the gap test scales with the median edge,
+        // so the disk is still filled (common practice: a robust scale).
+        // Points by a fixed integer hash (splitmix64's finaliser, S. Vigna).
+        let hash = |k: u64| {
+            let mut z = k.wrapping_add(1).wrapping_mul(0x9e37_79b9_7f4a_7c15);
+            z = (z ^ (z >> 30)).wrapping_mul(0xbf58_476d_1ce4_e5b9);
+            z = (z ^ (z >> 27)).wrapping_mul(0x94d0_49bb_1331_11eb);
+            (z ^ (z >> 31)) as f64 / u64::MAX as f64
+        };
+        let mut p = disk(3000, 0.0, |_| 1.0);
+        for k in 0..p.x.len() {
+            let (r, a) = (hash(2 * k as u64).sqrt(), std::f64::consts::TAU * hash(2 * k as u64 + 1));
+            (p.x[k], p.y[k]) = (r * a.cos(), r * a.sin());
+        }
+        let g = resample(&p, &vec![0.0; p.x.len()], 32).unwrap();
+        assert!(g.fill > 0.95 && g.fill < 1.01, "fill {}", g.fill);
+    }
+
+    #[test]
     fn resampling_leaves_the_central_hole_dark() {
         // Triangles spanning the hole have edges of the hole's size, far
         // beyond the ray spacing: dropped, so the hole stays dark and the
@@ -520,10 +541,19 @@ mod tests {
         let opd = vec![0.0, 0.1, 0.9, 0.2, 0.5, 0.6, 5.0, 0.3, 0.2];
         let g = PupilGrid { n: 3, amplitude, opd_waves: opd, lit: 7, fill: 1.0 };
         assert!((g.max_step_waves() - 0.4).abs() < 1e-12, "{}", g.max_step_waves());
-        // Steps down a column only, then along a row only.
-        let col = PupilGrid { n: 2, amplitude: vec![1.0; 4], opd_waves: vec![0.0, 0.0, -0.7, 0.0], lit: 4, fill: 1.0 };
+        // Only the last row lit (W 0, 0.2, 0.9 under dark cells of 5.0):
+        // the one step that counts is 0.7, along that row. Only the last
+        // column lit (W 0, 0.1, 0.8 downward): 0.7, down that column.
+        let dark = |lit: [usize; 3], w: [f64; 3]| {
+            let (mut amplitude, mut opd) = (vec![0.0; 9], vec![5.0; 9]);
+            for (c, w) in lit.into_iter().zip(w) {
+                (amplitude[c], opd[c]) = (1.0, w);
+            }
+            PupilGrid { n: 3, amplitude, opd_waves: opd, lit: 3, fill: 1.0 }
+        };
+        let row = dark([6, 7, 8], [0.0, 0.2, 0.9]);
+        assert!((row.max_step_waves() - 0.7).abs() < 1e-12, "{}", row.max_step_waves());
+        let col = dark([2, 5, 8], [0.0, 0.1, 0.8]);
         assert!((col.max_step_waves() - 0.7).abs() < 1e-12, "{}", col.max_step_waves());
-        let row = PupilGrid { n: 2, amplitude: vec![1.0; 4], opd_waves: vec![0.0, 0.0, 0.0, 0.6], lit: 4, fill: 1.0 };
-        assert!((row.max_step_waves() - 0.6).abs() < 1e-12, "{}", row.max_step_waves());
     }
 }
