@@ -476,6 +476,26 @@ mod tests {
     }
 
     #[test]
+    fn rays_beyond_the_unit_square_are_clipped_to_the_grid() {
+        // A caller's points past ±1 (here a disk of radius 1.3): the grid
+        // covers the unit square only, and every cell in it that the rays
+        // surround is lit with the interpolated plane (as above).
+        let mut p = disk(3000, 0.0, |_| 1.0);
+        p.x.iter_mut().chain(p.y.iter_mut()).for_each(|c| *c *= 1.3);
+        let values: Vec<f64> = p.x.iter().zip(&p.y).map(|(x, y)| 0.5 * x + 0.2 * y).collect();
+        let n = 16;
+        let g = resample(&p, &values, n).unwrap();
+        for i in 0..n {
+            for j in 0..n {
+                let (x, y) = (centre(n, j), centre(n, i));
+                if x.hypot(y) < 1.25 {
+                    assert!((g.opd_waves[i * n + j] - (0.5 * x + 0.2 * y)).abs() < 1e-9 && g.amplitude[i * n + j] > 0.0, "cell ({i}, {j})");
+                }
+            }
+        }
+    }
+
+    #[test]
     fn resampling_leaves_the_central_hole_dark() {
         // Triangles spanning the hole have edges of the hole's size, far
         // beyond the ray spacing: dropped, so the hole stays dark and the
