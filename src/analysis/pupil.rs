@@ -547,6 +547,37 @@ mod tests {
     }
 
     #[test]
+    fn one_rays_power_spreads_over_the_documented_box() {
+        // The amplitude box (module doc): half-width DENSITY_SPACINGS ray
+        // spacings, a spacing being √(lit cells / rays) cells, rounded. All
+        // power in one ray: exactly the lit cells within that half-width of
+        // its cell (in rows and columns) get light, evenly. A definition
+        // check (common practice for a box filter).
+        let mut p = disk(1250, 0.0, |_| 0.0);
+        let k0 = (0..p.x.len()).min_by(|&a, &b| (p.x[a] - 0.3).hypot(p.y[a] + 0.2).total_cmp(&(p.x[b] - 0.3).hypot(p.y[b] + 0.2))).unwrap();
+        p.weight[k0] = 1.0;
+        let n = 32;
+        let g = resample(&p, &vec![0.0; p.x.len()], n).unwrap();
+        let half = (DENSITY_SPACINGS * (g.lit as f64 / p.x.len() as f64).sqrt()).round() as i64;
+        assert_eq!(half, 2, "the case is meant to give a box of ±2 cells");
+        let cell = |c: f64| ((c + 1.0) * 0.5 * n as f64 - 0.5).round() as i64;
+        let (i0, j0) = (cell(p.y[k0]), cell(p.x[k0]));
+        let mut seen = 0;
+        for i in 0..n {
+            for j in 0..n {
+                let a = g.amplitude[i * n + j];
+                let near = (i as i64 - i0).abs() <= half && (j as i64 - j0).abs() <= half;
+                assert_eq!(a > 0.0, near, "cell ({i}, {j}), ray at ({i0}, {j0})");
+                if near {
+                    assert!((a - g.amplitude[i0 as usize * n + j0 as usize]).abs() < 1e-12, "uneven in the box");
+                    seen += 1;
+                }
+            }
+        }
+        assert_eq!(seen, 25);
+    }
+
+    #[test]
     fn the_largest_step_is_taken_between_lit_neighbours_only() {
         // Definition (module doc): the largest |ΔW| between lit cells side
         // by side along a row or a column, the Nyquist test of the phase
