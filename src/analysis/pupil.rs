@@ -467,6 +467,11 @@ mod tests {
         p.obscuration = 0.4;
         let g = resample(&p, &[0.0; 3000], 4).unwrap();
         assert_eq!((g.lit, g.fill), (12, 1.5));
+        // No centre left to count (2×2 centres at r = 0.707, ε = 0.9): a
+        // fill of 0, not 0/0.
+        p.obscuration = 0.9;
+        let g = resample(&p, &[0.0; 3000], 2).unwrap();
+        assert_eq!((g.lit, g.fill), (4, 0.0));
     }
 
     #[test]
