@@ -172,5 +172,10 @@ mod tests {
         let u = NaturalSpline::new(&[[0.0, 0.0], [1.0, 1.0], [3.0, 0.0]]).unwrap();
         assert!(close(u.eval(2.0), (0.875, -0.625)), "{:?}", u.eval(2.0));
         assert_eq!(u.knots().collect::<Vec<_>>(), vec![(0.0, 0.0), (1.0, 1.0), (3.0, 0.0)]);
+        // The same knots moved to x = 10, 11, 13: the same curve, moved
+        // (y′ at the first knot 1 + (−1)(−1.5)/6 = 1.25, continued below it).
+        let moved = NaturalSpline::new(&[[10.0, 0.0], [11.0, 1.0], [13.0, 0.0]]).unwrap();
+        assert!(close(moved.eval(12.0), (0.875, -0.625)), "{:?}", moved.eval(12.0));
+        assert!(close(moved.eval(9.0), (-1.25, 1.25)), "{:?}", moved.eval(9.0));
     }
 }
