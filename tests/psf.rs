@@ -143,6 +143,47 @@ fn perfect_paraboloid_has_strehl_one_airy_mtf_and_energy() {
     assert!(r.wavefront_rms_waves < 1e-4 && r.strehl_marechal > 0.999);
 }
 
+#[test]
+fn the_drawn_window_is_the_airy_pattern_about_its_centre() {
+    // The page draws `Psf::window`: a square cut from the image about the
+    // reference point, where a perfect pupil's PSF peaks. Each pixel must
+    // follow the Airy pattern I/I₀ = [2J₁(x)/x]², x = πr/(λN) (Born & Wolf,
+    // Principles of Optics, 7th ed.; formula from memory), times the Strehl.
+    let (scene, res) = run(&paraboloid_f8(0.0, 633.0));
+    let p = psf(&scene, &res, &PsfOptions { screen: 0, source: 0, at: PsfFocus::Best, grid: 256 }).unwrap_or_else(|e| panic!("{e}"));
+    let r = &p.report;
+    let airy = |r_um: f64| {
+        let x = PI * r_um / (633e-3 * r.f_number);
+        if x == 0.0 { 1.0 } else { (2.0 * bessel(1, x) / x).powi(2) }
+    };
+    for side in [17, 32] {
+        let w = p.window(side);
+        assert_eq!(w.len(), side * side);
+        let c = (side / 2) as f64;
+        for (k, &got) in w.iter().enumerate() {
+            let (i, j) = ((k / side) as f64, (k % side) as f64);
+            let want = r.strehl * airy(r.psf.pixel_um * (i - c).hypot(j - c));
+            assert!((got as f64 - want).abs() < 0.01, "side {side}, pixel ({i}, {j}): {got} vs Airy {want}");
+        }
+    }
+    // A window as large as the image, or larger, is the whole image.
+    for side in [p.side, 2 * p.side] {
+        let whole = p.window(side);
+        assert_eq!(whole.len(), p.side * p.side);
+        assert!(whole.iter().zip(&p.image).all(|(&a, &b)| a == b as f32));
+    }
+}
+
+#[test]
+fn the_focus_names_are_best_and_screen() {
+    // `psf --at best|screen` (docs/FORMATS.md, the diffraction image).
+    assert_eq!(PsfFocus::parse("best"), Some(PsfFocus::Best));
+    assert_eq!(PsfFocus::parse("screen"), Some(PsfFocus::Screen));
+    for bad in ["", "Best", "focus", "screen "] {
+        assert_eq!(PsfFocus::parse(bad), None, "{bad:?}");
+    }
+}
+
 /// Area of intersection of two circles of radii a, b whose centres are d
 /// apart (elementary geometry: two circular segments).
 fn lens_area(a: f64, b: f64, d: f64) -> f64 {
