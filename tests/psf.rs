@@ -369,6 +369,19 @@ fn a_field_angle_in_the_layout_plane_gives_only_terms_even_in_x() {
             assert!(z.coefficient_waves.abs() < 1e-3 * biggest.max(1e-3), "term {} ({}) = {}", z.j, z.name, z.coefficient_waves);
         }
     }
+    // The terms are orthonormal over the pupil, so the variance of the
+    // wavefront less piston and tilt is the sum of the squares of the
+    // other coefficients (Noll, JOSA 66, 207 (1976); ANSI Z80.28): the
+    // reported RMS, from its own piston-and-tilt fit on the rays, must
+    // agree. The centroid reference leaves a y-tilt here (coma's centroid
+    // lies a third of the way from its least-squares tilt), so leaving
+    // tilt in would not agree.
+    let sq = |from: usize| r.zernike.iter().skip(from).map(|z| z.coefficient_waves.powi(2)).sum::<f64>().sqrt();
+    assert!(rel(r.wavefront_rms_waves, sq(3)) < 1e-3, "RMS {} vs Σc² {}", r.wavefront_rms_waves, sq(3));
+    assert!(sq(1) > 1.1 * sq(3), "tilt too small to tell: {} vs {}", sq(1), sq(3));
+    // Piston is measured from the weighted mean, and the other terms have
+    // zero mean over the disk: nothing is left in it.
+    assert!(r.zernike[0].coefficient_waves.abs() < 1e-3 * sq(3), "piston {}", r.zernike[0].coefficient_waves);
 }
 
 // ---- refusals ----
