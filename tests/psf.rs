@@ -265,6 +265,9 @@ fn sphere_at_f8_has_the_third_order_spherical_term_and_mahajan_strehl() {
     let defocus = r.zernike.iter().find(|z| z.j == 4).unwrap();
     assert!(defocus.coefficient_waves.abs() < 0.03 * z12, "defocus at best focus {}", defocus.coefficient_waves);
     assert!(rel(r.wavefront_rms_waves, z12) < 0.03, "σ {} vs {z12}", r.wavefront_rms_waves);
+    // P-V there: W040(ρ⁴ − ρ²) is 0 at the centre and the rim and
+    // −W040/4 at ρ² = ½ (elementary; third-order theory as above).
+    assert!(rel(r.wavefront_pv_waves, w040 / 4.0) < 0.03, "P-V {} vs {}", r.wavefront_pv_waves, w040 / 4.0);
     // Small σ (~0.05 waves): the PSF's Strehl agrees with the extended
     // Maréchal form exp(−(2πσ)²) (Mahajan, JOSA 72, 1258 (1982)), good
     // to about 1 % here.
