@@ -571,3 +571,21 @@ fn bicubic(image: &[f64], m: usize, y: f64, x: f64) -> f64 {
     }
     s
 }
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn linear_sampling_interpolates_and_ends_as_documented() {
+        // Linear interpolation between neighbouring samples (common
+        // practice); the first sample below the start, the last sample
+        // exactly at its index, 0 past the end.
+        let s = [1.0, 3.0, 7.0];
+        for (x, want) in [(0.0, 1.0), (0.5, 2.0), (1.0, 3.0), (1.25, 4.0), (1.5, 5.0), (2.0, 7.0), (2.5, 0.0), (3.0, 0.0), (10.0, 0.0), (-1.0, 1.0), (f64::NAN, 1.0)] {
+            assert_eq!(sample_linear(&s, x), want, "at {x}");
+        }
+        assert_eq!(sample_linear(&[], 0.5), 0.0);
+        assert_eq!(sample_linear(&[], -1.0), 0.0);
+    }
+}
