@@ -62,6 +62,12 @@ fn slow_sphere_matches_third_order_spherical_aberration() {
         let r = 2.0 * n * d;
         let lsa = (0.5 * d).powi(2) / (4.0 * r);
         assert!(w.best_focus_mm < 0.5 * r && w.best_focus_mm > 0.5 * r - lsa, "{}", w.best_focus_mm);
+        // The least-variance focus of W040·ρ⁴ balances it with
+        // W020 = −W040 (Mahajan, Optical Imaging and Aberrations, Part I,
+        // balanced primary spherical aberration; from memory): midway between the
+        // paraxial and the marginal focus, to third order.
+        let mid = 0.5 * r - 0.5 * lsa;
+        assert!((w.best_focus_mm - mid).abs() < 1e-3 * lsa, "best focus {} vs midpoint {mid}", w.best_focus_mm);
     }
 }
 
