@@ -129,6 +129,13 @@ fn best_fit_sphere_of_a_paraboloid() {
     assert!(b.radius_mm > r);
     assert!(b.removal_mm(0.0) > 0.99 * want && b.removal_mm(100.0) > 0.99 * want);
     assert!(b.removal_mm(100.0 * 0.5f64.sqrt()).abs() < 1e-3 * want);
+    // With the sphere placed midway, the paraboloid stands proud of it by
+    // half that depth at the 70.7 % zone and lies below it by as much at
+    // the centre and the edge (the same algebra).
+    for (rho, sign) in [(0.0, -1.0), (100.0, -1.0), (100.0 * 0.5f64.sqrt(), 1.0)] {
+        let got = b.departure_mm(rho);
+        assert!(rel(got, sign * 0.5 * want) < 5e-3, "departure at {rho} mm: {got} vs {}", sign * 0.5 * want);
+    }
 }
 
 #[test]
