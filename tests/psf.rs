@@ -96,6 +96,17 @@ fn paraboloid_n(f: f64, h: f64) -> f64 {
     0.5 * (f + h * h / (4.0 * f)) / h
 }
 
+/// Root sum of squares of a report's Zernike coefficients from term `from` on.
+fn rss_from(r: &PsfReport, from: usize) -> f64 {
+    r.zernike.iter().skip(from).map(|z| z.coefficient_waves.powi(2)).sum::<f64>().sqrt()
+}
+
+/// The f/8 paraboloid of the field-angle tests (D = 100, R = 1600) with a
+/// 40 mm screen at its focus, lit by `star`.
+fn paraboloid_f8_lit_by(star: String) -> String {
+    layout(&[mirror_with_hole(1600.0, -1.0, 100.0, 0.0), screen("s", 0.0, 200.0, 40.0, "square", false)], &[star])
+}
+
 // ---- a perfect pupil ----
 
 fn paraboloid_f8(hole: f64, nm: f64) -> String {
@@ -361,8 +372,7 @@ fn a_field_angle_in_the_layout_plane_gives_only_terms_even_in_x() {
     // vanishes, while the tangential (y) coma of a field angle does not
     // (symmetry; coma and astigmatism of a paraboloid off axis: Schroeder,
     // Astronomical Optics, 2nd ed.).
-    let text = layout(&[mirror_with_hole(1600.0, -1.0, 100.0, 0.0), screen("s", 0.0, 200.0, 40.0, "square", false)], &[star(110.0, 40000, 0.5)]);
-    let r = image(&text, PsfFocus::Best, 128);
+    let r = image(&paraboloid_f8_lit_by(star(110.0, 40000, 0.5)), PsfFocus::Best, 128);
     let biggest = r.zernike.iter().skip(3).map(|z| z.coefficient_waves.abs()).fold(0.0, f64::max);
     let coma_y = r.zernike[7].coefficient_waves.abs();
     assert!(coma_y > 0.5 * biggest && coma_y > 0.01, "{:?}", r.zernike);
@@ -379,7 +389,7 @@ fn a_field_angle_in_the_layout_plane_gives_only_terms_even_in_x() {
     // agree. The centroid reference leaves a y-tilt here (coma's centroid
     // lies a third of the way from its least-squares tilt), so leaving
     // tilt in would not agree.
-    let sq = |from: usize| r.zernike.iter().skip(from).map(|z| z.coefficient_waves.powi(2)).sum::<f64>().sqrt();
+    let sq = |from: usize| rss_from(&r, from);
     assert!(rel(r.wavefront_rms_waves, sq(3)) < 1e-3, "RMS {} vs Σc² {}", r.wavefront_rms_waves, sq(3));
     assert!(sq(1) > 1.1 * sq(3), "tilt too small to tell: {} vs {}", sq(1), sq(3));
     // Piston is measured from the weighted mean, and the other terms have
@@ -395,16 +405,14 @@ fn a_field_angle_out_of_the_layout_plane_gives_the_same_image_turned() {
     // RMS is the same (symmetry; coma of a paraboloid off axis: Schroeder,
     // Astronomical Optics, 2nd ed.). Here the residual x-tilt is what the
     // piston-and-tilt fit must remove (Noll, JOSA 66, 207 (1976), as above).
-    let mirror = mirror_with_hole(1600.0, -1.0, 100.0, 0.0);
-    let scr = screen("s", 0.0, 200.0, 40.0, "square", false);
-    let inplane = image(&layout(&[mirror.clone(), scr.clone()], &[star(110.0, 40000, 0.5)]), PsfFocus::Best, 128);
+    let inplane = image(&paraboloid_f8_lit_by(star(110.0, 40000, 0.5)), PsfFocus::Best, 128);
     let across = star(110.0, 40000, 0.0).replace(r#""direction_deg": 0"#, r#""direction_deg": 0, "out_of_plane_deg": 0.5"#);
-    let r = image(&layout(&[mirror, scr], &[across]), PsfFocus::Best, 128);
+    let r = image(&paraboloid_f8_lit_by(across), PsfFocus::Best, 128);
     let (coma_x, coma_y) = (r.zernike[8].coefficient_waves, r.zernike[7].coefficient_waves);
     let coma_in = inplane.zernike[7].coefficient_waves;
     assert!(rel(coma_x.abs(), coma_in.abs()) < 0.01 && coma_y.abs() < 1e-3 * coma_in.abs(), "x-coma {coma_x}, y-coma {coma_y}, in plane {coma_in}");
     assert!(rel(r.wavefront_rms_waves, inplane.wavefront_rms_waves) < 0.01, "{} vs {}", r.wavefront_rms_waves, inplane.wavefront_rms_waves);
-    let sq = |from: usize| r.zernike.iter().skip(from).map(|z| z.coefficient_waves.powi(2)).sum::<f64>().sqrt();
+    let sq = |from: usize| rss_from(&r, from);
     assert!(rel(r.wavefront_rms_waves, sq(3)) < 3e-3, "RMS {} vs Σc² {}", r.wavefront_rms_waves, sq(3));
     assert!(r.zernike[2].coefficient_waves.abs() > 0.1 * sq(3), "x-tilt {}", r.zernike[2].coefficient_waves);
 }
