@@ -50,43 +50,10 @@ fn reset(res: &mut TraceResult, scene: &Scene, reserve: usize) {
     res.screens.resize_with(scene.screen_ids.len(), ScreenHits::default);
     for s in &mut res.screens {
         s.clear();
-        // Untouched capacity costs no memory traffic; growing by copying does.
+        // Untouched capacity costs no memory traffic; growing by copying
+        // does. (The command's allocator puts big columns on huge pages.)
         s.reserve(reserve.min(RESERVE_CAP));
-        advise_huge(&s.u);
-        advise_huge(&s.v);
-        advise_huge(&s.du);
-        advise_huge(&s.dv);
-        advise_huge(&s.dw);
-        advise_huge(&s.opl);
-        advise_huge(&s.weight);
-        advise_huge(&s.source);
     }
-}
-
-/// Asks the kernel to back a large buffer's capacity with huge pages
-/// (Linux with transparent huge pages on "madvise"): a million hits then
-/// fault in a few dozen pages instead of some fifteen thousand, which
-/// otherwise costs a first trace as much as the tracing.
-fn advise_huge<T>(v: &Vec<T>) {
-    #[cfg(target_os = "linux")]
-    {
-        const PAGE: usize = 4096;
-        let bytes = v.capacity() * std::mem::size_of::<T>();
-        if bytes < 4 << 20 {
-            return;
-        }
-        let start = v.as_ptr() as usize;
-        let (a, end) = ((start + PAGE - 1) & !(PAGE - 1), (start + bytes) & !(PAGE - 1));
-        if end > a {
-            // SAFETY: advice only, on memory this Vec owns; it never changes
-            // the contents or the mapping's validity. Failure is harmless.
-            unsafe {
-                libc::madvise(a as *mut libc::c_void, end - a, libc::MADV_HUGEPAGE);
-            }
-        }
-    }
-    #[cfg(not(target_os = "linux"))]
-    let _ = v;
 }
 
 fn add_tally(res: &mut TraceResult, t: &Tally, max_hits: u64) {

@@ -4,6 +4,7 @@
 mod bench;
 mod commands;
 mod design_cmd;
+mod huge_pages;
 mod mirror_test_cmd;
 mod psf_cmd;
 mod optimise_cmd;
@@ -14,6 +15,9 @@ mod usage;
 
 use clap::{CommandFactory as _, Parser, Subcommand};
 use std::process::ExitCode;
+
+#[global_allocator]
+static ALLOCATOR: huge_pages::HugePages = huge_pages::HugePages;
 
 #[derive(Parser)]
 #[command(name = "catoptric", version, about = "Ray-optics workbench for curved mirrors")]
