@@ -49,10 +49,10 @@ pub struct EncircledEnergy {
     /// Largest radius, mm.
     rmax: f64,
     /// Histogram: bin of r is ⌊r·scale⌋ (clamped); per bin the weight
-    /// before it (cumulative), and its smallest and largest radius.
+    /// before it (cumulative) and its largest radius (−∞ when it holds no
+    /// hit with a number for a radius).
     scale: f64,
     before: Vec<f64>,
-    lo: Vec<f64>,
     hi: Vec<f64>,
 }
 
@@ -87,13 +87,17 @@ impl EncircledEnergy {
     }
 
     /// [`EncircledEnergy::bin`] of each radius of `r` into `out`, in a loop
-    /// the compiler vectorises (clamping before the conversion gives the
-    /// same bin as clamping after; NaN converts to bin 0 either way).
+    /// the compiler vectorises: clamped to [0, BINS − 1] first (NaN to 0,
+    /// as `bin` converts it), so the conversion needs no saturation.
     #[inline(always)]
     fn bins_of(&self, r: &[f64], out: &mut [u16; HIST_BLOCK]) {
         const TOP: f64 = (BINS - 1) as f64;
         for (o, &x) in out.iter_mut().zip(r) {
-            *o = (x * self.scale).clamp(0.0, TOP) as i32 as u16;
+            let y = x * self.scale;
+            let y = if y > 0.0 { y } else { 0.0 };
+            let y = if y < TOP { y } else { TOP };
+            // SAFETY: 0 ≤ y ≤ BINS − 1 (not NaN), which an i32 holds.
+            *o = unsafe { y.to_int_unchecked::<i32>() } as u16;
         }
     }
 
@@ -178,12 +182,17 @@ impl EncircledEnergy {
         if !(frac > 0.0 && frac <= 1.0) {
             return None;
         }
-        Some((0..BINS).rev().find(|&b| self.before[b] / self.total < frac && self.lo[b].is_finite()))
+        Some((0..BINS).rev().find(|&b| self.before[b] / self.total < frac && self.filled(b)))
     }
 
     /// First bin from `b` on that holds hits.
     fn next_filled(&self, b: usize) -> Option<usize> {
-        (b..BINS).find(|&k| self.lo[k].is_finite())
+        (b..BINS).find(|&k| self.filled(k))
+    }
+
+    /// Whether bin `b` holds a hit.
+    fn filled(&self, b: usize) -> bool {
+        self.hi[b].is_finite()
     }
 
     /// Largest radius below each bin (0 when none).
@@ -207,12 +216,23 @@ impl EncircledEnergy {
     fn gather(&self, wanted: &[bool]) -> Vec<Vec<(f64, f64)>> {
         let found = self.per_chunk(|c| {
             let mut got: Vec<(usize, f64, f64)> = Vec::new();
-            self.each_in(c, |r, w| {
-                let b = self.bin(r);
-                if wanted[b] {
-                    got.push((b, r, w));
-                }
-            });
+            // The bins block by block in a vector loop, as the histogram.
+            let mut bin = [0u16; HIST_BLOCK];
+            for start in c.clone().step_by(HIST_BLOCK) {
+                let end = (start + HIST_BLOCK).min(c.end);
+                self.bins_of(&self.radius_mm[start..end], &mut bin);
+                self.each_in(start..end, {
+                    let mut j = 0;
+                    let got = &mut got;
+                    move |r, w| {
+                        let b = bin[j] as usize;
+                        j += 1;
+                        if wanted[b] {
+                            got.push((b, r, w));
+                        }
+                    }
+                });
+            }
             got
         });
         let mut bins: Vec<Vec<(f64, f64)>> = vec![Vec::new(); BINS];
@@ -328,12 +348,12 @@ impl EncircledEnergy {
             rmax,
             scale: if rmax > 0.0 { BINS as f64 / rmax } else { 0.0 },
             before: vec![0.0; BINS],
-            lo: vec![f64::INFINITY; BINS],
             hi: vec![f64::NEG_INFINITY; BINS],
         };
-        // Per chunk (weight, least, largest) per bin, merged in chunk order.
+        // Per chunk (weight, largest radius) per bin, side by side so a
+        // hit updates one cache line; merged in chunk order.
         let parts = e.per_chunk(|c| {
-            let (mut ws, mut lo, mut hi) = (vec![0.0; BINS], vec![f64::INFINITY; BINS], vec![f64::NEG_INFINITY; BINS]);
+            let mut acc = vec![[0.0, f64::NEG_INFINITY]; BINS];
             // Block by block: the bins in a vector loop, then the scattered
             // updates, hit by hit in order.
             let mut bin = [0u16; HIST_BLOCK];
@@ -342,24 +362,24 @@ impl EncircledEnergy {
                 e.bins_of(&e.radius_mm[start..end], &mut bin);
                 e.each_in(start..end, {
                     let mut j = 0;
-                    let (ws, lo, hi) = (&mut ws, &mut lo, &mut hi);
+                    let acc = &mut acc;
                     move |r, w| {
-                        let b = bin[j] as usize;
+                        let a = &mut acc[bin[j] as usize];
                         j += 1;
-                        ws[b] += w;
-                        lo[b] = lo[b].min(r);
-                        hi[b] = hi[b].max(r);
+                        a[0] += w;
+                        // As f64::max (the bin's largest is never NaN; a
+                        // NaN radius is passed over), without NaN fix-ups.
+                        a[1] = if r > a[1] { r } else { a[1] };
                     }
                 });
             }
-            (ws, lo, hi)
+            acc
         });
         let mut wsum = vec![0.0; BINS];
-        for (ws, lo, hi) in parts {
-            for b in 0..BINS {
-                wsum[b] += ws[b];
-                e.lo[b] = e.lo[b].min(lo[b]);
-                e.hi[b] = e.hi[b].max(hi[b]);
+        for acc in parts {
+            for (b, [w, hi]) in acc.into_iter().enumerate() {
+                wsum[b] += w;
+                e.hi[b] = e.hi[b].max(hi);
             }
         }
         let mut acc = 0.0;
