@@ -81,6 +81,22 @@ impl EncircledEnergy {
         }
     }
 
+    /// Calls `f(bin, radius, weight)` for every hit of `c`, in hit order:
+    /// block by block, the bins in a vector loop first, then `f` hit by hit.
+    #[inline(always)]
+    fn each_binned(&self, c: Range<usize>, mut f: impl FnMut(usize, f64, f64)) {
+        let mut bin = [0u16; HIST_BLOCK];
+        for start in c.clone().step_by(HIST_BLOCK) {
+            let end = (start + HIST_BLOCK).min(c.end);
+            self.bins_of(&self.radius_mm[start..end], &mut bin);
+            let mut j = 0;
+            self.each_in(start..end, |r, w| {
+                f(bin[j] as usize, r, w);
+                j += 1;
+            });
+        }
+    }
+
     /// `f` of each chunk of the hits, in order (on the thread pool natively).
     fn per_chunk<T: Send>(&self, f: impl Fn(Range<usize>) -> T + Sync + Send) -> Vec<T> {
         over_chunks(self.radius_mm.len(), f)
@@ -216,23 +232,11 @@ impl EncircledEnergy {
     fn gather(&self, wanted: &[bool]) -> Vec<Vec<(f64, f64)>> {
         let found = self.per_chunk(|c| {
             let mut got: Vec<(usize, f64, f64)> = Vec::new();
-            // The bins block by block in a vector loop, as the histogram.
-            let mut bin = [0u16; HIST_BLOCK];
-            for start in c.clone().step_by(HIST_BLOCK) {
-                let end = (start + HIST_BLOCK).min(c.end);
-                self.bins_of(&self.radius_mm[start..end], &mut bin);
-                self.each_in(start..end, {
-                    let mut j = 0;
-                    let got = &mut got;
-                    move |r, w| {
-                        let b = bin[j] as usize;
-                        j += 1;
-                        if wanted[b] {
-                            got.push((b, r, w));
-                        }
-                    }
-                });
-            }
+            self.each_binned(c, |b, r, w| {
+                if wanted[b] {
+                    got.push((b, r, w));
+                }
+            });
             got
         });
         let mut bins: Vec<Vec<(f64, f64)>> = vec![Vec::new(); BINS];
@@ -354,25 +358,13 @@ impl EncircledEnergy {
         // hit updates one cache line; merged in chunk order.
         let parts = e.per_chunk(|c| {
             let mut acc = vec![[0.0, f64::NEG_INFINITY]; BINS];
-            // Block by block: the bins in a vector loop, then the scattered
-            // updates, hit by hit in order.
-            let mut bin = [0u16; HIST_BLOCK];
-            for start in c.clone().step_by(HIST_BLOCK) {
-                let end = (start + HIST_BLOCK).min(c.end);
-                e.bins_of(&e.radius_mm[start..end], &mut bin);
-                e.each_in(start..end, {
-                    let mut j = 0;
-                    let acc = &mut acc;
-                    move |r, w| {
-                        let a = &mut acc[bin[j] as usize];
-                        j += 1;
-                        a[0] += w;
-                        // As f64::max (the bin's largest is never NaN; a
-                        // NaN radius is passed over), without NaN fix-ups.
-                        a[1] = if r > a[1] { r } else { a[1] };
-                    }
-                });
-            }
+            e.each_binned(c, |b, r, w| {
+                let a = &mut acc[b];
+                a[0] += w;
+                // As f64::max (the bin's largest is never NaN; a NaN radius
+                // is passed over), without NaN fix-ups.
+                a[1] = if r > a[1] { r } else { a[1] };
+            });
             acc
         });
         let mut wsum = vec![0.0; BINS];

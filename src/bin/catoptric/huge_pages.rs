@@ -45,7 +45,7 @@ mod linux {
     pub(super) fn reuse(size: usize) -> Option<*mut u8> {
         let mut kept = FREED.lock().ok()?;
         let slot = kept.iter_mut().find(|(p, s)| *p != 0 && *s == size)?;
-        let p = std::mem::replace(slot, (0, 0)).0;
+        let p = std::mem::take(slot).0;
         Some(p as *mut u8)
     }
 
