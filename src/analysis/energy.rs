@@ -19,6 +19,7 @@
 //! two streaming passes.
 
 use super::select::Subset;
+use super::lanes::cell;
 use super::over_chunks;
 use crate::trace::ScreenHits;
 use std::ops::Range;
@@ -109,11 +110,7 @@ impl EncircledEnergy {
     fn bins_of(&self, r: &[f64], out: &mut [u16; HIST_BLOCK]) {
         const TOP: f64 = (BINS - 1) as f64;
         for (o, &x) in out.iter_mut().zip(r) {
-            let y = x * self.scale;
-            let y = if y > 0.0 { y } else { 0.0 };
-            let y = if y < TOP { y } else { TOP };
-            // SAFETY: 0 ≤ y ≤ BINS − 1 (not NaN), which an i32 holds.
-            *o = unsafe { y.to_int_unchecked::<i32>() } as u16;
+            *o = cell(x * self.scale, TOP) as u16;
         }
     }
 

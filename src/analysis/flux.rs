@@ -14,6 +14,7 @@
 //! θs are 1/sin²θs in 3D and 1/sin θs for a trough (Rabl, Solar Energy 18,
 //! 93 (1976)).
 
+use super::lanes::cell;
 use crate::layout::Source;
 use crate::scene::{Part, Scene};
 use crate::trace::TraceResult;
@@ -116,11 +117,11 @@ fn bin_hits_body(h: &crate::trace::ScreenHits, r: std::ops::Range<usize>, half: 
         let end = (start + BIN_BLOCK).min(u.len());
         let (ub, vb, wb) = (&u[start..end], &v[start..end], &w[start..end]);
         for (j, s) in slot[..ub.len()].iter_mut().enumerate() {
-            // The floor of a pixel coordinate clamped to the grid (NaN
-            // stays NaN and converts to 0): clamping before the truncation
-            // gives the same pixel as clamping after, and vectorises.
-            let ix = ((ub[j] + half) * ku).clamp(0.0, top_x) as i32 as u32;
-            let iy = ((half - vb[j]) * kv).clamp(0.0, top_y) as i32 as u32;
+            // The floor of a pixel coordinate clamped to the grid (NaN to
+            // 0): clamping before the truncation gives the same pixel as
+            // clamping after, and vectorises.
+            let ix = cell((ub[j] + half) * ku, top_x);
+            let iy = cell((half - vb[j]) * kv, top_y);
             *s = (j as u32 & 3) * cells as u32 + iy * nx as u32 + ix;
         }
         for (&s, &wk) in slot.iter().zip(wb) {

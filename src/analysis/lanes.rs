@@ -78,9 +78,32 @@ pub(crate) trait Lane: Copy + Add<Output = Self> + Sub<Output = Self> + Mul<Outp
 impl Lane for f64 {}
 impl Lane for V4 {}
 
+/// ⌊x⌋ of `x` clamped to [0, `top`] (NaN to 0), for a bin or pixel index;
+/// `top` is a whole number below 2³¹. As `x.clamp(0.0, top) as i32`, but
+/// with plain comparisons and no saturating conversion, which keeps the
+/// loops calling it vectorised.
+#[inline(always)]
+pub(crate) fn cell(x: f64, top: f64) -> u32 {
+    let y = if x > 0.0 { x } else { 0.0 };
+    let y = if y < top { y } else { top };
+    // SAFETY: 0 ≤ y ≤ top < 2³¹ and not NaN: an i32 holds its integer part.
+    unsafe { y.to_int_unchecked::<i32>() as u32 }
+}
+
 #[cfg(test)]
 mod tests {
     use super::*;
+
+    #[test]
+    fn cell_is_the_saturating_floor_of_the_clamped_value() {
+        // Common practice: the vectorisable index must equal Rust's own
+        // `x.clamp(0, top) as i32` (NaN to 0) at and around every edge.
+        let top = 4095.0;
+        let xs = [0.0, -0.0, 1e-300, 0.5, 1.0, 4094.999999, top, top + 0.5, 1e300, -1.0, -1e300, f64::INFINITY, f64::NEG_INFINITY, f64::NAN];
+        for x in xs {
+            assert_eq!(cell(x, top), x.clamp(0.0, top) as i32 as u32, "x = {x}");
+        }
+    }
 
     #[test]
     fn lanes_compute_what_four_scalars_do() {
@@ -103,3 +126,4 @@ mod tests {
         assert_eq!((gx, gy.len(), rest), (&[[1.0, 2.0, 3.0, 4.0], [5.0, 6.0, 7.0, 8.0]][..], 2, 8));
     }
 }
+
