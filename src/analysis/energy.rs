@@ -339,7 +339,10 @@ pub(crate) fn encircled_energy_of(sel: &Subset) -> Option<EncircledEnergy> {
 impl EncircledEnergy {
     /// From the hits' radii about `centre` (largest `rmax`) and weights.
     pub(crate) fn from_radii(centre: [f64; 2], radius_mm: Vec<f64>, weight: &[f64], rmax: f64) -> EncircledEnergy {
-        let uniform = weight.first().copied().filter(|w0| weight.iter().all(|w| w == w0));
+        let uniform = weight.first().copied().filter(|&w0| {
+            // Counted chunk by chunk on the thread pool (a vector loop).
+            over_chunks(weight.len(), |c| weight[c].iter().filter(|&&w| w != w0).count()).iter().all(|&k| k == 0)
+        });
         let mut e = EncircledEnergy {
             centre_mm: centre,
             radius_mm,

@@ -153,11 +153,17 @@ pub fn flux_stats(scene: &Scene, res: &TraceResult, screen: usize, grid: usize) 
 
 /// Flux figures from an existing map of screen number `screen`.
 pub fn flux_stats_of(scene: &Scene, res: &TraceResult, screen: usize, map: &FluxMap) -> FluxStats {
-    let (half, circle) = screen_geometry(scene, screen).unwrap_or((map.half_mm, false));
     // Each ray counts once (its first arrival), so the intercept is the
     // fraction of launched power that reaches the screen; the map counts
     // every crossing (the light through the plane).
     let power: f64 = res.screens.get(screen).map_or(0.0, |h| super::report::first_arrivals(h).1);
+    flux_stats_with(scene, res, screen, map, power)
+}
+
+/// [`flux_stats_of`] with the screen's first-arrival power `power` (W)
+/// already summed by [`super::first_arrivals`].
+pub(crate) fn flux_stats_with(scene: &Scene, res: &TraceResult, screen: usize, map: &FluxMap, power: f64) -> FluxStats {
+    let (half, circle) = screen_geometry(scene, screen).unwrap_or((map.half_mm, false));
     let area_m2 = if circle { std::f64::consts::PI * half * half } else { 4.0 * half * half } * 1e-6;
     let peak = map.w_m2.iter().copied().fold(0.0, f64::max);
     let launched: f64 = res.power_by_source.iter().sum();

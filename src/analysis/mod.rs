@@ -80,6 +80,7 @@ pub(crate) fn over_chunks_mut<T: Send>(out: &mut [f64], f: impl Fn(Range<usize>,
 pub use caustic::{caustic, caustic_raster, MAX_RASTER_SIDE};
 pub use cone::{airy_radius, cone_half_angle, f_number, mean_direction, AIRY_FACTOR};
 pub use energy::{encircled_energy, EncircledEnergy};
+pub(crate) use flux::flux_stats_with;
 pub use flux::{
     beam_irradiance, flux_map, flux_stats, flux_stats_of, screen_geometry, FluxMap, FluxStats, DEFAULT_FLUX_GRID,
     MAX_FLUX_GRID,

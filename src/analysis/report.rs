@@ -7,7 +7,7 @@
 //! or an extended solar source (no single wavefront).
 
 use super::cone::airy_radius;
-use super::flux::{flux_map, flux_stats_of, FluxMap, FluxStats, DEFAULT_FLUX_GRID};
+use super::flux::{flux_map, flux_stats_with, FluxMap, FluxStats, DEFAULT_FLUX_GRID};
 use super::focus::{default_focus_range, through_focus_of, ThroughFocus};
 use super::select::Subset;
 use super::join;
@@ -170,9 +170,9 @@ fn analyse(scene: &Scene, res: &TraceResult, with_curves: bool) -> Analyses {
             || -> (Vec<_>, Vec<_>) { (0..scene.sources.len()).filter_map(|si| analyse_source(scene, hits, si, with_curves)).unzip() },
             || flux_map(scene, res, k, DEFAULT_FLUX_GRID, DEFAULT_FLUX_GRID).unwrap_or_default(),
         );
-        let flux = flux_stats_of(scene, res, k, &map);
-        let id = scene.screen_ids[k].clone();
         let (arrivals, power_w) = first_arrivals(hits);
+        let flux = flux_stats_with(scene, res, k, &map, power_w);
+        let id = scene.screen_ids[k].clone();
         let crossings = hits.len() as u64;
         (ScreenReport { id, hits: arrivals, crossings, power_w, by_source, flux }, map, c)
     };

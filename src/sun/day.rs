@@ -4,7 +4,7 @@
 //! per screen the peak flux, its place, and the power.
 
 use super::position::{local, parse_clock, parse_date, sun_at_site, sun_vector, SunPosition};
-use crate::analysis::{first_arrivals, flux_map, flux_stats_of, FluxMap, DEFAULT_FLUX_GRID};
+use crate::analysis::{first_arrivals, flux_map, flux_stats_with, FluxMap, DEFAULT_FLUX_GRID};
 use crate::error::InputError;
 use crate::geometry::Vec3;
 use crate::layout::{validate, Layout, Site, Source};
@@ -226,12 +226,13 @@ pub fn screen_figures(layout: &Layout, opts: TraceOptions) -> Vec<StepScreen> {
     (0..scene.screen_ids.len())
         .map(|k| {
             let map = flux_map(&scene, &res, k, DEFAULT_FLUX_GRID, DEFAULT_FLUX_GRID).unwrap_or_default();
-            let stats = flux_stats_of(&scene, &res, k, &map);
+            let power_w = res.screens.get(k).map_or(0.0, |h| first_arrivals(h).1);
+            let stats = flux_stats_with(&scene, &res, k, &map, power_w);
             StepScreen {
                 id: scene.screen_ids[k].clone(),
                 peak_w_m2: stats.peak_w_m2,
                 peak_suns: stats.peak_suns,
-                power_w: res.screens.get(k).map_or(0.0, |h| first_arrivals(h).1),
+                power_w,
                 peak_at_mm: peak_at(&map),
             }
         })

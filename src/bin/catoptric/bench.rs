@@ -21,12 +21,12 @@ use std::path::{Path, PathBuf};
 use std::process::{Command, Stdio};
 use std::time::{Duration, Instant};
 
-/// Timed runs per scene of each slower step (analyses, end to end, page
-/// frame, wasm, NumPy); the best counts.
+/// Timed runs per scene of each slower step (end to end, page frame,
+/// wasm, NumPy); the best counts.
 const RUNS: usize = 3;
-/// Timed runs of the trace alone (tens of milliseconds each): more of them,
-/// so that the best is the machine's speed rather than a neighbour's load
-/// on a shared host.
+/// Timed runs of the trace alone and of the analyses alone (tens of
+/// milliseconds each): more of them, so that the best is the machine's
+/// speed rather than a neighbour's load on a shared host.
 const TRACE_RUNS: usize = 10;
 /// Longest the wasm side may take before it is given up.
 const WASM_TIMEOUT: Duration = Duration::from_secs(600);
@@ -85,7 +85,8 @@ struct Report {
     threads: usize,
     /// Compiled kernel copy in use (avx512, avx2, portable).
     kernel: &'static str,
-    /// Best of how many runs: the trace alone, and every other step.
+    /// Best of how many runs: the trace alone and the analyses alone, and
+    /// every other step.
     trace_runs: usize,
     runs: usize,
     scenes: Vec<Row>,
@@ -131,7 +132,7 @@ fn time_scene(s: &BenchScene, rays: u64, threads: usize) -> Row {
     let best = if threads == 1 { one } else { best_trace(&scene, rays, threads, &mut res) };
     let (launched, hits) = (res.rays_launched, res.surface_hits);
     let mut best_analysis = f64::INFINITY;
-    for _ in 0..RUNS {
+    for _ in 0..TRACE_RUNS {
         let t1 = Instant::now();
         std::hint::black_box(analyse_all(&scene, &res));
         best_analysis = best_analysis.min(t1.elapsed().as_secs_f64());
@@ -259,7 +260,7 @@ fn table(r: &Report) -> String {
     let mut s = String::new();
     let m = &r.machine;
     let _ = writeln!(s, "machine: {} ({} logical cores, {} {}), kernel {}", m.cpu, m.cores, m.os, m.arch, r.kernel);
-    let _ = writeln!(s, "{} thread(s), trace best of {} runs (scene compiled beforehand), the rest best of {}",
+    let _ = writeln!(s, "{} thread(s), trace and analyses best of {} runs (scene compiled beforehand), the rest best of {}",
         r.threads, r.trace_runs, r.runs
     );
     let _ = writeln!(

@@ -126,8 +126,15 @@ unsafe impl GlobalAlloc for HugePages {
         match linux::mapped(l) {
             Some(size) => match linux::reuse(size) {
                 Some(p) => {
-                    // SAFETY: the kept mapping holds `size` ≥ `l.size()` bytes.
-                    unsafe { ptr::write_bytes(p, 0, l.size()) };
+                    // Dropped pages read as zeros again, each zeroed where
+                    // it is first touched (by the threads that fill it, not
+                    // here on one thread).
+                    // SAFETY: the kept mapping `p..p + size` is ours.
+                    let dropped = unsafe { libc::madvise(p as *mut libc::c_void, size, libc::MADV_DONTNEED) };
+                    if dropped != 0 {
+                        // SAFETY: as above; the mapping holds `size` ≥ `l.size()` bytes.
+                        unsafe { ptr::write_bytes(p, 0, l.size()) };
+                    }
                     p
                 }
                 // A fresh anonymous mapping reads as zeros.
