@@ -50,9 +50,12 @@ mod linux {
     }
 
     /// Keeps the mapping `p` of `size` bytes for reuse, or unmaps it when
-    /// the list is full.
+    /// the list is full. Only mappings on a [`HUGE`] boundary are kept (one
+    /// moved by `mremap` is only page-aligned, less than a reused block
+    /// may need).
     pub(super) unsafe fn release(p: *mut u8, size: usize) {
-        if let Ok(mut kept) = FREED.lock()
+        if (p as usize).is_multiple_of(HUGE)
+            && let Ok(mut kept) = FREED.lock()
             && let Some(slot) = kept.iter_mut().find(|(q, _)| *q == 0)
         {
             *slot = (p as usize, size);
