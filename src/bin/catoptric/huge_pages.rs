@@ -249,10 +249,32 @@ mod tests {
             std::ptr::write_bytes(p, 0xAB, l.size());
             a.dealloc(p, l);
             let q = a.alloc_zeroed(l);
+            // The same mapping again (no other test frees this size), so
+            // the zeros below are the reuse path's, not a fresh mapping's.
+            assert_eq!(q, p, "the kept mapping is reused");
             assert_eq!(q as usize % HUGE, 0);
             let s = std::slice::from_raw_parts(q, l.size());
             assert!(s.iter().all(|&b| b == 0));
             a.dealloc(q, l);
+        }
+    }
+
+    #[test]
+    fn a_kept_mapping_goes_only_to_a_block_of_its_size() {
+        // Common practice (a size-class free list): a freed block is
+        // handed out again only for a request of the size it was mapped
+        // with. Sizes of 9 and 11 huge pages, which no other test uses.
+        let (la, lb) = (Layout::from_size_align(9 * HUGE, 8).unwrap(), Layout::from_size_align(11 * HUGE, 8).unwrap());
+        let a = HugePages;
+        unsafe {
+            let (pa, pb) = (a.alloc(la), a.alloc(lb));
+            a.dealloc(pa, la);
+            a.dealloc(pb, lb);
+            let qb = a.alloc(lb);
+            let qa = a.alloc(la);
+            assert_eq!((qa, qb), (pa, pb));
+            a.dealloc(qa, la);
+            a.dealloc(qb, lb);
         }
     }
 
