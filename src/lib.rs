@@ -35,7 +35,16 @@ macro_rules! best_simd {
             }
         }
         let _ = kernel;
-        $body($($a),*)
+        // A function of its own in the wasm build too: V8 compiles and
+        // profiles each kernel apart (and the page's stacks name it).
+        #[cfg(target_arch = "wasm32")]
+        #[inline(never)]
+        fn portable($($a: $t),*) -> $r {
+            $body($($a),*)
+        }
+        #[cfg(not(target_arch = "wasm32"))]
+        use $body as portable;
+        portable($($a),*)
     }};
 }
 

@@ -29,7 +29,9 @@ pub fn caustic_raster(fan: &Fan, view: [f64; 4], width: usize, height: usize) ->
     let inv_area = 1.0 / (pz * py);
     for s in fan.segments.chunks_exact(4) {
         let (ya, za, yb, zb) = (s[0] as f64, s[1] as f64, s[2] as f64, s[3] as f64);
-        let len = (yb - ya).hypot(zb - za);
+        // (f32 coordinates: the squares cannot overflow; `hypot` is a slow
+        // library call in a wasm build.)
+        let len = ((yb - ya) * (yb - ya) + (zb - za) * (zb - za)).sqrt();
         if !(len > 0.0 && len.is_finite()) {
             continue;
         }

@@ -44,6 +44,14 @@ pub const SAG_SOLVE_MAX_ITER: usize = 80;
 /// Pieces of the in-slab path scanned for a sign change.
 pub const SAG_BRACKET_STEPS: usize = 24;
 
+/// max(x, 0), and 0 for NaN (as `x.max(0.0)`), written as a comparison:
+/// `f64::max` is a library call in a wasm build, which stops the loops
+/// around it from vectorising.
+#[inline(always)]
+pub fn positive_part(x: f64) -> f64 {
+    if x > 0.0 { x } else { 0.0 }
+}
+
 /// `v` scaled to unit length: one square root and one division (the
 /// tracers' normals and directions all go through this, so the batched
 /// and reference tracers round alike).

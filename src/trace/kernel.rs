@@ -23,7 +23,7 @@ use super::compiled::{Compiled, ConicRec, Kind, Rec};
 use super::slope::SlopeError;
 use super::source::Emitter;
 use super::tracer::ScreenHits;
-use crate::geometry::Vec3;
+use crate::geometry::{positive_part, Vec3};
 use crate::scene::{Part, Scene};
 
 /// Rays per batch.
@@ -441,7 +441,7 @@ fn cull(r: &Rec, eps: f64, ox: f64, oy: f64, oz: f64, dx: f64, dy: f64, dz: f64,
     let r2 = r.br * r.br;
     let thc = (r2 - d2).sqrt();
     let keep = !(d2 > r2) & !(tca + thc <= eps) & !(tca - thc >= t_best);
-    (keep, (tca - thc).max(0.0))
+    (keep, positive_part(tca - thc))
 }
 
 /// The cull of every ray against element `k` into the `keep`/`t0`
@@ -590,7 +590,7 @@ fn general(scene: &Scene, r: &Rec, k: usize, eps: f64, b: &mut Batch, n: usize) 
         if tca + thc <= eps || tca - thc >= b.t[i] {
             continue;
         }
-        let t0 = (tca - thc).max(0.0);
+        let t0 = positive_part(tca - thc);
         let lo = e.frame.to_local_point(&(o + d * t0));
         let ld = e.frame.to_local_dir(&d);
         if let Some(h) = surface.intersect(&lo, &ld, eps - t0, b.t[i] - t0) {

@@ -2,7 +2,7 @@
 
 use super::sampling::{disk_points, seed_of, DiskPoints};
 use super::sunshape::sun_directions;
-use crate::geometry::{Frame, Vec3};
+use crate::geometry::{positive_part, Frame, Vec3};
 use crate::layout::Source;
 
 /// A ray `origin + t·dir` with `dir` unit length; `weight` is the power it
@@ -24,7 +24,7 @@ fn cone_dirs(axis: Vec3, e1: Vec3, e2: Vec3, omc: f64, a: &[f64], b: &[f64], d: 
         let (a, b) = (a[k], b[k]);
         let r2 = a * a + b * b;
         let cos_t = 1.0 - r2 * omc;
-        let sin_t = (1.0 - cos_t * cos_t).max(0.0).sqrt();
+        let sin_t = positive_part(1.0 - cos_t * cos_t).sqrt();
         let r = r2.sqrt();
         let (ua, ub) = (a / r, b / r);
         let at_axis = r2 == 0.0;
@@ -130,7 +130,7 @@ impl Emitter {
     fn cone_dir(&self, a: f64, b: f64, omc: f64) -> Vec3 {
         let r2 = a * a + b * b;
         let cos_t = 1.0 - r2 * omc;
-        let sin_t = (1.0 - cos_t * cos_t).max(0.0).sqrt();
+        let sin_t = positive_part(1.0 - cos_t * cos_t).sqrt();
         if r2 == 0.0 {
             return self.axis;
         }
