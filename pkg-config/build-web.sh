@@ -39,7 +39,7 @@ if [[ -x "$opt" ]]; then
   echo "build-web: wasm-opt -O3"
   # -ocimfs: a function with one caller is inlined only when small. The
   # tracer's kernels are each called from one place; folded into one
-  # huge function they ran 10-20 % slower under V8 (bench, same machine).
+  # huge function they ran 15-20 % slower under V8 (bench, same machine).
   "$opt" -O3 --one-caller-inline-max-function-size 100 \
     --enable-reference-types --enable-bulk-memory --enable-nontrapping-float-to-int \
     --enable-sign-ext --enable-mutable-globals --enable-multivalue --enable-simd \
