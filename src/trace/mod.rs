@@ -8,6 +8,8 @@ mod run;
 mod sampling;
 mod slope;
 mod source;
+#[cfg(not(target_arch = "wasm32"))]
+mod stream;
 pub mod sunshape;
 mod tracer;
 
