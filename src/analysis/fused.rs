@@ -1,12 +1,16 @@
-//! Every per-source figure of the report in three passes over the hits,
+//! Every per-source figure of the report in two passes over the hits,
 //! instead of one or two passes per analysis: the columns of a million
 //! hits are far larger than the caches, so reading them is what costs.
 //!
-//! 1. Centroid, mean direction (power sums) and the best-focus fit.
+//! 1. Centroid, mean direction (power sums), the best-focus fit and the
+//!    path moments the wavefront fit is made from (see
+//!    [`super::wavefront`]'s `PathMoments`: the fit needs the best-focus
+//!    point, which this pass finds, only after the sums are made).
 //! 2. With those: the spot's RMS and largest radius, each hit's radius for
-//!    the encircled energy, the cone's extreme ray, the wavefront fit.
-//! 3. With the fit: the wavefront residuals; the encircled-energy
-//!    histogram.
+//!    the encircled energy, the cone's extreme ray, the wavefront
+//!    residuals.
+//!
+//! The encircled-energy histogram then reads the radii alone.
 //!
 //! Each pass runs over fixed chunks of [`super::CHUNK`] hits (on the thread pool
 //! natively). In a chunk the sums are kept in [`LANES`] interleaved partial
@@ -19,13 +23,14 @@
 use super::cone::{f_number_from_angle, ConeSums};
 use super::energy::EncircledEnergy;
 use super::focus::{FocusFit, FocusSums};
-use super::lanes::{groups, Lane, V4, LANES};
+use super::lanes::{groups, V4, LANES};
 use super::select::Subset;
 use super::spot::SpotStats;
-use super::wavefront::{Cols, Fit, FitSums, ResidualSums, WavefrontStats};
+use super::wavefront::{path_offset, path_origin, path_terms, Cols, Fit, PathMoments, ResidualSums, WavefrontStats};
 use crate::geometry::Vec3;
 use crate::trace::Kernel;
 use super::{over_chunks, over_chunks_mut};
+use std::mem::MaybeUninit;
 use std::ops::Range;
 
 /// Interleaved partial sums per quantity.
@@ -115,12 +120,48 @@ macro_rules! for_lanes {
     }};
 }
 
-/// Pass 1 of a chunk: focus sums (shifted by the first hit), power-weighted
-/// position and direction sums.
+/// Hits per block of a pass, a whole number of [`LANES`]: each of the
+/// pass's loops runs over one block while its columns sit in the
+/// first-level cache. Separate loops, each with few running sums, keep
+/// those sums in vector registers. A hit adds to the same lane in the same
+/// order as in one loop over the chunk, so blocking changes no bit.
+const BLOCK: usize = 256;
+const _: () = assert!(BLOCK.is_multiple_of(LANES));
+
+/// The blocks of `0..n`, in order. (An iterator, not a function taking
+/// the loop's body as a closure: a closure not inlined would be compiled
+/// without its caller's instruction set.)
 #[inline(always)]
-fn pass1_body(c: Columns<'_>, first: [f64; 4]) -> [Lanes; 12] {
+fn blocks(n: usize) -> impl Iterator<Item = Range<usize>> {
+    (0..n).step_by(BLOCK).map(move |start| start..(start + BLOCK).min(n))
+}
+
+/// Pass 1 of a chunk: focus sums (shifted by the first hit), power-weighted
+/// position and direction sums, and (when `WF`) the path moments the
+/// wavefront fit is made from.
+struct Pass1 {
+    focus: [Lanes; 12],
+    path: [Lanes; 14],
+}
+
+#[inline(always)]
+fn pass1_generic<const WF: bool>(c: Columns<'_>, first: [f64; 4], origin: [f64; 5]) -> Pass1 {
+    let mut out = Pass1 { focus: [[0.0; LANES]; 12], path: [[0.0; LANES]; 14] };
+    for r in blocks(c.w.len()) {
+        focus_block(c.part(r.clone()), first, &mut out.focus);
+        if WF {
+            path_block(c.part(r), &origin, &mut out.path);
+        }
+    }
+    out
+}
+
+/// The focus, centroid and direction sums over one block.
+#[inline(always)]
+fn focus_block(c: Columns<'_>, first: [f64; 4], out: &mut [Lanes; 12]) {
     let Columns { hit: Cols { u, v, du, dv, dw, .. }, w } = c;
-    let mut a = [[0.0; LANES]; 12];
+    // Running sums in a local, so they stay in registers.
+    let mut a = *out;
     for_lanes!(u.len(), [u, v, du, dv, dw, w], [], k, l, g, {
         let wk = w[k];
         let inv = 1.0 / dw[k];
@@ -138,20 +179,60 @@ fn pass1_body(c: Columns<'_>, first: [f64; 4]) -> [Lanes; 12] {
         a[10][l] += dv[k] * wk;
         a[11][l] += dw[k] * wk;
     });
-    a
+    *out = a;
 }
 
-fn pass1(kernel: Kernel, c: Columns<'_>, first: [f64; 4]) -> [Lanes; 12] {
-    best_simd!(kernel, pass1_body(c: Columns<'_>, first: [f64; 4]) -> [Lanes; 12])
+/// The path moments over one block: groups of [`LANES`] hits as [`V4`]
+/// values, then the rest one by one into lanes 0, 1, …
+#[inline(always)]
+fn path_block(c: Columns<'_>, origin: &[f64; 5], out: &mut [Lanes; 14]) {
+    let Columns { hit: Cols { u, v, du, dv, dw, opl }, w } = c;
+    let mut b = out.map(V4);
+    let ([gu, gv, gdu, gdv, gdw, gopl, gw], full) = groups([u, v, du, dv, dw, opl, w]);
+    for q in 0..gu.len() {
+        // Spelled out: `[…].map(V4)` is left as a call in this loop.
+        let y = path_offset(origin, [V4(gu[q]), V4(gv[q]), V4(gdu[q]), V4(gdv[q]), V4(gdw[q]), V4(gopl[q])]);
+        for (s, t) in b.iter_mut().zip(path_terms(V4(gw[q]), y)) {
+            *s = *s + t;
+        }
+    }
+    for g in full..u.len() {
+        let y = path_offset(origin, [u[g], v[g], du[g], dv[g], dw[g], opl[g]]);
+        for (s, t) in b.iter_mut().zip(path_terms(w[g], y)) {
+            s.0[g - full] += t;
+        }
+    }
+    *out = b.map(|v| v.0);
+}
+
+#[inline(always)]
+fn pass1_path_body(c: Columns<'_>, first: [f64; 4], origin: [f64; 5]) -> Pass1 {
+    pass1_generic::<true>(c, first, origin)
+}
+
+#[inline(always)]
+fn pass1_plain_body(c: Columns<'_>, first: [f64; 4], origin: [f64; 5]) -> Pass1 {
+    pass1_generic::<false>(c, first, origin)
+}
+
+fn pass1(kernel: Kernel, c: Columns<'_>, first: [f64; 4], origin: Option<[f64; 5]>) -> Pass1 {
+    match origin {
+        Some(origin) => best_simd!(kernel, pass1_path_body(c: Columns<'_>, first: [f64; 4], origin: [f64; 5]) -> Pass1),
+        None => {
+            let origin = [0.0; 5];
+            best_simd!(kernel, pass1_plain_body(c: Columns<'_>, first: [f64; 4], origin: [f64; 5]) -> Pass1)
+        }
+    }
 }
 
 /// Pass 2 of a chunk: the spot's sums, each hit's radius, the cone's
-/// extreme ray and (when `WF`) the wavefront fit's sums.
+/// extreme ray and (when `WF`) the wavefront residuals' sums, least and
+/// largest.
 struct Pass2 {
     s2: Lanes,
     rmax2: Lanes,
     cone: ConeBest,
-    fit: [Lanes; 13],
+    residual: [Lanes; 4],
 }
 
 /// What pass 2 needs besides the columns.
@@ -165,36 +246,25 @@ struct Pass2In<'f, 's, 'a> {
     fit: Option<&'f Fit<'s, 'a>>,
 }
 
-/// Hits per block of pass 2, a whole number of [`LANES`]: each of the
-/// pass's loops runs over one block while its columns sit in the
-/// first-level cache. Separate loops, each with few running sums, keep
-/// those sums in vector registers. A hit adds to the same lane in the same
-/// order as in one loop over the chunk, so blocking changes no bit.
-const BLOCK: usize = 256;
-const _: () = assert!(BLOCK.is_multiple_of(LANES));
-
 #[inline(always)]
-fn pass2_generic<const WF: bool>(c: Columns<'_>, radius: &mut [f64], p: Pass2In) -> Pass2 {
-    let mut out = Pass2 { s2: [0.0; LANES], rmax2: [0.0; LANES], cone: ConeBest::new(), fit: [[0.0; LANES]; 13] };
+fn pass2_generic<const WF: bool>(c: Columns<'_>, radius: &mut [MaybeUninit<f64>], p: Pass2In) -> Pass2 {
+    let no_residual = [[0.0; LANES], [0.0; LANES], [f64::INFINITY; LANES], [f64::NEG_INFINITY; LANES]];
+    let mut out = Pass2 { s2: [0.0; LANES], rmax2: [0.0; LANES], cone: ConeBest::new(), residual: no_residual };
     let f = p.fit.filter(|_| WF);
-    let n = c.w.len();
-    let mut start = 0;
-    while start < n {
-        let end = (start + BLOCK).min(n);
-        let b = c.part(start..end);
-        spot_block(b, &mut radius[start..end], p.centroid, &mut out.s2, &mut out.rmax2);
-        out.cone.block(b, p.m, p.offset + start);
+    for r in blocks(c.w.len()) {
+        let b = c.part(r.clone());
+        spot_block(b, &mut radius[r.clone()], p.centroid, &mut out.s2, &mut out.rmax2);
+        out.cone.block(b, p.m, p.offset + r.start);
         if let Some(f) = f {
-            fit_block(b, f, &mut out.fit);
+            residual_block(b, f, &mut out.residual);
         }
-        start = end;
     }
     out
 }
 
 /// The spot's sums and each hit's radius about `centroid`, over one block.
 #[inline(always)]
-fn spot_block(c: Columns<'_>, radius: &mut [f64], centroid: [f64; 2], s2_out: &mut Lanes, rmax2_out: &mut Lanes) {
+fn spot_block(c: Columns<'_>, radius: &mut [MaybeUninit<f64>], centroid: [f64; 2], s2_out: &mut Lanes, rmax2_out: &mut Lanes) {
     let Columns { hit: Cols { u, v, .. }, w } = c;
     let [cu, cv] = centroid;
     // Running sums in locals, so they stay in registers.
@@ -205,88 +275,36 @@ fn spot_block(c: Columns<'_>, radius: &mut [f64], centroid: [f64; 2], s2_out: &m
         // As f64::max for numbers (a NaN radius is passed over), in one
         // vector instruction.
         rmax2[l] = if r2 > rmax2[l] { r2 } else { rmax2[l] };
-        radius[k] = r2.sqrt();
+        radius[k] = MaybeUninit::new(r2.sqrt());
     });
     (*s2_out, *rmax2_out) = (s2, rmax2);
 }
 
-/// The 13 terms a hit adds to the wavefront fit's sums: weight `wk`,
-/// sample `d` shifted by the first one.
 #[inline(always)]
-fn fit_terms<T: Lane>(wk: T, d: [T; 4]) -> [T; 13] {
-    [
-        wk * d[0],
-        wk * d[1],
-        wk * d[2],
-        wk * d[3],
-        wk * d[0] * d[0],
-        wk * d[0] * d[1],
-        wk * d[0] * d[2],
-        wk * d[1] * d[1],
-        wk * d[1] * d[2],
-        wk * d[2] * d[2],
-        wk * d[0] * d[3],
-        wk * d[1] * d[3],
-        wk * d[2] * d[3],
-    ]
-}
-
-/// The shifted sample of a hit (or of one hit per lane).
-#[inline(always)]
-fn shifted<T: Lane>(f: &Fit, x0: [f64; 4], [u, v, du, dv, dw, opl]: [T; 6]) -> [T; 4] {
-    let x = f.sample_of(u, v, du, dv, dw, opl);
-    [x[0] - T::from(x0[0]), x[1] - T::from(x0[1]), x[2] - T::from(x0[2]), x[3] - T::from(x0[3])]
-}
-
-/// The wavefront fit's sums over one block: groups of [`LANES`] hits as
-/// [`V4`] values, then the rest one by one into lanes 0, 1, …
-#[inline(always)]
-fn fit_block(c: Columns<'_>, f: &Fit, out: &mut [Lanes; 13]) {
-    let Columns { hit: Cols { u, v, du, dv, dw, opl }, w } = c;
-    let x0 = f.shift();
-    let mut b = out.map(V4);
-    let ([gu, gv, gdu, gdv, gdw, gopl, gw], full) = groups([u, v, du, dv, dw, opl, w]);
-    for q in 0..gu.len() {
-        // Spelled out: `[…].map(V4)` is left as a call in this loop.
-        let d = shifted(f, x0, [V4(gu[q]), V4(gv[q]), V4(gdu[q]), V4(gdv[q]), V4(gdw[q]), V4(gopl[q])]);
-        for (s, t) in b.iter_mut().zip(fit_terms(V4(gw[q]), d)) {
-            *s = *s + t;
-        }
-    }
-    for g in full..u.len() {
-        let d = shifted(f, x0, [u[g], v[g], du[g], dv[g], dw[g], opl[g]]);
-        for (s, t) in b.iter_mut().zip(fit_terms(w[g], d)) {
-            s.0[g - full] += t;
-        }
-    }
-    *out = b.map(|v| v.0);
-}
-
-#[inline(always)]
-fn pass2_fit_body(c: Columns<'_>, radius: &mut [f64], p: Pass2In) -> Pass2 {
+fn pass2_fit_body(c: Columns<'_>, radius: &mut [MaybeUninit<f64>], p: Pass2In) -> Pass2 {
     pass2_generic::<true>(c, radius, p)
 }
 
 #[inline(always)]
-fn pass2_plain_body(c: Columns<'_>, radius: &mut [f64], p: Pass2In) -> Pass2 {
+fn pass2_plain_body(c: Columns<'_>, radius: &mut [MaybeUninit<f64>], p: Pass2In) -> Pass2 {
     pass2_generic::<false>(c, radius, p)
 }
 
-fn pass2(kernel: Kernel, c: Columns<'_>, radius: &mut [f64], p: Pass2In) -> Pass2 {
+fn pass2(kernel: Kernel, c: Columns<'_>, radius: &mut [MaybeUninit<f64>], p: Pass2In) -> Pass2 {
     if p.fit.is_some() {
-        best_simd!(kernel, pass2_fit_body(c: Columns<'_>, radius: &mut [f64], p: Pass2In) -> Pass2)
+        best_simd!(kernel, pass2_fit_body(c: Columns<'_>, radius: &mut [MaybeUninit<f64>], p: Pass2In) -> Pass2)
     } else {
-        best_simd!(kernel, pass2_plain_body(c: Columns<'_>, radius: &mut [f64], p: Pass2In) -> Pass2)
+        best_simd!(kernel, pass2_plain_body(c: Columns<'_>, radius: &mut [MaybeUninit<f64>], p: Pass2In) -> Pass2)
     }
 }
 
-/// Pass 3 of a chunk: sums, least and largest of the wavefront residuals
+/// Sums, least and largest of the wavefront residuals over one block
 /// (groups of [`LANES`] hits as [`V4`] values, then the rest one by one
 /// into lanes 0, 1, …).
 #[inline(always)]
-fn pass3_body(c: Columns<'_>, f: &Fit) -> [Lanes; 4] {
+fn residual_block(c: Columns<'_>, f: &Fit, out: &mut [Lanes; 4]) {
     let Columns { hit: Cols { u, v, du, dv, dw, opl }, w } = c;
-    let (mut sum, mut sq, mut lo, mut hi) = (V4::from(0.0), V4::from(0.0), V4::from(f64::INFINITY), V4::from(f64::NEG_INFINITY));
+    let [mut sum, mut sq, mut lo, mut hi] = out.map(V4);
     let ([gu, gv, gdu, gdv, gdw, gopl, gw], full) = groups([u, v, du, dv, dw, opl, w]);
     for q in 0..gu.len() {
         let r = f.residual_of(f.sample_of(V4(gu[q]), V4(gv[q]), V4(gdu[q]), V4(gdv[q]), V4(gdw[q]), V4(gopl[q])));
@@ -303,11 +321,7 @@ fn pass3_body(c: Columns<'_>, f: &Fit) -> [Lanes; 4] {
         lo.0[l] = if r < lo.0[l] { r } else { lo.0[l] };
         hi.0[l] = if r > hi.0[l] { r } else { hi.0[l] };
     }
-    [sum.0, sq.0, lo.0, hi.0]
-}
-
-fn pass3(kernel: Kernel, c: Columns<'_>, f: &Fit) -> [Lanes; 4] {
-    best_simd!(kernel, pass3_body(c: Columns<'_>, f: &Fit) -> [Lanes; 4])
+    *out = [sum.0, sq.0, lo.0, hi.0];
 }
 
 /// The figures, with the passes' kernels of `kernel`'s instruction set.
@@ -328,9 +342,11 @@ pub(crate) fn figures_with(kernel: Kernel, sel: &Subset, wavelength_mm: f64, wav
         return Figures { spot: SpotStats::default(), fit: None, f_number: None, wavefront: None, energy: None };
     }
 
-    // Pass 1: centroid, mean direction, best-focus sums.
+    // Pass 1: centroid, mean direction, best-focus sums, path moments.
     let first = [hit.u[0], hit.v[0], hit.du[0] / hit.dw[0], hit.dv[0] / hit.dw[0]];
-    let t = merge(&over_chunks(n, |r| pass1(kernel, cols.part(r), first)));
+    let origin = (wavefront && n >= 5).then(|| path_origin(&hit));
+    let parts = over_chunks(n, |r| pass1(kernel, cols.part(r), first, origin));
+    let t = merge(&parts.iter().map(|p| p.focus).collect::<Vec<_>>());
     let focus = FocusSums { first, s: [t[0], t[1], t[2], t[3]], xx: t[4], xp: t[5], pp: t[6], su: t[7], sv: t[8] };
     let fit0 = focus.fit(n, sel.w);
     let centroid = fit0.centroid;
@@ -340,17 +356,30 @@ pub(crate) fn figures_with(kernel: Kernel, sel: &Subset, wavelength_mm: f64, wav
     sel.set_first_pass(centroid, mean_dir);
     let fit = (n >= 3).then_some(fit0);
 
-    // Pass 2: spot, radii, cone, wavefront fit sums.
+    // The wavefront fit, from the path moments about the best-focus point.
     let reference = fit.as_ref().and_then(|f| f.best_point()).unwrap_or([centroid[0], centroid[1], 0.0]);
-    let mut wf = if wavefront { Fit::start(sel, reference) } else { None };
-    let mut radius = vec![0.0; n];
+    let mut wf = if origin.is_some() { Fit::start(sel, reference) } else { None };
+    if let Some(f) = wf.as_mut() {
+        let t = merge(&parts.iter().map(|p| p.path).collect::<Vec<_>>());
+        let pm = PathMoments { s: [t[0], t[1], t[2], t[3]], ss: [t[4], t[5], t[6], t[7], t[8], t[9], t[10], t[11], t[12], t[13]] };
+        let sums = f.sums_from(&pm);
+        if f.solve(&sums).is_none() {
+            wf = None;
+        }
+    }
+
+    // Pass 2: spot, radii, cone, wavefront residuals.
+    let mut radius: Vec<f64> = Vec::with_capacity(n);
     let parts = {
         let wf = wf.as_ref();
-        over_chunks_mut(&mut radius, |r, out| {
+        over_chunks_mut(&mut radius.spare_capacity_mut()[..n], |r, out| {
             let p = Pass2In { centroid, m: mean_dir.unwrap_or(Vec3::z()), offset: r.start, fit: wf };
             pass2(kernel, cols.part(r), out, p)
         })
     };
+    // SAFETY: pass 2 wrote every radius: each chunk's `spot_block`s cover
+    // its part of the column, and the parts cover `0..n`.
+    unsafe { radius.set_len(n) };
     let mut cone = ConeSums::new(mean_dir.unwrap_or(Vec3::z()));
     let mut rmax2 = 0.0f64;
     for p in &parts {
@@ -360,28 +389,16 @@ pub(crate) fn figures_with(kernel: Kernel, sel: &Subset, wavelength_mm: f64, wav
     let s2: f64 = parts.iter().map(|p| total(&p.s2)).sum();
     let spot = SpotStats { hits: n as u64, power_w: sel.power, centroid, rms_radius: (s2 / sel.w).sqrt(), max_radius: rmax2.sqrt() };
     let f_number = if n >= 3 && mean_dir.is_some() { f_number_from_angle(cone.angle(hit.du, hit.dv, hit.dw)) } else { None };
-    if let Some(f) = wf.as_mut() {
-        let fits: Vec<[Lanes; 13]> = parts.iter().map(|p| p.fit).collect();
-        let t = merge(&fits);
-        let sums = FitSums { s: [t[0], t[1], t[2], t[3]], nn: [t[4], t[5], t[6], t[7], t[8], t[9]], rr: [t[10], t[11], t[12]] };
-        if f.solve(&sums).is_none() {
-            wf = None;
-        }
-    }
-
-    // Pass 3: wavefront residuals.
-    let mut wavefront = None;
-    if let Some(f) = wf.as_ref() {
-        let parts = over_chunks(n, |r| pass3(kernel, cols.part(r), f));
-        let mut r = ResidualSums { sum: 0.0, s2: 0.0, lo: f64::INFINITY, hi: f64::NEG_INFINITY };
-        for [sum, sq, lo, hi] in &parts {
+    let wavefront = wf.as_ref().and_then(|f| {
+        let mut r = ResidualSums::default();
+        for [sum, sq, lo, hi] in parts.iter().map(|p| &p.residual) {
             r.sum += total(sum);
             r.s2 += total(sq);
             r.lo = lo.iter().copied().fold(r.lo, f64::min);
             r.hi = hi.iter().copied().fold(r.hi, f64::max);
         }
-        wavefront = f.stats(&r, wavelength_mm);
-    }
+        f.stats(&r, wavelength_mm)
+    });
     let energy = (n >= 3).then(|| EncircledEnergy::from_radii(centroid, radius, &w, rmax2.sqrt()));
     Figures { spot, fit, f_number, wavefront, energy }
 }

@@ -63,8 +63,8 @@ pub(crate) fn over_parts<T: Send>(n: usize, size: usize, f: impl Fn(Range<usize>
 }
 
 /// [`over_chunks`] with each chunk's part of `out` to write.
-pub(crate) fn over_chunks_mut<T: Send>(out: &mut [f64], f: impl Fn(Range<usize>, &mut [f64]) -> T + Sync + Send) -> Vec<T> {
-    let at = |c: usize, o: &mut [f64]| f(c * CHUNK..c * CHUNK + o.len(), o);
+pub(crate) fn over_chunks_mut<T: Send, E: Send>(out: &mut [E], f: impl Fn(Range<usize>, &mut [E]) -> T + Sync + Send) -> Vec<T> {
+    let at = |c: usize, o: &mut [E]| f(c * CHUNK..c * CHUNK + o.len(), o);
     #[cfg(not(target_arch = "wasm32"))]
     {
         use rayon::prelude::*;
