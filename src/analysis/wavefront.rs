@@ -401,3 +401,55 @@ pub fn wavefront_map(h: &ScreenHits, source: Option<u32>, reference: [f64; 3], w
     out.opd_waves.iter_mut().for_each(|r| *r = (*r - mean) / wavelength_mm);
     Some(out)
 }
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn fit_sums_from_path_moments_match_the_direct_sums() {
+        // Textbook identity (the covariance of a linear map, e.g. Anderson,
+        // An Introduction to Multivariate Statistical Analysis, 3rd ed.,
+        // §2.4): for d = L·y, Σw·d = L·Σw·y and Σw·d·dᵀ = L·(Σw·y·yᵀ)·Lᵀ.
+        // The sums from the first pass's moments must equal the sums of
+        // each hit's sample about a reference point that pass did not know.
+        let mut h = ScreenHits::default();
+        let mut seed = 0x2545_f491_4f6c_dd1d_u64;
+        let mut next = || {
+            seed = seed.wrapping_mul(6364136223846793005).wrapping_add(1442695040888963407);
+            (seed >> 11) as f64 / (1u64 << 53) as f64 - 0.5
+        };
+        for _ in 0..500 {
+            let (a, b) = (next(), next());
+            let d = Vec3::new(0.2 * a + 0.05, 0.15 * b, 1.0).normalize();
+            h.u.push(3.0 + 0.4 * a + 0.01 * b * b);
+            h.v.push(-1.0 + 0.3 * b);
+            h.du.push(d.x);
+            h.dv.push(d.y);
+            h.dw.push(d.z);
+            h.opl.push(2400.0 + 0.002 * a * a - 0.001 * a * b);
+            h.weight.push(1.0 + next());
+            h.source.push(0);
+            h.first.push(true);
+        }
+        let sel = Subset::new(&h, Some(0));
+        let f = Fit::start(&sel, [2.5, -0.7, 12.0]).expect("enough hits");
+        let (c, w) = (f.cols(), sel.weights());
+        let mut direct = FitSums::default();
+        let mut pm = PathMoments::default();
+        let origin = path_origin(&c);
+        for k in 0..sel.n {
+            f.add(&c, k, w[k], &mut direct);
+            let t = path_terms(w[k], path_offset(&origin, [c.u[k], c.v[k], c.du[k], c.dv[k], c.dw[k], c.opl[k]]));
+            pm.s.iter_mut().zip(&t[..4]).for_each(|(s, t)| *s += t);
+            pm.ss.iter_mut().zip(&t[4..]).for_each(|(s, t)| *s += t);
+        }
+        let moved = f.sums_from(&pm);
+        let pairs = direct.s.iter().chain(&direct.nn).chain(&direct.rr).zip(moved.s.iter().chain(&moved.nn).chain(&moved.rr));
+        for (i, (a, b)) in pairs.enumerate() {
+            assert!((a - b).abs() <= 1e-9 * (1.0 + a.abs()), "sum {i}: direct {a}, from moments {b}");
+        }
+        // Not all zero: the check above compares real spreads.
+        assert!(direct.nn[0] > 1e-3 && direct.rr.iter().any(|r| r.abs() > 1e-6), "{direct:?}");
+    }
+}
