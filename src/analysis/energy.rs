@@ -333,16 +333,13 @@ pub(crate) fn encircled_energy_of(sel: &Subset) -> Option<EncircledEnergy> {
     let (u, v) = (sel.col(&sel.h.u), sel.col(&sel.h.v));
     let radius_mm: Vec<f64> = u.iter().zip(v).map(|(x, y)| ((x - c[0]) * (x - c[0]) + (y - c[1]) * (y - c[1])).sqrt()).collect();
     let rmax = radius_mm.iter().copied().fold(0.0, f64::max);
-    Some(EncircledEnergy::from_radii(c, radius_mm, &sel.weights(), rmax))
+    Some(EncircledEnergy::from_radii(c, radius_mm, &sel.weights(), sel.uniform_weight(), rmax))
 }
 
 impl EncircledEnergy {
-    /// From the hits' radii about `centre` (largest `rmax`) and weights.
-    pub(crate) fn from_radii(centre: [f64; 2], radius_mm: Vec<f64>, weight: &[f64], rmax: f64) -> EncircledEnergy {
-        let uniform = weight.first().copied().filter(|&w0| {
-            // Counted chunk by chunk on the thread pool (a vector loop).
-            over_chunks(weight.len(), |c| weight[c].iter().filter(|&&w| w != w0).count()).iter().all(|&k| k == 0)
-        });
+    /// From the hits' radii about `centre` (largest `rmax`) and weights,
+    /// `uniform` the one weight they all have if so.
+    pub(crate) fn from_radii(centre: [f64; 2], radius_mm: Vec<f64>, weight: &[f64], uniform: Option<f64>, rmax: f64) -> EncircledEnergy {
         let mut e = EncircledEnergy {
             centre_mm: centre,
             radius_mm,
@@ -429,7 +426,7 @@ mod tests {
         // reads it must put every radius in the same bin; edges of bins,
         // the largest radius, a little past it and NaN included.
         let rmax = 0.37;
-        let e = EncircledEnergy::from_radii([0.0; 2], vec![0.0, rmax], &[1.0, 1.0], rmax);
+        let e = EncircledEnergy::from_radii([0.0; 2], vec![0.0, rmax], &[1.0, 1.0], Some(1.0), rmax);
         let mut r = vec![0.0, 1e-300, rmax, rmax * (1.0 + 1e-15), 2.0 * rmax, f64::NAN, -0.0];
         for k in [1, 2, 17, BINS / 2, BINS - 1] {
             let edge = k as f64 / e.scale;

@@ -399,7 +399,7 @@ pub(crate) fn figures_with(kernel: Kernel, sel: &Subset, wavelength_mm: f64, wav
         }
         f.stats(&r, wavelength_mm)
     });
-    let energy = (n >= 3).then(|| EncircledEnergy::from_radii(centroid, radius, &w, rmax2.sqrt()));
+    let energy = (n >= 3).then(|| EncircledEnergy::from_radii(centroid, radius, &w, sel.uniform_weight(), rmax2.sqrt()));
     Figures { spot, fit, f_number, wavefront, energy }
 }
 

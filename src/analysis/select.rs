@@ -27,6 +27,9 @@ pub(crate) struct Subset<'a> {
     /// Sum of the rays' powers, W.
     pub power: f64,
     equal: bool,
+    /// The one weight of every picked hit (as [`Subset::weights`] gives
+    /// them), when they are all equal.
+    uniform: Option<f64>,
     centroid: std::sync::OnceLock<[f64; 2]>,
     mean_dir: std::sync::OnceLock<Option<crate::geometry::Vec3>>,
 }
@@ -67,8 +70,16 @@ impl<'a> Subset<'a> {
             (Cow::Owned(own), 0..n)
         };
         let weight = &h.weight[range.clone()];
-        let power: f64 = over_chunks(weight.len(), |r| lane_sum(&weight[r])).iter().sum();
+        // The sum, and whether every weight equals the first, chunk by chunk
+        // while the chunk is in cache.
+        let w0 = weight.first().copied();
+        let parts = over_chunks(weight.len(), |r| {
+            let x = &weight[r];
+            (lane_sum(x), x.iter().filter(|&&w| Some(w) != w0).count())
+        });
+        let power: f64 = parts.iter().map(|p| p.0).sum();
         let equal = power <= 0.0 || power.is_nan();
+        let uniform = if equal { Some(1.0) } else { w0.filter(|_| parts.iter().all(|p| p.1 == 0)) };
         let n = range.len();
         Subset {
             h,
@@ -77,6 +88,7 @@ impl<'a> Subset<'a> {
             w: if equal { n as f64 } else { power },
             power,
             equal,
+            uniform,
             centroid: Default::default(),
             mean_dir: Default::default(),
         }
@@ -93,6 +105,11 @@ impl<'a> Subset<'a> {
         if self.equal { Cow::Owned(vec![1.0; self.n]) } else { Cow::Borrowed(self.col(&self.h.weight)) }
     }
 
+    /// The one weight every picked hit has in [`Subset::weights`], when
+    /// they are all equal.
+    pub fn uniform_weight(&self) -> Option<f64> {
+        self.uniform
+    }
 
     /// Weighted centroid (u, v) on the screen, mm (computed once).
     pub fn centroid(&self) -> [f64; 2] {
