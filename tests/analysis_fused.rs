@@ -1,4 +1,4 @@
-//! The report's figures come from three fused passes over the hits; each
+//! The report's figures come from two fused passes over the hits; each
 //! must equal the figure of the separate analysis function (spot, best
 //! focus, f-number, wavefront, encircled energy) on every preset. Common
 //! practice for a fused fast path: the plain functions are its oracle.
