@@ -141,12 +141,12 @@ fn blocks(n: usize) -> impl Iterator<Item = Range<usize>> {
 /// wavefront fit is made from.
 struct Pass1 {
     focus: [Lanes; 12],
-    path: [Lanes; 14],
+    path: [Lanes; 13],
 }
 
 #[inline(always)]
 fn pass1_generic<const WF: bool>(c: Columns<'_>, first: [f64; 4], origin: [f64; 5]) -> Pass1 {
-    let mut out = Pass1 { focus: [[0.0; LANES]; 12], path: [[0.0; LANES]; 14] };
+    let mut out = Pass1 { focus: [[0.0; LANES]; 12], path: [[0.0; LANES]; 13] };
     for r in blocks(c.w.len()) {
         focus_block(c.part(r.clone()), first, &mut out.focus);
         if WF {
@@ -185,7 +185,7 @@ fn focus_block(c: Columns<'_>, first: [f64; 4], out: &mut [Lanes; 12]) {
 /// The path moments over one block: groups of [`LANES`] hits as [`V4`]
 /// values, then the rest one by one into lanes 0, 1, …
 #[inline(always)]
-fn path_block(c: Columns<'_>, origin: &[f64; 5], out: &mut [Lanes; 14]) {
+fn path_block(c: Columns<'_>, origin: &[f64; 5], out: &mut [Lanes; 13]) {
     let Columns { hit: Cols { u, v, du, dv, dw, opl }, w } = c;
     let mut b = out.map(V4);
     let ([gu, gv, gdu, gdv, gdw, gopl, gw], full) = groups([u, v, du, dv, dw, opl, w]);
@@ -361,7 +361,7 @@ pub(crate) fn figures_with(kernel: Kernel, sel: &Subset, wavelength_mm: f64, wav
     let mut wf = if origin.is_some() { Fit::start(sel, reference) } else { None };
     if let Some(f) = wf.as_mut() {
         let t = merge(&parts.iter().map(|p| p.path).collect::<Vec<_>>());
-        let pm = PathMoments { s: [t[0], t[1], t[2], t[3]], ss: [t[4], t[5], t[6], t[7], t[8], t[9], t[10], t[11], t[12], t[13]] };
+        let pm = PathMoments { s: [t[0], t[1], t[2], t[3]], ss: [t[4], t[5], t[6], t[7], t[8], t[9], t[10], t[11], t[12]] };
         let sums = f.sums_from(&pm);
         if f.solve(&sums).is_none() {
             wf = None;

@@ -148,7 +148,7 @@ pub(crate) struct FitSums {
 }
 
 /// Sums a pass can gather before the reference point and the pupil frame
-/// are known: over the hits, Σw·y and Σw·y_i·y_j of y = x − x₀, where
+/// are known: over the hits, Σw·y and Σw·y_i·y_j (i ≤ j, i < 3) of y = x − x₀, where
 /// x = (d_u, d_v, d_w, L − (d_u·u + d_v·v)) (d the direction, (u, v) the
 /// hit, L its optical path) and x₀ that of the first hit. A sample is
 /// linear in x — (a, b, c) = (e₁·d, e₂·d, m·d) and W − w₀ = P·d + x₃ − w₀ —
@@ -159,8 +159,9 @@ pub(crate) struct FitSums {
 pub(crate) struct PathMoments {
     pub s: [f64; 4],
     /// Σw·y_i·y_j, i ≤ j, row by row: (0,0) (0,1) (0,2) (0,3) (1,1) (1,2)
-    /// (1,3) (2,2) (2,3) (3,3).
-    pub ss: [f64; 10],
+    /// (1,3) (2,2) (2,3). Σw·y₃² is not needed: the fit regresses W on
+    /// (a, b, c), whose rows of the map have no y₃ term.
+    pub ss: [f64; 9],
 }
 
 /// What [`path_offset`] measures from: the first hit's d_u, d_v, d_w, L
@@ -177,9 +178,9 @@ pub(crate) fn path_offset<T: Lane>(origin: &[f64; 5], [u, v, du, dv, dw, opl]: [
     [du - o(0), dv - o(1), dw - o(2), (opl - o(3)) - ((du * u + dv * v) - o(4))]
 }
 
-/// The 14 terms a hit of weight `w` adds to [`PathMoments`] (`s`, then `ss`).
+/// The 13 terms a hit of weight `w` adds to [`PathMoments`] (`s`, then `ss`).
 #[inline(always)]
-pub(crate) fn path_terms<T: Lane>(w: T, y: [T; 4]) -> [T; 14] {
+pub(crate) fn path_terms<T: Lane>(w: T, y: [T; 4]) -> [T; 13] {
     let wy = [w * y[0], w * y[1], w * y[2], w * y[3]];
     [
         wy[0],
@@ -195,7 +196,6 @@ pub(crate) fn path_terms<T: Lane>(w: T, y: [T; 4]) -> [T; 14] {
         wy[1] * y[3],
         wy[2] * y[2],
         wy[2] * y[3],
-        wy[3] * y[3],
     ]
 }
 
@@ -269,13 +269,15 @@ impl<'s, 'a> Fit<'s, 'a> {
     /// first of them the fit's first sample): d = L·y with L's rows e₁, e₂,
     /// m (and 0) and (P, 1), so Σw·d = L·Σw·y and Σw·d·dᵀ = L·(Σw·y·yᵀ)·Lᵀ.
     pub(crate) fn sums_from(&self, pm: &PathMoments) -> FitSums {
-        const AT: [[usize; 4]; 4] = [[0, 1, 2, 3], [1, 4, 5, 6], [2, 5, 7, 8], [3, 6, 8, 9]];
+        // Where Σw·y_k·y_j sits in `pm.ss`, for k < 3.
+        const AT: [[usize; 4]; 3] = [[0, 1, 2, 3], [1, 4, 5, 6], [2, 5, 7, 8]];
         let (e1, e2, m, p) = (self.e1, self.e2, self.m, self.p);
         let rows = [[e1.x, e1.y, e1.z, 0.0], [e2.x, e2.y, e2.z, 0.0], [m.x, m.y, m.z, 0.0], [p.x, p.y, p.z, 1.0]];
         let dot = |a: &[f64; 4], b: &[f64; 4]| a[0] * b[0] + a[1] * b[1] + a[2] * b[2] + a[3] * b[3];
         let s = rows.map(|r| dot(&r, &pm.s));
-        // Row a of L·M, then its product with row b of L.
-        let lm = rows.map(|r| [0, 1, 2, 3].map(|j| dot(&r, &AT[j].map(|k| pm.ss[k]))));
+        // Row a < 3 of L·M (L's rows a < 3 end in 0, so M's last row is not
+        // needed), then its product with row b of L.
+        let lm = [0, 1, 2].map(|a| [0, 1, 2, 3].map(|j| (0..3).map(|k| rows[a][k] * pm.ss[AT[k][j]]).sum::<f64>()));
         let n = |a: usize, b: usize| dot(&lm[a], &rows[b]);
         FitSums { s, nn: [n(0, 0), n(0, 1), n(0, 2), n(1, 1), n(1, 2), n(2, 2)], rr: [n(0, 3), n(1, 3), n(2, 3)] }
     }
