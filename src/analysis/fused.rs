@@ -494,4 +494,40 @@ mod tests {
             assert_eq!(show(&figures_with(k, &sel, 550e-6, true)), reference, "{k:?}");
         }
     }
+
+    #[test]
+    fn the_cones_extreme_ray_is_the_one_the_plain_function_finds() {
+        // Common practice: the fused pass's cone (sin² against the mean
+        // direction, from a cross product) must pick the same extreme ray
+        // as the plain f-number function. An elliptical cone about a mean
+        // direction with all three components, so every term of the cross
+        // product and of the cosine matters, and the rim is not a tie.
+        let m = Vec3::new(0.3, -0.9, 0.4).normalize();
+        let e1 = m.cross(&Vec3::x()).normalize();
+        let e2 = m.cross(&e1);
+        let mut h = ScreenHits::default();
+        let mut seed = 0x6a09_e667_f3bc_c908_u64;
+        let mut next = || {
+            seed = seed.wrapping_mul(6364136223846793005).wrapping_add(1442695040888963407);
+            (seed >> 11) as f64 / (1u64 << 53) as f64 - 0.5
+        };
+        for _ in 0..4000 {
+            let (a, b) = (next(), next());
+            let d = (m + e1 * (0.6 * a) + e2 * (0.2 * b)).normalize();
+            h.u.push(a);
+            h.v.push(b);
+            h.du.push(d.x);
+            h.dv.push(d.y);
+            h.dw.push(d.z);
+            h.opl.push(100.0);
+            h.weight.push(1.0);
+            h.source.push(0);
+            h.first.push(true);
+        }
+        let fused = figures(&Subset::new(&h, Some(0)), 550e-6, false).f_number.expect("a cone");
+        let plain = super::super::cone::f_number_of(&Subset::new(&h, Some(0))).expect("a cone");
+        assert!((fused - plain).abs() <= 1e-12 * plain, "fused N = {fused}, plain N = {plain}");
+        // A wide cone: the check is not at a limit (about f/1.7 here).
+        assert!(plain > 1.0 && plain < 3.0, "N = {plain}");
+    }
 }
