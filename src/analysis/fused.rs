@@ -459,6 +459,7 @@ impl ConeBest {
 
 #[cfg(test)]
 mod tests {
+    use super::super::test_rng::uniform;
     use super::*;
     use crate::trace::ScreenHits;
 
@@ -469,23 +470,11 @@ mod tests {
         // multiply-add), so the figures agree bit for bit. A spread spot
         // with a tilted cone, unequal weights, over several chunks.
         let mut h = ScreenHits::default();
-        let mut seed = 0x9e37_79b9_7f4a_7c15_u64;
-        let mut next = || {
-            seed = seed.wrapping_mul(6364136223846793005).wrapping_add(1442695040888963407);
-            (seed >> 11) as f64 / (1u64 << 53) as f64
-        };
+        let mut next = uniform(0x9e37_79b9_7f4a_7c15);
         for _ in 0..(3 * super::super::CHUNK + 17) {
             let (a, b) = (next() - 0.5, next() - 0.5);
             let d = Vec3::new(0.1 * a, 0.1 * b + 0.02, 1.0).normalize();
-            h.u.push(0.3 * a + 1.0);
-            h.v.push(0.2 * b - 2.0);
-            h.du.push(d.x);
-            h.dv.push(d.y);
-            h.dw.push(d.z);
-            h.opl.push(1000.0 + 0.01 * a * a + 0.003 * b);
-            h.weight.push(0.5 + next());
-            h.source.push(0);
-            h.first.push(true);
+            h.push(0.3 * a + 1.0, 0.2 * b - 2.0, &d, 1000.0 + 0.01 * a * a + 0.003 * b, 0.5 + next(), 0, true);
         }
         let sel = Subset::new(&h, Some(0));
         let show = |f: &Figures| format!("{:?} {:?} {:?} {:?} {:?}", f.spot, f.fit, f.f_number, f.wavefront, f.energy);
@@ -506,23 +495,11 @@ mod tests {
         let e1 = m.cross(&Vec3::x()).normalize();
         let e2 = m.cross(&e1);
         let mut h = ScreenHits::default();
-        let mut seed = 0x6a09_e667_f3bc_c908_u64;
-        let mut next = || {
-            seed = seed.wrapping_mul(6364136223846793005).wrapping_add(1442695040888963407);
-            (seed >> 11) as f64 / (1u64 << 53) as f64 - 0.5
-        };
+        let mut rng = uniform(0x6a09_e667_f3bc_c908);
+        let mut next = || rng() - 0.5;
         for _ in 0..4000 {
             let (a, b) = (next(), next());
-            let d = (m + e1 * (0.6 * a) + e2 * (0.2 * b)).normalize();
-            h.u.push(a);
-            h.v.push(b);
-            h.du.push(d.x);
-            h.dv.push(d.y);
-            h.dw.push(d.z);
-            h.opl.push(100.0);
-            h.weight.push(1.0);
-            h.source.push(0);
-            h.first.push(true);
+            h.push(a, b, &(m + e1 * (0.6 * a) + e2 * (0.2 * b)).normalize(), 100.0, 1.0, 0, true);
         }
         let fused = figures(&Subset::new(&h, Some(0)), 550e-6, false).f_number.expect("a cone");
         let plain = super::super::cone::f_number_of(&Subset::new(&h, Some(0))).expect("a cone");

@@ -98,3 +98,16 @@ pub use pupil::{resample, PupilGrid, PupilRays};
 pub use report::{analyse_all, first_arrivals, trace_report, Analyses, ScreenReport, SourceCurves, SourceReport, TraceReport, CURVE_POINTS};
 pub use spot::{spot_stats, SpotStats};
 pub use wavefront::{strehl_from_rms, wavefront, wavefront_map, WavefrontMap, WavefrontStats, MARECHAL_RMS_WAVES};
+
+/// Shared by the analyses' unit tests: a reproducible stream of numbers.
+#[cfg(test)]
+pub(crate) mod test_rng {
+    /// Numbers in [0, 1) from a 64-bit linear congruential generator
+    /// (Knuth's MMIX constants; common practice for a fixed test stream).
+    pub fn uniform(mut seed: u64) -> impl FnMut() -> f64 {
+        move || {
+            seed = seed.wrapping_mul(6364136223846793005).wrapping_add(1442695040888963407);
+            (seed >> 11) as f64 / (1u64 << 53) as f64
+        }
+    }
+}

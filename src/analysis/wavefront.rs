@@ -406,6 +406,7 @@ pub fn wavefront_map(h: &ScreenHits, source: Option<u32>, reference: [f64; 3], w
 
 #[cfg(test)]
 mod tests {
+    use super::super::test_rng::uniform;
     use super::*;
 
     #[test]
@@ -416,23 +417,13 @@ mod tests {
         // The sums from the first pass's moments must equal the sums of
         // each hit's sample about a reference point that pass did not know.
         let mut h = ScreenHits::default();
-        let mut seed = 0x2545_f491_4f6c_dd1d_u64;
-        let mut next = || {
-            seed = seed.wrapping_mul(6364136223846793005).wrapping_add(1442695040888963407);
-            (seed >> 11) as f64 / (1u64 << 53) as f64 - 0.5
-        };
+        let mut rng = uniform(0x2545_f491_4f6c_dd1d);
+        let mut next = || rng() - 0.5;
         for _ in 0..500 {
             let (a, b) = (next(), next());
             let d = Vec3::new(0.2 * a + 0.05, 0.15 * b, 1.0).normalize();
-            h.u.push(3.0 + 0.4 * a + 0.01 * b * b);
-            h.v.push(-1.0 + 0.3 * b);
-            h.du.push(d.x);
-            h.dv.push(d.y);
-            h.dw.push(d.z);
-            h.opl.push(2400.0 + 0.002 * a * a - 0.001 * a * b);
-            h.weight.push(1.0 + next());
-            h.source.push(0);
-            h.first.push(true);
+            let (u, v) = (3.0 + 0.4 * a + 0.01 * b * b, -1.0 + 0.3 * b);
+            h.push(u, v, &d, 2400.0 + 0.002 * a * a - 0.001 * a * b, 1.0 + next(), 0, true);
         }
         let sel = Subset::new(&h, Some(0));
         let f = Fit::start(&sel, [2.5, -0.7, 12.0]).expect("enough hits");

@@ -77,7 +77,7 @@ impl ScreenHits {
     }
     #[inline(always)]
     #[allow(clippy::too_many_arguments)]
-    fn push(&mut self, u: f64, v: f64, d: &Vec3, opl: f64, w: f64, src: u32, first: bool) {
+    pub(crate) fn push(&mut self, u: f64, v: f64, d: &Vec3, opl: f64, w: f64, src: u32, first: bool) {
         self.u.push(u);
         self.v.push(v);
         self.du.push(d.x);
