@@ -262,22 +262,33 @@ fn pass2_generic<const WF: bool>(c: Columns<'_>, radius: &mut [MaybeUninit<f64>]
     out
 }
 
-/// The spot's sums and each hit's radius about `centroid`, over one block.
+/// The spot's sums and each hit's radius about `centroid`, over one block
+/// (groups of [`LANES`] hits as [`V4`] values, then the rest one by one).
 #[inline(always)]
 fn spot_block(c: Columns<'_>, radius: &mut [MaybeUninit<f64>], centroid: [f64; 2], s2_out: &mut Lanes, rmax2_out: &mut Lanes) {
     let Columns { hit: Cols { u, v, .. }, w } = c;
-    let [cu, cv] = centroid;
+    let (cu, cv) = (V4::from(centroid[0]), V4::from(centroid[1]));
     // Running sums in locals, so they stay in registers.
-    let (mut s2, mut rmax2) = (*s2_out, *rmax2_out);
-    for_lanes!(u.len(), [u, v, w], [radius], k, l, g, {
-        let r2 = (u[k] - cu) * (u[k] - cu) + (v[k] - cv) * (v[k] - cv);
-        s2[l] += w[k] * r2;
-        // As f64::max for numbers (a NaN radius is passed over), in one
-        // vector instruction.
-        rmax2[l] = if r2 > rmax2[l] { r2 } else { rmax2[l] };
-        radius[k] = MaybeUninit::new(r2.sqrt());
-    });
-    (*s2_out, *rmax2_out) = (s2, rmax2);
+    let (mut s2, mut rmax2) = (V4(*s2_out), V4(*rmax2_out));
+    let ([gu, gv, gw], full) = groups([u, v, w]);
+    let (gr, rest) = radius.as_chunks_mut::<LANES>();
+    for (((r, u), v), w) in gr.iter_mut().zip(gu).zip(gv).zip(gw) {
+        let (x, y) = (V4(*u) - cu, V4(*v) - cv);
+        let r2 = x * x + y * y;
+        s2 = s2 + V4(*w) * r2;
+        // As f64::max for numbers (a NaN radius is passed over).
+        rmax2 = rmax2.greatest(r2);
+        *r = r2.sqrt().0.map(MaybeUninit::new);
+    }
+    let [cu, cv] = centroid;
+    for (l, r) in rest.iter_mut().enumerate() {
+        let g = full + l;
+        let r2 = (u[g] - cu) * (u[g] - cu) + (v[g] - cv) * (v[g] - cv);
+        s2.0[l] += w[g] * r2;
+        rmax2.0[l] = if r2 > rmax2.0[l] { r2 } else { rmax2.0[l] };
+        *r = MaybeUninit::new(r2.sqrt());
+    }
+    (*s2_out, *rmax2_out) = (s2.0, rmax2.0);
 }
 
 #[inline(always)]
@@ -432,11 +443,19 @@ impl ConeBest {
     fn block(&mut self, c: Columns<'_>, m: Vec3, offset: usize) {
         let Cols { du, dv, dw, .. } = c.hit;
         let (mut top, mut back) = ([self.best; LANES], self.back);
-        for_lanes!(du.len(), [du, dv, dw], [], k, l, g, {
-            let (s2, c) = Self::sin2_cos(m, du[k], dv[k], dw[k]);
+        let mut lane = |l: usize, (s2, c): (f64, f64)| {
             top[l] = if (c > 0.0) & (s2 > top[l]) { s2 } else { top[l] };
             back[l] = if (c <= 0.0) & (-c > back[l]) { -c } else { back[l] };
-        });
+        };
+        let ([gu, gv, gw], full) = groups([du, dv, dw]);
+        for ((u, v), w) in gu.iter().zip(gv).zip(gw) {
+            for l in 0..LANES {
+                lane(l, Self::sin2_cos(m, u[l], v[l], w[l]));
+            }
+        }
+        for g in full..du.len() {
+            lane(g - full, Self::sin2_cos(m, du[g], dv[g], dw[g]));
+        }
         self.back = back;
         if top.iter().any(|&t| t > self.best) {
             for k in 0..du.len() {

@@ -25,6 +25,12 @@ impl V4 {
         self.map2(o, |a, b| if b < a { b } else { a })
     }
 
+    /// Lane by lane, the square root.
+    #[inline(always)]
+    pub fn sqrt(self) -> V4 {
+        V4(self.0.map(f64::sqrt))
+    }
+
     /// Lane by lane, the greater (as `f64::max` for numbers; a NaN in `o` is passed over).
     #[inline(always)]
     pub fn greatest(self, o: V4) -> V4 {
@@ -121,6 +127,7 @@ mod tests {
         // A NaN in the new value leaves the running value as it was.
         assert_eq!((a.least(b).0[3], a.greatest(b).0[3]), (8.0, 8.0));
         assert_eq!(V4::from(2.0), V4([2.0; 4]));
+        assert_eq!(V4([4.0, 2.0, 0.0, 9.0]).sqrt(), V4([2.0, 2f64.sqrt(), 0.0, 3.0]));
         let (x, y) = ([1.0, 2.0, 3.0, 4.0, 5.0, 6.0, 7.0, 8.0, 9.0], [0.0; 9]);
         let ([gx, gy], rest) = groups([&x[..], &y[..]]);
         assert_eq!((gx, gy.len(), rest), (&[[1.0, 2.0, 3.0, 4.0], [5.0, 6.0, 7.0, 8.0]][..], 2, 8));

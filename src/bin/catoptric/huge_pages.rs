@@ -34,8 +34,11 @@ mod linux {
     pub(super) const BIG: usize = 1 << 20;
     /// Alignment an `mremap`ped block keeps: a page.
     const PAGE: usize = 4096;
-    /// Freed mappings kept for reuse.
-    pub(super) const KEPT: usize = 8;
+    /// Freed mappings kept for reuse: more than a trace result's columns
+    /// and its analyses' scratch together (about a dozen big blocks), so a
+    /// loop of traces (tolerances, optimisation, the bench) faults each
+    /// in once.
+    pub(super) const KEPT: usize = 16;
 
     /// Freed mappings (address, size), reused by the next block of the
     /// same size. Locking never allocates.
