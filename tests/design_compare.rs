@@ -1,7 +1,7 @@
 //! Conic comparison: sags, departures and the exact wavefront checked
 //! against published closed forms and third-order theory.
 
-use catoptric::design::compare::{parse_conics, sphere_fastest_f_ratio_exact};
+use catoptric::design::compare::{parse_conics, sphere_fastest_f_ratio_exact, MAX_CONICS};
 use catoptric::design::{
     best_fit_sphere, collimated_wavefront, compare_conics, conic_tolerance_quarter_wave, sphere_fastest_f_ratio,
 };
@@ -136,6 +136,46 @@ fn best_fit_sphere_of_a_paraboloid() {
         let got = b.departure_mm(rho);
         assert!(rel(got, sign * 0.5 * want) < 5e-3, "departure at {rho} mm: {got} vs {}", sign * 0.5 * want);
     }
+    // The comparison table reports the same depth in micrometres, and the
+    // focal ratio N = f/D with the mirror's focal length f = R/2 (textbook
+    // definitions).
+    let c = compare_conics(r, d, &[-1.0], 550.0).expect("a valid comparison");
+    assert!(rel(c.conics[0].removal_depth_um, want * 1e3) < 2e-3, "{} µm", c.conics[0].removal_depth_um);
+    assert_eq!(c.focal_ratio, 5.0);
+}
+
+#[test]
+fn best_fit_sphere_of_an_oblate_ellipsoid() {
+    // The same third-order algebra for any conic (common practice): from
+    // the conic sag series z = ρ²/(2R) + (1 + K)·ρ⁴/(8R³) + …, its sag
+    // exceeds the vertex sphere's by K·ρ⁴/(8R³), so the best sphere
+    // leaves |K|·D⁴/(512 R³) to remove. For K > 0 the surface is deeper
+    // than its vertex sphere toward the edge: the best sphere is the
+    // stronger one, touching at the centre and the edge, and the glass to
+    // remove is deepest at the 70.7 % zone — the paraboloid's pattern
+    // turned over.
+    let (r, d, k) = (2000.0, 200.0, 0.5);
+    let b = best_fit_sphere(r, k, d);
+    let want = k * d.powi(4) / (512.0 * r.powi(3));
+    assert!(rel(b.removal_depth_mm, want) < 5e-3, "{} vs {want}", b.removal_depth_mm);
+    assert!(b.radius_mm < r, "best sphere R = {}", b.radius_mm);
+    assert!(b.removal_mm(0.0) < 5e-3 * want && b.removal_mm(100.0) < 5e-3 * want);
+    let zone = b.removal_mm(100.0 * 0.5f64.sqrt());
+    assert!(rel(zone, want) < 5e-3, "removal at the 70.7 % zone {zone} vs {want}");
+}
+
+#[test]
+fn conic_constants_and_lists_are_held_to_their_limits() {
+    // The command's own limits, each side of each bound (common practice):
+    // |K| ≤ 10⁶ and at most MAX_CONICS constants.
+    let err = compare_conics(100.0, 50.0, &[f64::NAN], 550.0).unwrap_err();
+    assert!(err.message.contains("between -1e6 and 1e6"), "{}", err.message);
+    assert_eq!(compare_conics(100.0, 50.0, &[-2e6], 550.0).unwrap_err().field, "conics[0]");
+    assert!(compare_conics(100.0, 50.0, &[-1e6], 550.0).is_ok());
+    let most = vec![-1.0; MAX_CONICS];
+    assert_eq!(compare_conics(1000.0, 100.0, &most, 550.0).expect("the most allowed").conics.len(), MAX_CONICS);
+    let over = vec![-1.0; MAX_CONICS + 1];
+    assert_eq!(compare_conics(1000.0, 100.0, &over, 550.0).unwrap_err().field, "conics");
 }
 
 #[test]
