@@ -447,10 +447,10 @@ impl ConeBest {
             top[l] = if (c > 0.0) & (s2 > top[l]) { s2 } else { top[l] };
             back[l] = if (c <= 0.0) & (-c > back[l]) { -c } else { back[l] };
         };
-        let ([gu, gv, gw], full) = groups([du, dv, dw]);
-        for ((u, v), w) in gu.iter().zip(gv).zip(gw) {
+        let ([gx, gy, gz], full) = groups([du, dv, dw]);
+        for ((x, y), z) in gx.iter().zip(gy).zip(gz) {
             for l in 0..LANES {
-                lane(l, Self::sin2_cos(m, u[l], v[l], w[l]));
+                lane(l, Self::sin2_cos(m, x[l], y[l], z[l]));
             }
         }
         for g in full..du.len() {

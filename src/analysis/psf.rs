@@ -577,6 +577,31 @@ mod tests {
     use super::*;
 
     #[test]
+    fn catmull_rom_weights_are_keys_cubic_convolution() {
+        // Keys, "Cubic convolution interpolation for digital image
+        // processing", IEEE Trans. ASSP 29, 1153 (1981), with a = −1/2
+        // (the Catmull–Rom spline): at the half-way point the weights are
+        // (−1, 9, 9, −1)/16; at a sample, that sample alone; and the
+        // interpolant reproduces any quadratic exactly.
+        assert_eq!(catmull_rom(0.5), [-1.0 / 16.0, 9.0 / 16.0, 9.0 / 16.0, -1.0 / 16.0]);
+        assert_eq!(catmull_rom(0.0), [0.0, 1.0, 0.0, 0.0]);
+        for t in [0.1, 0.25, 0.7, 0.9] {
+            let w = catmull_rom(t);
+            let f = |x: f64| 3.0 - 2.0 * x + 5.0 * x * x;
+            let got = w[0] * f(-1.0) + w[1] * f(0.0) + w[2] * f(1.0) + w[3] * f(2.0);
+            assert!((got - f(t)).abs() < 1e-12, "t = {t}: {got} vs {}", f(t));
+        }
+        // Bicubic: separable, so a quadratic in both directions is
+        // reproduced too, read at a point a pixel inside the edges.
+        let m = 6;
+        let g = |y: f64, x: f64| 1.0 + 0.5 * x - 0.25 * y + 0.125 * x * y + 0.0625 * x * x - 0.03125 * y * y;
+        let image: Vec<f64> = (0..m * m).map(|k| g((k / m) as f64, (k % m) as f64)).collect();
+        for (y, x) in [(1.0, 1.0), (2.3, 1.6), (3.75, 3.2)] {
+            assert!((bicubic(&image, m, y, x) - g(y, x)).abs() < 1e-12, "at ({y}, {x})");
+        }
+    }
+
+    #[test]
     fn linear_sampling_interpolates_and_ends_as_documented() {
         // Linear interpolation between neighbouring samples (common
         // practice); the first sample below the start, the last sample
