@@ -583,3 +583,44 @@ fn the_report_summarises_trials_numbered_from_zero() {
     let p50 = report.rms_radius_um.p50.unwrap();
     assert!((p50 - 0.5 * (rms[1] + rms[2])).abs() <= 1e-12 * p50, "{p50} vs {rms:?}");
 }
+
+/// A screen's record of `n` rays of source 0, each arriving at (u, 0) with
+/// slope s, from `ray(i) = (u, s)`.
+fn hits_of(n: usize, ray: impl Fn(usize) -> (f64, f64)) -> catoptric::trace::ScreenHits {
+    let mut h = catoptric::trace::ScreenHits::default();
+    for i in 0..n {
+        let (u, s) = ray(i);
+        let dw = 1.0 / (1.0 + s * s).sqrt();
+        for (col, x) in [(&mut h.u, u), (&mut h.v, 0.0), (&mut h.du, s * dw), (&mut h.dv, 0.0), (&mut h.dw, dw), (&mut h.opl, 100.0), (&mut h.weight, 1.0)] {
+            col.push(x);
+        }
+        h.source.push(0);
+        h.first.push(true);
+    }
+    h
+}
+
+#[test]
+fn pooled_refocus_averages_the_sources_slope_spread() {
+    // The least-squares focus of a ray bundle (common practice): the RMS
+    // radius at a shift s is a + 2bs + cs² over the rays, c the variance
+    // of their slopes. Pooling weights each source's fit by its rays and
+    // divides by their total, so one source pools to its own fit, and a
+    // beam parallel to rounding (slope spread under MIN_SLOPE_SPREAD)
+    // has no focus however many rays it has.
+    use catoptric::analysis::{focus_fit, MIN_SLOPE_SPREAD};
+    use catoptric::design::merit::{best_shift, Target};
+    let target = Target { screen: 0, element: 0, sources: vec![0] };
+    let result = |h| catoptric::trace::TraceResult { screens: vec![h], ..Default::default() };
+    // Converging to u = 0 at 40 mm beyond the screen.
+    let focused = hits_of(2000, |i| {
+        let u = (i as f64 - 1000.0) * 0.01;
+        (u, -u / 40.0)
+    });
+    let own = focus_fit(&focused, Some(0)).and_then(|f| f.best_shift()).expect("a focus");
+    assert!((own - 40.0).abs() < 1e-9, "own fit {own}");
+    assert_eq!(best_shift(&result(focused), &target), Some(own));
+    let spread = 0.5 * MIN_SLOPE_SPREAD;
+    let parallel = hits_of(10_000, |i| (i as f64 * 0.01, spread * if i % 2 == 0 { 1.0 } else { -1.0 }));
+    assert_eq!(best_shift(&result(parallel), &target), None);
+}
