@@ -142,12 +142,13 @@ fn perfect_paraboloid_has_strehl_one_airy_mtf_and_energy() {
     // Wolf, Principles of Optics, 7th ed.; value from memory).
     let airy_um = 1.22 * 633e-3 * r.f_number;
     let e = ee_at(&r, airy_um);
-    assert!((e - 0.838).abs() < 0.01, "EE at the Airy radius {e}");
-    // EE50 and EE80 radii within 2 % of the Airy pattern's.
+    assert!((e - 0.838).abs() < 0.004, "EE at the Airy radius {e}");
+    // EE50 and EE80 radii within 1.3 % of the Airy pattern's (some
+    // 2–4 pixels here: the image's sampling leaves 0.6 % and 1 %).
     let lam_n_um = 633e-3 * r.f_number;
     for (got, f) in [(r.ee_diffraction.ee50_um.unwrap(), 0.5), (r.ee_diffraction.ee80_um.unwrap(), 0.8)] {
         let want = airy_ee_x(f) / PI * lam_n_um;
-        assert!(rel(got, want) < 0.02, "EE{f}: {got} µm vs {want} µm");
+        assert!(rel(got, want) < 0.013, "EE{f}: {got} µm vs {want} µm");
     }
     // The wavefront is perfect, so every Zernike term is ~0.
     assert!(r.zernike.iter().all(|z| z.coefficient_waves.abs() < 1e-4), "{:?}", r.zernike);
