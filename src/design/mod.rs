@@ -213,3 +213,26 @@ pub(crate) fn fit_piston_focus(samples: impl Iterator<Item = (f64, f64, f64)>) -
     let q = if det.abs() > 1e-30 * sxx.max(1.0) { (sw * sxy - sx * sy) / det } else { 0.0 };
     (if sw > 0.0 { (sy - q * sx) / sw } else { 0.0 }, q)
 }
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn values_and_results_are_held_to_their_limits() {
+        // The design commands' own input rules, each side of each bound
+        // (common practice): a value is finite with |v| ≤ MAX_MM, and a
+        // result with any value not finite is refused, naming the field
+        // to change and the result.
+        assert_eq!(finite("x", MAX_MM).expect("the largest allowed"), MAX_MM);
+        assert_eq!(finite("x", -MAX_MM).expect("the most negative allowed"), -MAX_MM);
+        assert_eq!(finite("x", 2.0 * MAX_MM).unwrap_err().field, "x");
+        assert_eq!(finite("x", f64::NAN).unwrap_err().field, "x");
+        assert!(finite_result("d", "mirror", &[1.0, -2.0, 0.0]).is_ok());
+        for bad in [f64::NAN, f64::INFINITY, f64::NEG_INFINITY] {
+            let e = finite_result("d", "mirror", &[1.0, bad]).unwrap_err();
+            assert_eq!(e.field, "d");
+            assert!(e.message.contains("mirror"), "{}", e.message);
+        }
+    }
+}
