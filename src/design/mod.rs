@@ -219,6 +219,21 @@ mod tests {
     use super::*;
 
     #[test]
+    fn piston_and_focus_fit_is_weighted_least_squares() {
+        // Weighted least squares of a line by its normal equations (common
+        // practice): exact data y = 2 + 3x come back exactly, also with
+        // weights summing to 1 and x spread below 1; samples at one x only
+        // give the weighted mean and no slope; no weight at all gives
+        // (0, 0).
+        let (p, q) = fit_piston_focus([(0.2, 0.0, 2.0), (0.5, 0.5, 3.5), (0.3, 1.0, 5.0)].into_iter());
+        assert!((p - 2.0).abs() < 1e-12 && (q - 3.0).abs() < 1e-12, "p = {p}, q = {q}");
+        let (p, q) = fit_piston_focus([(1.0, 0.4, 1.0), (3.0, 0.4, 2.0)].into_iter());
+        assert_eq!(q, 0.0);
+        assert!((p - 1.75).abs() < 1e-15, "p = {p}");
+        assert_eq!(fit_piston_focus([(0.0, 1.0, 5.0)].into_iter()), (0.0, 0.0));
+    }
+
+    #[test]
     fn values_and_results_are_held_to_their_limits() {
         // The design commands' own input rules, each side of each bound
         // (common practice): a value is finite with |v| ≤ MAX_MM, and a
