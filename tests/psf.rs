@@ -149,6 +149,9 @@ fn perfect_paraboloid_has_strehl_one_airy_mtf_and_energy() {
     for (got, f) in [(r.ee_diffraction.ee50_um.unwrap(), 0.5), (r.ee_diffraction.ee80_um.unwrap(), 0.8)] {
         let want = airy_ee_x(f) / PI * lam_n_um;
         assert!(rel(got, want) < 0.013, "EE{f}: {got} µm vs {want} µm");
+        // The plotted curve passes through the same points (read where it
+        // is steep: at the dark ring above it is nearly flat).
+        assert!((ee_at(&r, got) - f).abs() < 0.01, "the curve at the EE{f} radius reads {}", ee_at(&r, got));
     }
     // The wavefront is perfect, so every Zernike term is ~0.
     assert!(r.zernike.iter().all(|z| z.coefficient_waves.abs() < 1e-4), "{:?}", r.zernike);
