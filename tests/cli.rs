@@ -284,3 +284,52 @@ fn a_screen_the_light_misses_is_refused() {
     let err = one_line_refusal(&["psf", &p], "--screen");
     assert!(err.contains("no rays"), "{err}");
 }
+
+// ---- bench: the JSON contract (DESIGN §9.1 keys), not its speed ----
+
+#[test]
+fn bench_json_has_the_contract_keys_and_rates_that_follow_from_them() {
+    // Keys and arithmetic only: every rate is a count over the time it
+    // reports (common practice for throughput figures); no time is judged.
+    let (code, out, err) = run(&["bench", "--rays", "2000", "--threads", "2", "--json"]);
+    assert_eq!(code, 0, "{err}");
+    let v: serde_json::Value = serde_json::from_str(&out).unwrap();
+    assert_eq!(v["threads"], 2);
+    assert!(v["machine"].is_object(), "machine");
+    // Both sides of the NumPy comparison are best of the same number of runs.
+    assert!(v["trace_runs"].as_u64().unwrap() >= v["runs"].as_u64().unwrap());
+    let scenes = v["scenes"].as_array().expect("scenes");
+    assert_eq!(scenes.len(), 3);
+    let num = |s: &serde_json::Value, k: &str| s[k].as_f64().unwrap_or_else(|| panic!("{k} missing or not a number"));
+    for s in scenes {
+        for k in ["name", "rays", "surface_hits", "seconds", "rays_per_s", "hits_per_s", "hits_per_s_per_thread", "wasm_ratio", "analysis_s_per_mray", "frame_ms_native", "frame_ms_wasm"] {
+            assert!(s.get(k).is_some(), "missing {k}");
+        }
+        let (rays, hits, secs) = (num(s, "rays"), num(s, "surface_hits"), num(s, "seconds"));
+        // The pupil lattices land near the count asked for.
+        assert!((rays - 2000.0).abs() <= 40.0 && hits > 0.0 && secs > 0.0, "{s}");
+        let close = |a: f64, b: f64| (a - b).abs() <= 1e-9 * b.abs();
+        assert!(close(num(s, "rays_per_s"), rays / secs), "{s}");
+        assert!(close(num(s, "hits_per_s"), hits / secs), "{s}");
+        assert!(close(num(s, "hits_per_s_per_thread"), hits / secs / 2.0), "{s}");
+        assert!(num(s, "hits_per_s_one_thread") > 0.0 && num(s, "end_to_end_s") > 0.0, "{s}");
+    }
+    // NumPy present: its figure is the script's time over our end to end of scene 1;
+    // absent: a note says why.
+    match v["numpy"].as_object() {
+        Some(n) => {
+            let (np, ours) = (n["seconds"].as_f64().unwrap(), n["catoptric_seconds"].as_f64().unwrap());
+            assert_eq!(ours, num(&scenes[0], "end_to_end_s"));
+            assert!((n["speedup"].as_f64().unwrap() - np / ours).abs() <= 1e-9 * np / ours);
+        }
+        None => assert!(v["numpy_note"].as_str().is_some_and(|s| !s.is_empty()), "{v}"),
+    }
+}
+
+#[test]
+fn bad_bench_requests_name_the_flag() {
+    let err = one_line_refusal(&["bench", "--rays", "0"], "--rays");
+    assert!(err.contains("between"), "{err}");
+    one_line_refusal(&["bench", "--threads", "0"], "--threads");
+    one_line_refusal(&["bench", "--threads", "9999"], "--threads");
+}

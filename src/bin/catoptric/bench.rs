@@ -2,12 +2,13 @@
 //! (`catoptric::bench_scenes`), native and, when Node and a built
 //! `www/pkg` are present, the wasm build side by side.
 //!
-//! Each scene is compiled once, then traced three times on one thread and
-//! three times on every core (or `--threads N`); the best time counts.
-//! Timing is wall-clock around `trace` alone; the end-to-end figure adds
-//! compiling, every analysis and the JSON report. When `python3` with
-//! NumPy is present, `pkg-config/bench-numpy.py` traces scene 1 the
-//! vectorised-array way in the same run, for comparison.
+//! Each scene is compiled once, then traced [`TRACE_RUNS`] times on one
+//! thread and as many on every core (or `--threads N`); the best time
+//! counts. Timing is wall-clock around `trace` alone; the end-to-end
+//! figure adds compiling, every analysis and the JSON report. When
+//! `python3` with NumPy is present, `pkg-config/bench-numpy.py` traces
+//! scene 1 the vectorised-array way in the same run (best of as many runs
+//! as end to end), for comparison.
 
 use crate::Failure;
 use catoptric::analysis::{analyse_all, trace_report};
@@ -21,12 +22,14 @@ use std::path::{Path, PathBuf};
 use std::process::{Command, Stdio};
 use std::time::{Duration, Instant};
 
-/// Timed runs per scene of each slower step (end to end, page frame,
-/// wasm, NumPy); the best counts.
+/// Timed runs per scene of each slower step (page frame, wasm); the best
+/// counts.
 const RUNS: usize = 3;
-/// Timed runs of the trace alone and of the analyses alone (tens of
-/// milliseconds each): more of them, so that the best is the machine's
-/// speed rather than a neighbour's load on a shared host.
+/// Timed runs of the trace alone, the analyses alone, end to end and the
+/// NumPy script end to end is compared with (tens of milliseconds each):
+/// more of them, so that the best is the machine's speed rather than a
+/// neighbour's load on a shared host. Both sides of the comparison get
+/// the same number.
 const TRACE_RUNS: usize = 10;
 /// Longest the wasm side may take before it is given up.
 const WASM_TIMEOUT: Duration = Duration::from_secs(600);
@@ -87,8 +90,8 @@ struct Report {
     threads: usize,
     /// Compiled kernel copy in use (avx512, avx2, portable).
     kernel: &'static str,
-    /// Best of how many runs: the trace alone and the analyses alone, and
-    /// every other step.
+    /// Best of how many runs: the trace alone, the analyses alone, end to
+    /// end and the NumPy script; and the page frame and wasm.
     trace_runs: usize,
     runs: usize,
     scenes: Vec<Row>,
@@ -140,7 +143,7 @@ fn time_scene(s: &BenchScene, rays: u64, threads: usize) -> Row {
         best_analysis = best_analysis.min(t1.elapsed().as_secs_f64());
     }
     let mut end_to_end = f64::INFINITY;
-    for _ in 0..RUNS {
+    for _ in 0..TRACE_RUNS {
         let t = Instant::now();
         let sc = Scene::compile(&s.layout);
         let opts = TraceOptions { rays: Some(rays as usize), threads: Some(threads), ..Default::default() };
@@ -241,7 +244,7 @@ fn run_numpy(rays: u64) -> Result<NumpyOut, String> {
     let script = find("pkg-config/bench-numpy.py").ok_or("pkg-config/bench-numpy.py not found")?;
     let out = Command::new("python3")
         .arg(&script)
-        .args(["--rays", &rays.to_string(), "--runs", &RUNS.to_string()])
+        .args(["--rays", &rays.to_string(), "--runs", &TRACE_RUNS.to_string()])
         .stdin(Stdio::null())
         .output()
         .map_err(|e| format!("python3 not available: {e}"))?;
@@ -265,7 +268,7 @@ fn table(r: &Report) -> String {
     let mut s = String::new();
     let m = &r.machine;
     let _ = writeln!(s, "machine: {} ({} logical cores, {} {}), kernel {}", m.cpu, m.cores, m.os, m.arch, r.kernel);
-    let _ = writeln!(s, "{} thread(s), trace and analyses best of {} runs (scene compiled beforehand), the rest best of {}",
+    let _ = writeln!(s, "{} thread(s), trace, analyses, end to end and NumPy best of {} runs (trace and analyses: scene compiled beforehand), frames and wasm best of {}",
         r.threads, r.trace_runs, r.runs
     );
     let _ = writeln!(
