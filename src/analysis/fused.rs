@@ -23,7 +23,9 @@
 use super::cone::{f_number_from_angle, ConeSums};
 use super::energy::EncircledEnergy;
 use super::focus::{FocusFit, FocusSums};
-use super::lanes::{groups, V4, LANES};
+use super::lanes::{groups, Quad, V4, LANES};
+#[cfg(target_arch = "x86_64")]
+use super::lanes::Y4;
 use super::select::Subset;
 use super::spot::SpotStats;
 use super::wavefront::{path_offset, path_origin, path_terms, Cols, Fit, PathMoments, ResidualSums, WavefrontStats};
@@ -145,12 +147,12 @@ struct Pass1 {
 }
 
 #[inline(always)]
-fn pass1_generic<const WF: bool>(c: Columns<'_>, first: [f64; 4], origin: [f64; 5]) -> Pass1 {
+fn pass1_generic<const WF: bool, Q: Quad>(c: Columns<'_>, first: [f64; 4], origin: [f64; 5]) -> Pass1 {
     let mut out = Pass1 { focus: [[0.0; LANES]; 12], path: [[0.0; LANES]; 13] };
     for r in blocks(c.w.len()) {
         focus_block(c.part(r.clone()), first, &mut out.focus);
         if WF {
-            path_block(c.part(r), &origin, &mut out.path);
+            path_block::<Q>(c.part(r), &origin, &mut out.path);
         }
     }
     out
@@ -182,40 +184,64 @@ fn focus_block(c: Columns<'_>, first: [f64; 4], out: &mut [Lanes; 12]) {
     *out = a;
 }
 
-/// The path moments over one block: groups of [`LANES`] hits as [`V4`]
-/// values, then the rest one by one into lanes 0, 1, …
+/// The path moments over one block: groups of [`LANES`] hits as four
+/// lanes, then the rest one by one into lanes 0, 1, …
 #[inline(always)]
-fn path_block(c: Columns<'_>, origin: &[f64; 5], out: &mut [Lanes; 13]) {
+fn path_block<Q: Quad>(c: Columns<'_>, origin: &[f64; 5], out: &mut [Lanes; 13]) {
     let Columns { hit: Cols { u, v, du, dv, dw, opl }, w } = c;
-    let mut b = out.map(V4);
+    // Loops, not `map` with a closure: a closure called from the library's
+    // `map` is compiled without the caller's instruction set.
+    let mut b = [Q::from(0.0); 13];
+    for (b, o) in b.iter_mut().zip(out.iter()) {
+        *b = Q::load(o);
+    }
     let ([gu, gv, gdu, gdv, gdw, gopl, gw], full) = groups([u, v, du, dv, dw, opl, w]);
     for q in 0..gu.len() {
-        // Spelled out: `[…].map(V4)` is left as a call in this loop.
-        let y = path_offset(origin, [V4(gu[q]), V4(gv[q]), V4(gdu[q]), V4(gdv[q]), V4(gdw[q]), V4(gopl[q])]);
-        for (s, t) in b.iter_mut().zip(path_terms(V4(gw[q]), y)) {
+        // Spelled out: `[…].map(…)` is left as a call in this loop.
+        let y = path_offset(origin, [Q::load(&gu[q]), Q::load(&gv[q]), Q::load(&gdu[q]), Q::load(&gdv[q]), Q::load(&gdw[q]), Q::load(&gopl[q])]);
+        for (s, t) in b.iter_mut().zip(path_terms(Q::load(&gw[q]), y)) {
             *s = *s + t;
         }
     }
+    for (o, b) in out.iter_mut().zip(b) {
+        *o = b.lanes();
+    }
     for g in full..u.len() {
         let y = path_offset(origin, [u[g], v[g], du[g], dv[g], dw[g], opl[g]]);
-        for (s, t) in b.iter_mut().zip(path_terms(w[g], y)) {
-            s.0[g - full] += t;
+        for (s, t) in out.iter_mut().zip(path_terms(w[g], y)) {
+            s[g - full] += t;
         }
     }
-    *out = b.map(|v| v.0);
 }
 
 #[inline(always)]
 fn pass1_path_body(c: Columns<'_>, first: [f64; 4], origin: [f64; 5]) -> Pass1 {
-    pass1_generic::<true>(c, first, origin)
+    pass1_generic::<true, V4>(c, first, origin)
 }
 
 #[inline(always)]
 fn pass1_plain_body(c: Columns<'_>, first: [f64; 4], origin: [f64; 5]) -> Pass1 {
-    pass1_generic::<false>(c, first, origin)
+    pass1_generic::<false, V4>(c, first, origin)
+}
+
+/// Pass 1 with AVX registers (see [`Y4`]).
+#[cfg(target_arch = "x86_64")]
+#[target_feature(enable = "avx2")]
+fn pass1_avx2(c: Columns<'_>, first: [f64; 4], origin: Option<[f64; 5]>) -> Pass1 {
+    match origin {
+        Some(origin) => pass1_generic::<true, Y4>(c, first, origin),
+        None => pass1_generic::<false, Y4>(c, first, [0.0; 5]),
+    }
 }
 
 fn pass1(kernel: Kernel, c: Columns<'_>, first: [f64; 4], origin: Option<[f64; 5]>) -> Pass1 {
+    #[cfg(target_arch = "x86_64")]
+    if kernel != Kernel::Portable {
+        // SAFETY: `Kernel::available` names AVX2 and AVX-512 only on CPUs
+        // with AVX2.
+        return unsafe { pass1_avx2(c, first, origin) };
+    }
+    // The portable copies (`kernel` is Portable here on x86-64).
     match origin {
         Some(origin) => best_simd!(kernel, pass1_path_body(c: Columns<'_>, first: [f64; 4], origin: [f64; 5]) -> Pass1),
         None => {
@@ -247,61 +273,75 @@ struct Pass2In<'f, 's, 'a> {
 }
 
 #[inline(always)]
-fn pass2_generic<const WF: bool>(c: Columns<'_>, radius: &mut [MaybeUninit<f64>], p: Pass2In) -> Pass2 {
+fn pass2_generic<const WF: bool, Q: Quad>(c: Columns<'_>, radius: &mut [MaybeUninit<f64>], p: Pass2In) -> Pass2 {
     let no_residual = [[0.0; LANES], [0.0; LANES], [f64::INFINITY; LANES], [f64::NEG_INFINITY; LANES]];
     let mut out = Pass2 { s2: [0.0; LANES], rmax2: [0.0; LANES], cone: ConeBest::new(), residual: no_residual };
     let f = p.fit.filter(|_| WF);
     for r in blocks(c.w.len()) {
         let b = c.part(r.clone());
-        spot_block(b, &mut radius[r.clone()], p.centroid, &mut out.s2, &mut out.rmax2);
-        out.cone.block(b, p.m, p.offset + r.start);
+        spot_block::<Q>(b, &mut radius[r.clone()], p.centroid, &mut out.s2, &mut out.rmax2);
+        out.cone.block::<Q>(b, p.m, p.offset + r.start);
         if let Some(f) = f {
-            residual_block(b, f, &mut out.residual);
+            residual_block::<Q>(b, f, &mut out.residual);
         }
     }
     out
 }
 
 /// The spot's sums and each hit's radius about `centroid`, over one block
-/// (groups of [`LANES`] hits as [`V4`] values, then the rest one by one).
+/// (groups of [`LANES`] hits as four lanes, then the rest one by one).
 #[inline(always)]
-fn spot_block(c: Columns<'_>, radius: &mut [MaybeUninit<f64>], centroid: [f64; 2], s2_out: &mut Lanes, rmax2_out: &mut Lanes) {
+fn spot_block<Q: Quad>(c: Columns<'_>, radius: &mut [MaybeUninit<f64>], centroid: [f64; 2], s2_out: &mut Lanes, rmax2_out: &mut Lanes) {
     let Columns { hit: Cols { u, v, .. }, w } = c;
-    let (cu, cv) = (V4::from(centroid[0]), V4::from(centroid[1]));
+    let (cu, cv) = (Q::from(centroid[0]), Q::from(centroid[1]));
     // Running sums in locals, so they stay in registers.
-    let (mut s2, mut rmax2) = (V4(*s2_out), V4(*rmax2_out));
+    let (mut s2, mut rmax2) = (Q::load(s2_out), Q::load(rmax2_out));
     let ([gu, gv, gw], full) = groups([u, v, w]);
     let (gr, rest) = radius.as_chunks_mut::<LANES>();
     for (((r, u), v), w) in gr.iter_mut().zip(gu).zip(gv).zip(gw) {
-        let (x, y) = (V4(*u) - cu, V4(*v) - cv);
+        let (x, y) = (Q::load(u) - cu, Q::load(v) - cv);
         let r2 = x * x + y * y;
-        s2 = s2 + V4(*w) * r2;
+        s2 = s2 + Q::load(w) * r2;
         // As f64::max for numbers (a NaN radius is passed over).
         rmax2 = rmax2.greatest(r2);
-        *r = r2.sqrt().0.map(MaybeUninit::new);
+        *r = r2.sqrt().lanes().map(MaybeUninit::new);
     }
-    let [cu, cv] = centroid;
+    let ([cu, cv], mut s2, mut rmax2) = (centroid, s2.lanes(), rmax2.lanes());
     for (l, r) in rest.iter_mut().enumerate() {
         let g = full + l;
         let r2 = (u[g] - cu) * (u[g] - cu) + (v[g] - cv) * (v[g] - cv);
-        s2.0[l] += w[g] * r2;
-        rmax2.0[l] = if r2 > rmax2.0[l] { r2 } else { rmax2.0[l] };
+        s2[l] += w[g] * r2;
+        rmax2[l] = if r2 > rmax2[l] { r2 } else { rmax2[l] };
         *r = MaybeUninit::new(r2.sqrt());
     }
-    (*s2_out, *rmax2_out) = (s2.0, rmax2.0);
+    (*s2_out, *rmax2_out) = (s2, rmax2);
 }
 
 #[inline(always)]
 fn pass2_fit_body(c: Columns<'_>, radius: &mut [MaybeUninit<f64>], p: Pass2In) -> Pass2 {
-    pass2_generic::<true>(c, radius, p)
+    pass2_generic::<true, V4>(c, radius, p)
 }
 
 #[inline(always)]
 fn pass2_plain_body(c: Columns<'_>, radius: &mut [MaybeUninit<f64>], p: Pass2In) -> Pass2 {
-    pass2_generic::<false>(c, radius, p)
+    pass2_generic::<false, V4>(c, radius, p)
+}
+
+/// Pass 2 with AVX registers (see [`Y4`]).
+#[cfg(target_arch = "x86_64")]
+#[target_feature(enable = "avx2")]
+fn pass2_avx2(c: Columns<'_>, radius: &mut [MaybeUninit<f64>], p: Pass2In) -> Pass2 {
+    if p.fit.is_some() { pass2_generic::<true, Y4>(c, radius, p) } else { pass2_generic::<false, Y4>(c, radius, p) }
 }
 
 fn pass2(kernel: Kernel, c: Columns<'_>, radius: &mut [MaybeUninit<f64>], p: Pass2In) -> Pass2 {
+    #[cfg(target_arch = "x86_64")]
+    if kernel != Kernel::Portable {
+        // SAFETY: `Kernel::available` names AVX2 and AVX-512 only on CPUs
+        // with AVX2.
+        return unsafe { pass2_avx2(c, radius, p) };
+    }
+    // The portable copies (`kernel` is Portable here on x86-64).
     if p.fit.is_some() {
         best_simd!(kernel, pass2_fit_body(c: Columns<'_>, radius: &mut [MaybeUninit<f64>], p: Pass2In) -> Pass2)
     } else {
@@ -310,29 +350,30 @@ fn pass2(kernel: Kernel, c: Columns<'_>, radius: &mut [MaybeUninit<f64>], p: Pas
 }
 
 /// Sums, least and largest of the wavefront residuals over one block
-/// (groups of [`LANES`] hits as [`V4`] values, then the rest one by one
-/// into lanes 0, 1, …).
+/// (groups of [`LANES`] hits as four lanes, then the rest one by one into
+/// lanes 0, 1, …).
 #[inline(always)]
-fn residual_block(c: Columns<'_>, f: &Fit, out: &mut [Lanes; 4]) {
+fn residual_block<Q: Quad>(c: Columns<'_>, f: &Fit, out: &mut [Lanes; 4]) {
     let Columns { hit: Cols { u, v, du, dv, dw, opl }, w } = c;
-    let [mut sum, mut sq, mut lo, mut hi] = out.map(V4);
+    let [mut sum, mut sq, mut lo, mut hi] = [Q::load(&out[0]), Q::load(&out[1]), Q::load(&out[2]), Q::load(&out[3])];
     let ([gu, gv, gdu, gdv, gdw, gopl, gw], full) = groups([u, v, du, dv, dw, opl, w]);
     for q in 0..gu.len() {
-        let r = f.residual_of(f.sample_of(V4(gu[q]), V4(gv[q]), V4(gdu[q]), V4(gdv[q]), V4(gdw[q]), V4(gopl[q])));
-        let wk = V4(gw[q]);
+        let r = f.residual_of(f.sample_of(Q::load(&gu[q]), Q::load(&gv[q]), Q::load(&gdu[q]), Q::load(&gdv[q]), Q::load(&gdw[q]), Q::load(&gopl[q])));
+        let wk = Q::load(&gw[q]);
         sum = sum + wk * r;
         sq = sq + wk * r * r;
         lo = lo.least(r);
         hi = hi.greatest(r);
     }
+    let [mut sum, mut sq, mut lo, mut hi] = [sum.lanes(), sq.lanes(), lo.lanes(), hi.lanes()];
     for g in full..u.len() {
         let (r, l) = (f.residual_of(f.sample_of(u[g], v[g], du[g], dv[g], dw[g], opl[g])), g - full);
-        sum.0[l] += w[g] * r;
-        sq.0[l] += w[g] * r * r;
-        lo.0[l] = if r < lo.0[l] { r } else { lo.0[l] };
-        hi.0[l] = if r > hi.0[l] { r } else { hi.0[l] };
+        sum[l] += w[g] * r;
+        sq[l] += w[g] * r * r;
+        lo[l] = if r < lo[l] { r } else { lo[l] };
+        hi[l] = if r > hi[l] { r } else { hi[l] };
     }
-    *out = [sum.0, sq.0, lo.0, hi.0];
+    *out = [sum, sq, lo, hi];
 }
 
 /// The figures, with the passes' kernels of `kernel`'s instruction set.
@@ -440,19 +481,26 @@ impl ConeBest {
     /// that beats the best so far is scanned again for the earliest hit
     /// reaching it (rarely, once the best has settled).
     #[inline(always)]
-    fn block(&mut self, c: Columns<'_>, m: Vec3, offset: usize) {
+    fn block<Q: Quad>(&mut self, c: Columns<'_>, m: Vec3, offset: usize) {
         let Cols { du, dv, dw, .. } = c.hit;
-        let (mut top, mut back) = ([self.best; LANES], self.back);
+        let (mx, my, mz) = (Q::from(m.x), Q::from(m.y), Q::from(m.z));
+        // A lane a hit does not count in gets −∞, which beats nothing.
+        let none = Q::from(f64::NEG_INFINITY);
+        let (mut top, mut back) = (Q::from(self.best), Q::load(&self.back));
+        let ([gx, gy, gz], full) = groups([du, dv, dw]);
+        for ((x, y), z) in gx.iter().zip(gy).zip(gz) {
+            // `sin2_cos` of four hits: the same operations in the same order.
+            let (du, dv, dw) = (Q::load(x), Q::load(y), Q::load(z));
+            let (cx, cy, cz) = (dv * mz - dw * my, dw * mx - du * mz, du * my - dv * mx);
+            let (s2, cos) = (cx * cx + cy * cy + cz * cz, du * mx + dv * my + dw * mz);
+            top = top.greatest(cos.where_positive(s2, none));
+            back = back.greatest(cos.where_not_positive(cos.neg(), none));
+        }
+        let (mut top, mut back) = (top.lanes(), back.lanes());
         let mut lane = |l: usize, (s2, c): (f64, f64)| {
             top[l] = if (c > 0.0) & (s2 > top[l]) { s2 } else { top[l] };
             back[l] = if (c <= 0.0) & (-c > back[l]) { -c } else { back[l] };
         };
-        let ([gx, gy, gz], full) = groups([du, dv, dw]);
-        for ((x, y), z) in gx.iter().zip(gy).zip(gz) {
-            for l in 0..LANES {
-                lane(l, Self::sin2_cos(m, x[l], y[l], z[l]));
-            }
-        }
         for g in full..du.len() {
             lane(g - full, Self::sin2_cos(m, du[g], dv[g], dw[g]));
         }
