@@ -173,6 +173,28 @@ unsafe impl GlobalAlloc for HugePages {
     }
 }
 
+/// Tells the C allocator (glibc) to keep the memory freed at the top of
+/// its heaps rather than give it back to the system above 128 KiB: the
+/// analyses of each re-trace allocate and free some megabytes of per-chunk
+/// histograms and maps (each below [`linux::BIG`]), and given back they
+/// are faulted in and zeroed again page by page, some 570 page faults per
+/// report of a million hits. Blocks from [`linux::BIG`] up are this
+/// module's own; those between the C allocator's default mapping threshold
+/// and [`linux::BIG`] come from its heap too. Call once, first thing.
+pub fn keep_c_heap() {
+    #[cfg(all(target_os = "linux", target_env = "gnu"))]
+    // SAFETY: `mallopt` only sets the allocator's parameters; called
+    // before any other thread exists.
+    unsafe {
+        libc::mallopt(libc::M_TRIM_THRESHOLD, KEEP_FREED as libc::c_int);
+        libc::mallopt(libc::M_MMAP_THRESHOLD, linux::BIG as libc::c_int);
+    }
+}
+
+/// Freed C-heap memory kept at the top of a heap before some is given back.
+#[cfg(all(target_os = "linux", target_env = "gnu"))]
+const KEEP_FREED: usize = 256 << 20;
+
 /// A new block of `nl`, the old one's bytes copied over, the old one freed.
 #[cfg(target_os = "linux")]
 unsafe fn copy_realloc(a: &HugePages, p: *mut u8, l: Layout, nl: Layout) -> *mut u8 {

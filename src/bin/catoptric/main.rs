@@ -115,6 +115,7 @@ impl Failure {
 }
 
 fn main() -> ExitCode {
+    huge_pages::keep_c_heap();
     let cli = match Cli::try_parse() {
         Ok(cli) => cli,
         Err(e) if matches!(e.kind(), clap::error::ErrorKind::DisplayHelp | clap::error::ErrorKind::DisplayVersion) => e.exit(),
