@@ -104,3 +104,53 @@ fn openings_sit_on_each_zone_either_side_of_the_centre() {
         assert!((x - (12.0 + 10.0 * t as f64)).abs() < 1e-9, "tick {t} at {x}");
     }
 }
+
+#[test]
+fn the_page_holds_the_mirror_its_labels_and_the_scale_bar() {
+    // The template's own layout (our choices, pinned here): 12 mm margins
+    // about the mirror and a 30 mm strip below it for the scale bar and
+    // notes; the rim drawn heavier than the zone edges; the labels' size
+    // D/40 and the centre mark's arms D/20, each kept within print-readable
+    // limits (2.5–6 mm and 3–10 mm); end ticks of the bar longer than the
+    // rest. Every drawn coordinate lies on the page.
+    for (d, font, arm) in [(100.0, 2.5, 5.0), (200.0, 5.0, 10.0), (300.0, 6.0, 10.0)] {
+        let svg = zonal_mask_svg(d, 4).unwrap();
+        let size = |k: &str| attrs(&svg, "svg", k)[0].trim_end_matches("mm").parse::<f64>().unwrap();
+        let (w, h) = (size("width"), size("height"));
+        assert_eq!((w, h), (d + 24.0, d + 54.0), "D = {d}");
+        let (cx, cy, a) = (12.0 + 0.5 * d, 12.0 + 0.5 * d, 0.5 * d);
+        // The rim is the last edge, and the heaviest.
+        let widths: Vec<f64> = nums(&svg, "circle", "zone-edge", "stroke-width");
+        assert_eq!(widths, [0.3, 0.3, 0.3, 0.5], "D = {d}");
+        let groups: Vec<f64> = attrs(&svg, "g", "font-size").iter().map(|v| v.parse().unwrap()).collect();
+        assert_eq!(groups, [font], "D = {d}");
+        let mark = &attrs(&svg[svg.find("<path class=\"centre-mark\"").unwrap()..], "path", "d")[0];
+        let v: Vec<f64> = mark.split_whitespace().filter_map(|t| t.parse().ok()).collect();
+        assert_eq!(v, [cx - arm, cy, cx + arm, cx, cy - arm, cy + arm], "D = {d}: {mark}");
+        // The bar: below the rim, on the page; ticks 4 mm at its ends, 2 mm between.
+        let bar = svg.split("class=\"scale-bar\"").nth(1).unwrap();
+        let paths = attrs(bar, "path", "d");
+        let line: Vec<f64> = paths[0].split_whitespace().filter_map(|t| t.parse().ok()).collect();
+        let by = line[1];
+        assert!(by > cy + a && by < h, "D = {d}: bar at y = {by}, rim to {}, page {h}", cy + a);
+        assert_eq!(by, d + 32.0, "D = {d}: the bar 8 mm into the strip below the mirror");
+        let lens: Vec<f64> = paths[1..]
+            .iter()
+            .map(|p| {
+                let t: Vec<f64> = p.split_whitespace().filter_map(|t| t.parse().ok()).collect();
+                t[1] - t[2]
+            })
+            .collect();
+        let n = lens.len();
+        for (k, len) in lens.iter().enumerate() {
+            let want = if k == 0 || k + 1 == n { 4.0 } else { 2.0 };
+            assert!((len - want).abs() < 1e-9, "D = {d}: tick {k} is {len} mm");
+        }
+        // Every x and y of the drawing on the page.
+        for (tag, kx, ky) in [("text", "x", "y"), ("rect", "x", "y"), ("circle", "cx", "cy")] {
+            let xs: Vec<f64> = attrs(&svg, tag, kx).iter().map(|v| v.parse().unwrap()).collect();
+            let ys: Vec<f64> = attrs(&svg, tag, ky).iter().map(|v| v.parse().unwrap()).collect();
+            assert!(xs.iter().all(|&x| (0.0..=w).contains(&x)) && ys.iter().all(|&y| (0.0..=h).contains(&y)), "D = {d}: {tag} off the page");
+        }
+    }
+}

@@ -93,7 +93,7 @@ pub fn zonal_mask_svg(diameter: f64, zones: usize) -> Result<String, InputError>
     }
     let _ = writeln!(s, "</g>");
     // Scale bar with 10 mm ticks.
-    let bar = scale_bar(d.min(w - 2.0 * MARGIN_MM));
+    let bar = scale_bar(d);
     let (bx, by) = (MARGIN_MM, d + 2.0 * MARGIN_MM + 8.0);
     let _ = writeln!(s, r##"<g class="scale-bar" stroke="#000" stroke-width="0.4">"##);
     let _ = writeln!(s, r##"<path d="M {bx:.3} {by:.3} H {:.3}"/>"##, bx + bar);
