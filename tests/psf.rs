@@ -475,6 +475,24 @@ fn bad_requests_are_input_errors_naming_the_field() {
     assert_eq!(psf(&scene, &res, &base).unwrap_err().field, "screen");
 }
 
+#[test]
+fn the_fewest_hits_a_psf_takes_is_the_stated_limit() {
+    // Our limit (catoptric::analysis::MIN_PSF_HITS = 50): one hit fewer
+    // is refused naming the source and the count; exactly the limit is
+    // not refused for its count. Random rays, every one reaching the screen.
+    for rays in [49u64, 50] {
+        let text = layout(
+            &[mirror_with_hole(1600.0, -1.0, 100.0, 0.0), screen("s", 0.0, 200.0, 10.0, "square", false)],
+            &[beam("star", 0.0, 500.0, 99.0, rays, "random", 0.0)],
+        );
+        let (scene, res) = run(&text);
+        assert_eq!(res.screens[0].len() as u64, rays, "every ray reaches the screen");
+        let got = psf(&scene, &res, &PsfOptions { screen: 0, source: 0, at: PsfFocus::Screen, grid: 64 });
+        let refused_for_count = got.as_ref().err().is_some_and(|e| e.field == "source" && e.message.contains("at least 50"));
+        assert_eq!(refused_for_count, rays < 50, "{rays} rays: {:?}", got.err());
+    }
+}
+
 // ---- other pupils and sources ----
 
 #[test]
