@@ -129,6 +129,13 @@ fn perfect_paraboloid_has_strehl_one_airy_mtf_and_energy() {
     let n = paraboloid_n(800.0, 50.0);
     assert!(rel(r.f_number, n) < 3e-3, "{} vs {n}", r.f_number);
     assert!(rel(r.mtf.cutoff_cyc_mm, 1.0 / (lambda_mm * n)) < 3e-3, "{}", r.mtf.cutoff_cyc_mm);
+    // The curves run evenly from 0 to the cutoff (our sampling).
+    let fs = &r.mtf.frequency_cyc_mm;
+    let step = r.mtf.cutoff_cyc_mm / (fs.len() - 1) as f64;
+    assert!(fs.len() > 50, "{} frequencies", fs.len());
+    for (k, &f) in fs.iter().enumerate() {
+        assert!((f - step * k as f64).abs() <= 1e-9 * r.mtf.cutoff_cyc_mm, "frequency {k}: {f}");
+    }
     // MTF of a circular aperture, (2/π)(acos ν − ν√(1 − ν²)) (Goodman,
     // Introduction to Fourier Optics, 3rd ed.; formula from memory), both axes.
     for (k, &f) in r.mtf.frequency_cyc_mm.iter().enumerate() {
