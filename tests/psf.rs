@@ -124,6 +124,9 @@ fn perfect_paraboloid_has_strehl_one_airy_mtf_and_energy() {
     assert_eq!(r.psf.peak_relative, r.strehl);
     assert_eq!(r.obscuration, 0.0);
     assert_eq!(r.zernike_pupil, "disk");
+    // A full, well-sampled, unaberrated pupil: nothing to note.
+    assert!(r.notes.is_empty(), "{:?}", r.notes);
+    assert_eq!(r.wavelength_nm, 633.0);
     // Cutoff 1/(λN) (Goodman, Introduction to Fourier Optics, 3rd ed.) with N from the parabola's geometry; the sampled rim falls
     // a little short of 50 mm.
     let n = paraboloid_n(800.0, 50.0);
@@ -260,6 +263,7 @@ fn obstructed_pupil_mtf_is_the_annulus_autocorrelation_and_energy_moves_out() {
     let r = image(&paraboloid_f8(40.0, 550.0), PsfFocus::Best, 256);
     assert!((r.obscuration - eps_geom).abs() < 0.01, "{}", r.obscuration);
     assert_eq!(r.zernike_pupil, "annulus");
+    assert!(r.notes.iter().any(|n| n.contains("annular pupil")), "{:?}", r.notes);
     assert!(r.strehl >= 0.99, "{}", r.strehl);
     // The OTF of an aberration-free pupil is its normalised
     // autocorrelation (Goodman, Introduction to Fourier Optics, 3rd ed.): for an annulus, the overlap of two shifted annuli,
@@ -497,6 +501,17 @@ fn the_fewest_hits_a_psf_takes_is_the_stated_limit() {
         let got = psf(&scene, &res, &PsfOptions { screen: 0, source: 0, at: PsfFocus::Screen, grid: 64 });
         let refused_for_count = got.as_ref().err().is_some_and(|e| e.field == "source" && e.message.contains("at least 50"));
         assert_eq!(refused_for_count, rays < 50, "{rays} rays: {:?}", got.err());
+    }
+    // Below 500 hits (FEW_PSF_HITS) the report notes the coarse sampling.
+    for rays in [499u64, 500] {
+        let text = layout(
+            &[mirror_with_hole(1600.0, -1.0, 100.0, 0.0), screen("s", 0.0, 200.0, 10.0, "square", false)],
+            &[beam("star", 0.0, 500.0, 99.0, rays, "random", 0.0)],
+        );
+        let (scene, res) = run(&text);
+        let r = psf(&scene, &res, &PsfOptions { screen: 0, source: 0, at: PsfFocus::Screen, grid: 64 }).unwrap_or_else(|e| panic!("{e}")).report;
+        let noted = r.notes.iter().any(|n| n.contains(&format!("only {rays} hits")));
+        assert_eq!(noted, rays < 500, "{rays} rays: {:?}", r.notes);
     }
 }
 
