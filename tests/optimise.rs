@@ -220,3 +220,48 @@ fn bad_paths_fields_and_screens_exit_2_named() {
     let (code, out, err) = run(&["optimise", &dish, "--vary", "receiver.center[1]", "--goal", "wavefront"]);
     assert!(code == 2 && out.is_empty() && err.contains("--goal"), "{err}");
 }
+
+#[test]
+fn goal_names_read_back_and_nothing_else_is_a_goal() {
+    // The command's contract (docs/FORMATS.md, `--goal rms|wavefront|intercept`;
+    // our choice of names).
+    for (name, goal) in [("rms", Goal::Rms), ("wavefront", Goal::Wavefront), ("intercept", Goal::Intercept)] {
+        assert_eq!(Goal::parse(name), Ok(goal));
+        assert_eq!(goal.name(), name);
+    }
+    for bad in ["", "RMS", "strehl", "intercepts"] {
+        let e = Goal::parse(bad).unwrap_err();
+        assert_eq!(e.field, "goal");
+        assert!(e.message.contains("rms, wavefront, intercept"), "{e}");
+    }
+}
+
+#[test]
+fn wavefront_goal_pools_the_sources_by_their_hits() {
+    // The pooled RMS of several sources' wavefronts is the root of the
+    // hit-weighted mean of their mean squares, √(Σ nᵢ σᵢ² / Σ nᵢ)
+    // (pooling of root-mean-square values, common practice), each σᵢ
+    // the source's own RMS wavefront at its best focus. Worked here from
+    // the report's per-source figures of a Cassegrain with an on-axis
+    // and a field beam (coma off axis, so the two differ).
+    use catoptric::analysis::trace_report;
+    use catoptric::design::merit::Target;
+    use catoptric::design::optimise::goal_value;
+    let l = two_mirror(TwoMirrorKind::Cassegrain, 200.0, 600.0, 2400.0, 150.0, 0.3);
+    assert_eq!(l.sources.len(), 2);
+    let scene = Scene::compile(&l);
+    let res = trace(&scene, TraceOptions { rays: Some(RAYS), ..Default::default() });
+    let report = trace_report(&scene, &res);
+    let by = &report.screens[0].by_source;
+    let sigma: Vec<f64> = by.iter().map(|s| s.wavefront_rms_waves.unwrap()).collect();
+    assert!(sigma[1] > 1.5 * sigma[0], "the field beam should be worse: {sigma:?}");
+    let ns: f64 = by.iter().map(|s| s.hits as f64).sum();
+    let pooled = (by.iter().zip(&sigma).map(|(s, w)| s.hits as f64 * w * w).sum::<f64>() / ns).sqrt();
+    let all = Target::new(&l, None, None).unwrap();
+    let got = goal_value(&l, &all, Goal::Wavefront, Some(RAYS), None).unwrap();
+    assert!(common::rel(got, pooled) < 1e-9, "pooled {got} vs {pooled}");
+    // One source alone is its own figure.
+    let one = Target::new(&l, None, Some(&by[1].source)).unwrap();
+    let got = goal_value(&l, &one, Goal::Wavefront, Some(RAYS), None).unwrap();
+    assert!(common::rel(got, sigma[1]) < 1e-9, "field beam {got} vs {}", sigma[1]);
+}
