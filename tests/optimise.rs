@@ -264,4 +264,7 @@ fn wavefront_goal_pools_the_sources_by_their_hits() {
     let one = Target::new(&l, None, Some(&by[1].source)).unwrap();
     let got = goal_value(&l, &one, Goal::Wavefront, Some(RAYS), None).unwrap();
     assert!(common::rel(got, sigma[1]) < 1e-9, "field beam {got} vs {}", sigma[1]);
+    // No source: nothing to pool, no value (rather than 0/0).
+    let none = Target { sources: Vec::new(), ..all };
+    assert_eq!(goal_value(&l, &none, Goal::Wavefront, Some(RAYS), None), None);
 }
