@@ -285,7 +285,7 @@ fn a_screen_the_light_misses_is_refused() {
     assert!(err.contains("no rays"), "{err}");
 }
 
-// ---- bench: the JSON contract (DESIGN §9.1 keys), not its speed ----
+// ---- bench: the JSON contract (the keys docs/FORMATS.md lists), not its speed ----
 
 #[test]
 fn bench_json_has_the_contract_keys_and_rates_that_follow_from_them() {
