@@ -19,7 +19,7 @@
 // NaN exactly as the reference tracer's early `continue`s do.
 #![allow(clippy::neg_cmp_op_on_partial_ord)]
 
-use super::compiled::{Compiled, ConicRec, Kind, Rec};
+use super::compiled::{Compiled, ConicRec, Kind, PlaneFrame, Rec};
 use super::slope::SlopeError;
 use super::source::Emitter;
 use super::tracer::ScreenHits;
@@ -271,9 +271,9 @@ kernels! {
     /// Bounding-sphere cull of every ray against one element.
     fn cull_pass => cull_body(r: &Rec, k: u32, eps: f64, b: &mut Batch, n: usize) -> usize;
     /// Nearest hits on a conic mirror.
-    fn conic => conic_body(r: &Rec, cr: &ConicRec, k: u32, eps: f64, b: &mut Batch, n: usize) -> usize;
+    fn conic => conic_body(r: &Rec, cr: &ConicRec, k: u32, eps: f64, kept: usize, b: &mut Batch, n: usize) -> usize;
     /// Nearest hits on a screen.
-    fn screen => screen_body(r: &Rec, half: f64, circle: bool, k: u32, eps: f64, b: &mut Batch, n: usize) -> usize;
+    fn screen => screen_body(r: &Rec, half: f64, circle: bool, k: u32, eps: f64, kept: usize, b: &mut Batch, n: usize) -> usize;
     /// Reflection off a conic mirror.
     fn reflect_conic => reflect_conic_body(rec: &Rec, cr: &ConicRec, k: u32, max_bounces: u32, eps: f64, predict: bool, b: &mut Batch, n: usize) -> ();
     /// Crossing a screen.
@@ -418,8 +418,8 @@ fn run_batch_body(
                 continue; // the whole batch passes this element by
             }
             let hits = match rec.kind {
-                Kind::Conic(ref cr) => conic(kernel, rec, cr, k as u32, eps, b, n),
-                Kind::Screen { half, circle, .. } => screen(kernel, rec, half, circle, k as u32, eps, b, n),
+                Kind::Conic(ref cr) => conic(kernel, rec, cr, k as u32, eps, kept, b, n),
+                Kind::Screen { half, circle, .. } => screen(kernel, rec, half, circle, k as u32, eps, kept, b, n),
                 Kind::General => 0,
             };
             b.touched[k] = hits > 0;
@@ -483,11 +483,101 @@ fn cull_rays<const SLAB: bool>(r: &Rec, k: u32, eps: f64, b: &mut Batch, n: usiz
 }
 
 
+/// The two roots of a conic along a ray, solved from the cull's entry
+/// point `t0` (NaN for both when there is no real root).
 #[inline(always)]
-fn conic_body(r: &Rec, cr: &ConicRec, k: u32, eps: f64, b: &mut Batch, n: usize) -> usize {
-    let f = r.frame;
+fn conic_roots(f: PlaneFrame, cr: &ConicRec, o: (f64, f64, f64), d: (f64, f64, f64), t0: f64) -> (f64, f64) {
     let (c, kap) = (cr.c, cr.kappa);
     let xs = if cr.extruded { 0.0 } else { 1.0 };
+    let ((lx, ly, lz), (ldx, ldy, ldz)) = f.ray_to_local(o, d, t0);
+    // c(x² + y²) − 2z + (1+K)c z² = 0 along the ray (x dropped for a trough).
+    let (qx, qdx) = (lx * xs, ldx * xs);
+    let qa = c * (qdx * qdx + ldy * ldy) + kap * ldz * ldz;
+    let qb = c * (qx * qdx + ly * ldy) - ldz + kap * lz * ldz;
+    let qc = c * (qx * qx + ly * ly) - 2.0 * lz + kap * lz * lz;
+    let disc = qb * qb - qa * qc;
+    let q = -(qb + disc.sqrt().copysign(qb));
+    // No real root: both NaN, so neither passes the tests below.
+    let real = (0.0..f64::INFINITY).contains(&disc);
+    (pick(real, q / qa, f64::NAN), pick(real, qc / q, f64::NAN))
+}
+
+/// The nearest of a ray's two roots that lies on the mirror, nearer than
+/// `t_best`: (hit, t from `t0`, the local hit point).
+#[inline(always)]
+#[allow(clippy::too_many_arguments)]
+fn conic_nearest(
+    f: PlaneFrame,
+    cr: &ConicRec,
+    eps: f64,
+    o: (f64, f64, f64),
+    d: (f64, f64, f64),
+    t0: f64,
+    t_best: f64,
+    (r1, r2): (f64, f64),
+) -> (bool, f64, (f64, f64, f64)) {
+    let kap = cr.kappa;
+    let ((lx, ly, lz), (ldx, ldy, ldz)) = f.ray_to_local(o, d, t0);
+    let (t_min, t_max) = (eps - t0, t_best - t0);
+    // The sag branch through the vertex has (1+K)c·z < 1.
+    let v1 = (r1 > t_min) & (r1 < t_max) & (kap * (lz + r1 * ldz) < 1.0) & cr.clear.contains(lx + r1 * ldx, ly + r1 * ldy);
+    let v2 = (r2 > t_min) & (r2 < t_max) & (kap * (lz + r2 * ldz) < 1.0) & cr.clear.contains(lx + r2 * ldx, ly + r2 * ldy);
+    let a1 = if v1 { r1 } else { f64::INFINITY };
+    let a2 = if v2 { r2 } else { f64::INFINITY };
+    let t = if a2 < a1 { a2 } else { a1 };
+    (v1 | v2, t, (lx + ldx * t, ly + ldy * t, lz + ldz * t))
+}
+
+/// Batches where the cull kept fewer than one ray in this many (a beam's
+/// centre crossing a small screen on its way in, the odd ray still
+/// heading for a mirror the rest have left) solve only the kept rays,
+/// one by one, with the same arithmetic.
+const SPARSE: usize = 8;
+
+/// The sparse path: `lane(ray origin, direction, t0, t_best)` of each
+/// kept lane alone, in order, giving (hit, t from the ray's origin, local
+/// hit point); the other lanes' nearest hits carry over. Returns the hits.
+#[inline(always)]
+fn sparse(
+    b: &mut Batch,
+    n: usize,
+    k: u32,
+    lane: impl Fn((f64, f64, f64), (f64, f64, f64), f64, f64) -> (bool, f64, (f64, f64, f64)),
+) -> usize {
+    let mut j = 0;
+    for i in 0..n {
+        b.sel[j] = i as u32;
+        j += (b.keep[i] != 0) as usize;
+    }
+    b.alt_t[..n].copy_from_slice(&b.t[..n]);
+    b.alt_best[..n].copy_from_slice(&b.best[..n]);
+    b.alt_hx[..n].copy_from_slice(&b.hx[..n]);
+    b.alt_hy[..n].copy_from_slice(&b.hy[..n]);
+    b.alt_hz[..n].copy_from_slice(&b.hz[..n]);
+    let mut hits = 0;
+    for q in 0..j {
+        let i = b.sel[q] as usize;
+        let (hit, t, (x, y, z)) = lane((b.ox[i], b.oy[i], b.oz[i]), (b.dx[i], b.dy[i], b.dz[i]), b.t0[i], b.t[i]);
+        if hit {
+            b.alt_t[i] = t;
+            b.alt_best[i] = k;
+            (b.alt_hx[i], b.alt_hy[i], b.alt_hz[i]) = (x, y, z);
+            hits += 1;
+        }
+    }
+    b.swap_nearest();
+    hits
+}
+
+#[inline(always)]
+fn conic_body(r: &Rec, cr: &ConicRec, k: u32, eps: f64, kept: usize, b: &mut Batch, n: usize) -> usize {
+    let f = r.frame;
+    if kept * SPARSE < n {
+        return sparse(b, n, k, |o, d, t0, t_best| {
+            let (hit, t, p) = conic_nearest(f, cr, eps, o, d, t0, t_best, conic_roots(f, cr, o, d, t0));
+            (hit, t0 + t, p)
+        });
+    }
     let (ox, oy, oz) = (&b.ox[..n], &b.oy[..n], &b.oz[..n]);
     let (dx, dy, dz) = (&b.dx[..n], &b.dy[..n], &b.dz[..n]);
     let (keep, t0s) = (&b.keep[..n], &b.t0[..n]);
@@ -496,51 +586,58 @@ fn conic_body(r: &Rec, cr: &ConicRec, k: u32, eps: f64, b: &mut Batch, n: usize)
     let (ntb, nbest) = (&mut b.alt_t[..n], &mut b.alt_best[..n]);
     let (nhx, nhy, nhz) = (&mut b.alt_hx[..n], &mut b.alt_hy[..n], &mut b.alt_hz[..n]);
     let (root1, root2) = (&mut b.s1[..n], &mut b.s2[..n]);
+    let mut hits = 0;
     // The roots first…
     for i in 0..n {
-        let ((lx, ly, lz), (ldx, ldy, ldz)) = f.ray_to_local((ox[i], oy[i], oz[i]), (dx[i], dy[i], dz[i]), t0s[i]);
-        // c(x² + y²) − 2z + (1+K)c z² = 0 along the ray (x dropped for a trough).
-        let (qx, qdx) = (lx * xs, ldx * xs);
-        let qa = c * (qdx * qdx + ldy * ldy) + kap * ldz * ldz;
-        let qb = c * (qx * qdx + ly * ldy) - ldz + kap * lz * ldz;
-        let qc = c * (qx * qx + ly * ly) - 2.0 * lz + kap * lz * lz;
-        let disc = qb * qb - qa * qc;
-        let q = -(qb + disc.sqrt().copysign(qb));
-        // No real root: both NaN, so neither passes the tests below.
-        let real = (0.0..f64::INFINITY).contains(&disc);
-        root1[i] = pick(real, q / qa, f64::NAN);
-        root2[i] = pick(real, qc / q, f64::NAN);
+        (root1[i], root2[i]) = conic_roots(f, cr, (ox[i], oy[i], oz[i]), (dx[i], dy[i], dz[i]), t0s[i]);
     }
     // …then the nearest that lies on the mirror.
     let (root1, root2) = (&b.s1[..n], &b.s2[..n]);
-    let mut hits = 0;
     for i in 0..n {
         let t0 = t0s[i];
-        let ((lx, ly, lz), (ldx, ldy, ldz)) = f.ray_to_local((ox[i], oy[i], oz[i]), (dx[i], dy[i], dz[i]), t0);
-        let (r1, r2) = (root1[i], root2[i]);
-        let (t_min, t_max) = (eps - t0, tb[i] - t0);
-        let ok = keep[i] != 0;
-        // The sag branch through the vertex has (1+K)c·z < 1.
-        let v1 = ok & (r1 > t_min) & (r1 < t_max) & (kap * (lz + r1 * ldz) < 1.0) & cr.clear.contains(lx + r1 * ldx, ly + r1 * ldy);
-        let v2 = ok & (r2 > t_min) & (r2 < t_max) & (kap * (lz + r2 * ldz) < 1.0) & cr.clear.contains(lx + r2 * ldx, ly + r2 * ldy);
-        let a1 = if v1 { r1 } else { f64::INFINITY };
-        let a2 = if v2 { r2 } else { f64::INFINITY };
-        let t = if a2 < a1 { a2 } else { a1 };
-        let hit = v1 | v2;
+        let (on, t, (px, py, pz)) = conic_nearest(f, cr, eps, (ox[i], oy[i], oz[i]), (dx[i], dy[i], dz[i]), t0, tb[i], (root1[i], root2[i]));
+        let hit = (keep[i] != 0) & on;
         hits += hit as usize;
         ntb[i] = pick(hit, t0 + t, tb[i]);
         nbest[i] = pick_u32(hit, k, best[i]);
-        nhx[i] = pick(hit, lx + ldx * t, hx[i]);
-        nhy[i] = pick(hit, ly + ldy * t, hy[i]);
-        nhz[i] = pick(hit, lz + ldz * t, hz[i]);
+        nhx[i] = pick(hit, px, hx[i]);
+        nhy[i] = pick(hit, py, hy[i]);
+        nhz[i] = pick(hit, pz, hz[i]);
     }
     b.swap_nearest();
     hits
 }
 
+/// Where a ray crosses a flat screen's plane, from the cull's entry point
+/// `t0`: (on the screen, t, the local crossing point).
 #[inline(always)]
-fn screen_body(r: &Rec, half: f64, circle: bool, k: u32, eps: f64, b: &mut Batch, n: usize) -> usize {
+#[allow(clippy::too_many_arguments)]
+fn screen_crossing(
+    f: PlaneFrame,
+    half: f64,
+    circle: bool,
+    eps: f64,
+    o: (f64, f64, f64),
+    d: (f64, f64, f64),
+    t0: f64,
+    t_best: f64,
+) -> (bool, f64, (f64, f64, f64)) {
+    let ((lx, ly, lz), (ldx, ldy, ldz)) = f.ray_to_local(o, d, t0);
+    let tl = -lz / ldz;
+    let t = t0 + tl;
+    let (px, py) = (lx + ldx * tl, ly + ldy * tl);
+    let inside = if circle { px * px + py * py <= half * half } else { (px.abs() <= half) & (py.abs() <= half) };
+    let on = (ldz != 0.0) & (t > eps) & (t < t_best) & inside;
+    (on, t, (px, py, lz + ldz * tl))
+}
+
+#[inline(always)]
+#[allow(clippy::too_many_arguments)]
+fn screen_body(r: &Rec, half: f64, circle: bool, k: u32, eps: f64, kept: usize, b: &mut Batch, n: usize) -> usize {
     let f = r.frame;
+    if kept * SPARSE < n {
+        return sparse(b, n, k, |o, d, t0, t_best| screen_crossing(f, half, circle, eps, o, d, t0, t_best));
+    }
     let (ox, oy, oz) = (&b.ox[..n], &b.oy[..n], &b.oz[..n]);
     let (dx, dy, dz) = (&b.dx[..n], &b.dy[..n], &b.dz[..n]);
     let (keep, t0s) = (&b.keep[..n], &b.t0[..n]);
@@ -550,25 +647,18 @@ fn screen_body(r: &Rec, half: f64, circle: bool, k: u32, eps: f64, b: &mut Batch
     let (nhx, nhy, nhz) = (&mut b.alt_hx[..n], &mut b.alt_hy[..n], &mut b.alt_hz[..n]);
     let mut hits = 0;
     for i in 0..n {
-        let t0 = t0s[i];
-        let ((lx, ly, lz), (ldx, ldy, ldz)) = f.ray_to_local((ox[i], oy[i], oz[i]), (dx[i], dy[i], dz[i]), t0);
-        let tl = -lz / ldz;
-        let t = t0 + tl;
-        let (px, py) = (lx + ldx * tl, ly + ldy * tl);
-        let inside =
-            if circle { px * px + py * py <= half * half } else { (px.abs() <= half) & (py.abs() <= half) };
-        let hit = (keep[i] != 0) & (ldz != 0.0) & (t > eps) & (t < tb[i]) & inside;
+        let (on, t, (px, py, pz)) = screen_crossing(f, half, circle, eps, (ox[i], oy[i], oz[i]), (dx[i], dy[i], dz[i]), t0s[i], tb[i]);
+        let hit = (keep[i] != 0) & on;
         hits += hit as usize;
         ntb[i] = pick(hit, t, tb[i]);
         nbest[i] = pick_u32(hit, k, best[i]);
         nhx[i] = pick(hit, px, hx[i]);
         nhy[i] = pick(hit, py, hy[i]);
-        nhz[i] = pick(hit, lz + ldz * tl, hz[i]);
+        nhz[i] = pick(hit, pz, hz[i]);
     }
     b.swap_nearest();
     hits
 }
-
 
 /// Aspheric and spline mirrors: the exact scalar solver, ray by ray, from
 /// the bounding sphere's entry point (as the reference tracer does).
