@@ -268,3 +268,203 @@ fn wavefront_goal_pools_the_sources_by_their_hits() {
     let none = Target { sources: Vec::new(), ..all };
     assert_eq!(goal_value(&l, &none, Goal::Wavefront, Some(RAYS), None), None);
 }
+
+// ---- The cost the search minimises, slot by slot (our choice of
+// objective, written down in src/design/optimise.rs): each check works the
+// residuals out from a plain trace of the same rays. ----
+
+/// A source's first arrivals (u, v, weight) on a screen, in ray order.
+type Arrivals = Vec<(f64, f64, f64)>;
+
+/// Each source's first arrivals on screen 0, and its launched rays.
+fn arrivals_by_source(l: &Layout) -> (Vec<Arrivals>, Vec<usize>) {
+    let scene = Scene::compile(l);
+    let res = trace(&scene, TraceOptions { rays: Some(RAYS), ..Default::default() });
+    let h = &res.screens[0];
+    let by = (0..l.sources.len() as u32)
+        .map(|s| (0..h.len()).filter(|&i| h.source[i] == s && h.first[i]).map(|i| (h.u[i], h.v[i], h.weight[i])).collect())
+        .collect();
+    (by, res.launched_by_source.iter().map(|&n| n as usize).collect())
+}
+
+/// The sum of the squares of `r`.
+fn sum_sq(r: &[f64]) -> f64 {
+    r.iter().map(|x| x * x).sum()
+}
+
+/// Checks one source's slots against its arrivals `a` (`per` residuals per
+/// ray, computed by `expect`), then returns the arrived part's cost and
+/// the slots of its lost rays.
+fn check_source(r: &[f64], a: &[(f64, f64, f64)], per: usize, expect: impl Fn(usize) -> Vec<f64>, what: &str) -> f64 {
+    let mut cost = 0.0;
+    for i in 0..a.len() {
+        for (j, e) in expect(i).into_iter().enumerate() {
+            let got = r[per * i + j];
+            assert!((got - e).abs() <= 1e-12 * (1.0 + e.abs()), "{what}: ray {i} slot {j}: {got} vs {e}");
+            cost += e * e;
+        }
+    }
+    cost
+}
+
+/// The lost rays' slots (`slots` of them in all) each hold √(arrived cost /
+/// launched rays), so the whole cost is the arrived cost × (1 + lost/launched).
+fn check_lost(r: &[f64], lost: &[std::ops::Range<usize>], arrived: f64, launched: usize, what: &str) {
+    let per_ray = (arrived / launched as f64).sqrt();
+    let mut n_lost = 0;
+    for l in lost {
+        for &x in &r[l.clone()] {
+            assert!((x - per_ray).abs() <= 1e-12 * per_ray, "{what}: lost slot {x} vs {per_ray}");
+        }
+        n_lost += l.len();
+    }
+    let whole = sum_sq(r);
+    let expect = arrived + n_lost as f64 * per_ray * per_ray;
+    assert!((whole - expect).abs() <= 1e-12 * expect, "{what}: cost {whole} vs {expect}");
+}
+
+#[test]
+fn rms_residuals_are_each_rays_weighted_offset_from_its_sources_centroid() {
+    // The pooled mean square spot radius, Σₛ (nₛ/N) Σᵢ (wᵢ/Wₛ)|pᵢ − cₛ|²,
+    // split into one (u, v) pair per ray: √((nₛ/N)(wᵢ/Wₛ))·(pᵢ − cₛ), cₛ the
+    // source's power-weighted centroid. A Cassegrain with an on-axis and a
+    // field beam (the secondary's shadow: some rays never arrive).
+    let l = two_mirror(TwoMirrorKind::Cassegrain, 200.0, 600.0, 2400.0, 150.0, 0.3);
+    let r = catoptric::design::optimise::residuals(&l, &spec(&["secondary.profile.conic"], Goal::Rms, None)).unwrap();
+    let (by, launched) = arrivals_by_source(&l);
+    let total: usize = launched.iter().sum();
+    assert_eq!(r.len(), 2 * total);
+    let n_all: usize = by.iter().map(Vec::len).sum();
+    let (mut at, mut arrived, mut lost) = (0, 0.0, Vec::new());
+    for (s, a) in by.iter().enumerate() {
+        assert!(a.len() < launched[s], "some rays should be lost in the shadow");
+        let w: f64 = a.iter().map(|x| x.2).sum();
+        let (cu, cv) = (a.iter().map(|x| x.2 * x.0).sum::<f64>() / w, a.iter().map(|x| x.2 * x.1).sum::<f64>() / w);
+        let frac = a.len() as f64 / n_all as f64;
+        arrived += check_source(&r[at..], a, 2, |i| {
+            let k = (frac * a[i].2 / w).sqrt();
+            vec![k * (a[i].0 - cu), k * (a[i].1 - cv)]
+        }, &format!("source {s}"));
+        lost.push(at + 2 * a.len()..at + 2 * launched[s]);
+        at += 2 * launched[s];
+    }
+    check_lost(&r, &lost, arrived, total, "rms");
+}
+
+#[test]
+fn wavefront_residuals_are_each_rays_weighted_path_error_at_best_focus() {
+    // √((nₛ/N)(wᵢ/Wₛ))·OPDᵢ in waves, OPD from the wavefront map about the
+    // source's best-focus point (so the squares pool the sources' mean
+    // square wavefront errors).
+    use catoptric::analysis::wavefront_map;
+    let l = two_mirror(TwoMirrorKind::Cassegrain, 200.0, 600.0, 2400.0, 150.0, 0.3);
+    let r = catoptric::design::optimise::residuals(&l, &spec(&["secondary.profile.conic"], Goal::Wavefront, None)).unwrap();
+    let scene = Scene::compile(&l);
+    let res = trace(&scene, TraceOptions { rays: Some(RAYS), ..Default::default() });
+    let h = &res.screens[0];
+    let (by, launched) = arrivals_by_source(&l);
+    let total: usize = launched.iter().sum();
+    assert_eq!(r.len(), total);
+    let n_all: usize = by.iter().map(Vec::len).sum();
+    let (mut at, mut arrived, mut lost) = (0, 0.0, Vec::new());
+    for (s, a) in by.iter().enumerate() {
+        let fit = focus_fit(h, Some(s as u32)).unwrap();
+        let map = wavefront_map(h, Some(s as u32), fit.best_point().unwrap(), scene.wavelength_mm).unwrap();
+        assert_eq!(map.opd_waves.len(), a.len());
+        let w: f64 = a.iter().map(|x| x.2).sum();
+        let frac = a.len() as f64 / n_all as f64;
+        arrived += check_source(&r[at..], a, 1, |i| vec![(frac * a[i].2 / w).sqrt() * map.opd_waves[i]], &format!("source {s}"));
+        lost.push(at + a.len()..at + launched[s]);
+        at += launched[s];
+    }
+    check_lost(&r, &lost, arrived, total, "wavefront");
+}
+
+/// paraboloid-f5 with a second source.
+fn with_second_source(source: Value) -> Layout {
+    let mut v: Value = serde_json::to_value(preset("paraboloid-f5")).unwrap();
+    v["sources"].as_array_mut().unwrap().push(source);
+    parse_layout(&v.to_string()).unwrap()
+}
+
+#[test]
+fn a_source_that_misses_the_screen_pays_a_fixed_price_per_ray() {
+    // Our choice: with no hits at all a source's slots hold the goal's
+    // "lost" value over √(launched rays): half the screen's size for rms,
+    // 1 wave for wavefront, and for the intercept each ray's share of the
+    // launched power (rooted) times the surrogate's largest distance,
+    // margin − 1 + inset = 1.1 half-sizes.
+    assert_eq!(catoptric::design::optimise::LOST_RAY_WAVES, 1.0);
+    assert_eq!((catoptric::design::optimise::INTERCEPT_MARGIN, catoptric::design::optimise::INTERCEPT_INSET), (2.0, 0.1));
+    // A second beam of half the irradiance, sideways: it never meets the
+    // mirror nor the screen.
+    let l = with_second_source(serde_json::json!({ "kind": "beam", "id": "aside", "center": [0, 500], "direction_deg": 90,
+        "diameter": 200, "rays": 20000, "pattern": "hex", "irradiance_w_m2": 500 }));
+    let (by, launched) = arrivals_by_source(&l);
+    assert!(by[0].len() == launched[0] && by[1].is_empty(), "the turned beam never arrives");
+    let total: usize = launched.iter().sum();
+    // The beams' powers go as their irradiances (same diameter).
+    let p = [1000.0, 500.0];
+    for (goal, per, price) in [
+        (Goal::Rms, 2, 10.0 / (total as f64).sqrt()),
+        (Goal::Wavefront, 1, 1.0 / (total as f64).sqrt()),
+        (Goal::Intercept, 1, (p[1] / (p[0] + p[1]) / launched[1] as f64).sqrt() * 1.1),
+    ] {
+        let r = catoptric::design::optimise::residuals(&l, &spec(&["focus.center[1]"], goal, None)).unwrap();
+        assert_eq!(r.len(), per * total);
+        for &x in &r[per * launched[0]..] {
+            assert!((x - price).abs() <= 1e-12 * price, "{goal:?}: {x} vs {price}");
+        }
+    }
+}
+
+#[test]
+fn intercept_residuals_measure_each_ray_beyond_the_inset_edge() {
+    // The surrogate: traced with the screen twice its size, a ray at (u, v)
+    // costs √(w/P)·min(d/h, 1.1), d its distance outside the square of
+    // half-size 0.9h (h the real half-size), P the launched power; a ray
+    // that misses even the larger screen costs its source's mean ray
+    // share times 1.1. The 20 mm screen moved 12 mm off the focus.
+    let mut l = preset("paraboloid-f5");
+    set_field(&mut l, "focus.center[0]", 12.0).unwrap();
+    let r = catoptric::design::optimise::residuals(&l, &spec(&["focus.center[0]"], Goal::Intercept, None)).unwrap();
+    let mut big = l.clone();
+    set_field(&mut big, "focus.size", 40.0).unwrap();
+    let scene = Scene::compile(&big);
+    let res = trace(&scene, TraceOptions { rays: Some(RAYS), ..Default::default() });
+    let (by, launched) = arrivals_by_source(&big);
+    let p = res.power_by_source[0];
+    assert!(!by[0].is_empty() && by[0].len() <= launched[0]);
+    assert_eq!(r.len(), launched[0]);
+    let (h, inner) = (10.0, 9.0);
+    let a = &by[0];
+    check_source(&r, a, 1, |i| {
+        let d = (a[i].0.abs() - inner).max(0.0).hypot((a[i].1.abs() - inner).max(0.0));
+        vec![(a[i].2 / p).sqrt() * (d / h).min(1.1)]
+    }, "intercept");
+    assert!(r[..a.len()].iter().any(|&x| x > 0.0), "rays should lie beyond the inset edge");
+    // The source's mean ray power over the launched power.
+    let mean = (p / launched[0] as f64 / p).sqrt() * 1.1;
+    for &x in &r[a.len()..] {
+        assert!((x - mean).abs() <= 1e-12 * mean, "lost ray {x} vs {mean}");
+    }
+}
+
+#[test]
+fn a_sourceless_power_weighs_every_ray_alike() {
+    // A 0 W lamp shining straight at the screen beside the lit beam: its
+    // rays' shares are equal, 1/nₛ, as its weights sum to zero (our choice;
+    // a share of 0/0 would poison the cost).
+    let l = with_second_source(serde_json::json!({ "kind": "point", "id": "dark", "center": [0, 100], "direction_deg": 180,
+        "cone_half_angle_deg": 2, "rays": 3000, "pattern": "random", "power_w": 0 }));
+    let r = catoptric::design::optimise::residuals(&l, &spec(&["focus.center[1]"], Goal::Rms, None)).unwrap();
+    let (by, launched) = arrivals_by_source(&l);
+    assert!(r.iter().all(|x| x.is_finite()));
+    let n_all: usize = by.iter().map(Vec::len).sum();
+    let a = &by[1];
+    assert!(a.iter().all(|x| x.2 == 0.0) && !a.is_empty());
+    let n = a.len() as f64;
+    let (cu, cv) = (a.iter().map(|x| x.0).sum::<f64>() / n, a.iter().map(|x| x.1).sum::<f64>() / n);
+    let k = (n / n_all as f64 / n).sqrt();
+    check_source(&r[2 * launched[0]..], a, 2, |i| vec![k * (a[i].0 - cu), k * (a[i].1 - cv)], "0 W source");
+}

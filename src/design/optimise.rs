@@ -374,10 +374,22 @@ impl LeastSquaresProblem<f64, Dyn, Dyn> for Problem<'_> {
     }
 }
 
-/// Optimises a layout; `progress(evaluations, cost)` is called after each
-/// trace. Errors name `vary` (with the path), `goal`, `screen`, `source`
-/// or `rays`.
-pub fn optimise(layout: &Layout, spec: &OptimiseSpec, progress: &mut dyn FnMut(usize, f64)) -> Result<OptimiseReport, InputError> {
+/// The residual vector the search minimises (see the module's notes), at
+/// the layout as it is: its squares sum to the cost. Errors as
+/// [`optimise`]'s.
+pub fn residuals(layout: &Layout, spec: &OptimiseSpec) -> Result<Vec<f64>, InputError> {
+    let mut quiet = |_: usize, _: f64| {};
+    let (problem, start) = problem(layout, spec, &mut quiet)?;
+    Ok(problem.evaluate(&start).r.iter().copied().collect())
+}
+
+/// Checks a request and sets up its least-squares problem; also returns
+/// the variables' values in `layout`.
+fn problem<'a>(
+    layout: &Layout,
+    spec: &OptimiseSpec,
+    progress: &'a mut dyn FnMut(usize, f64),
+) -> Result<(Problem<'a>, Vec<f64>), InputError> {
     validate(layout)?;
     let target = Target::new(layout, spec.screen.as_deref(), spec.source.as_deref())?;
     if spec.vary.is_empty() {
@@ -412,7 +424,6 @@ pub fn optimise(layout: &Layout, spec: &OptimiseSpec, progress: &mut dyn FnMut(u
             Emitter::new(src, spec.rays.unwrap_or(src.rays() as usize)).len()
         })
         .collect();
-    let start_value = goal_value(layout, &target, spec.goal, spec.rays, spec.threads);
     let problem = Problem {
         base: layout.clone(),
         paths: spec.vary.clone(),
@@ -429,6 +440,16 @@ pub fn optimise(layout: &Layout, spec: &OptimiseSpec, progress: &mut dyn FnMut(u
         evaluations: Cell::new(0),
         progress: RefCell::new(progress),
     };
+    Ok((problem, start))
+}
+
+/// Optimises a layout; `progress(evaluations, cost)` is called after each
+/// trace. Errors name `vary` (with the path), `goal`, `screen`, `source`
+/// or `rays`.
+pub fn optimise(layout: &Layout, spec: &OptimiseSpec, progress: &mut dyn FnMut(usize, f64)) -> Result<OptimiseReport, InputError> {
+    let (problem, start) = problem(layout, spec, progress)?;
+    let target = problem.target.clone();
+    let start_value = goal_value(layout, &target, spec.goal, spec.rays, spec.threads);
     let lm = LevenbergMarquardt::new()
         .with_ftol(OPTIMISE_TOL)
         .with_xtol(OPTIMISE_TOL)
