@@ -468,3 +468,21 @@ fn a_sourceless_power_weighs_every_ray_alike() {
     let k = (n / n_all as f64 / n).sqrt();
     check_source(&r[2 * launched[0]..], a, 2, |i| vec![k * (a[i].0 - cu), k * (a[i].1 - cv)], "0 W source");
 }
+
+#[test]
+fn ray_counts_outside_the_limits_are_refused_and_the_limit_is_not() {
+    // Our limits (docs/FORMATS.md): 1 to 4,000,000 rays per source, the
+    // same as a layout's own. A count at the limit passes the check, so the
+    // request fails further on — here on the wavefront goal asked of a
+    // solar disk — without tracing anything.
+    let max = catoptric::layout::MAX_RAYS_PER_SOURCE as usize;
+    assert_eq!(max, 4_000_000);
+    let dish = preset("solar-dish");
+    let first_screen = dish.elements.iter().find(|e| matches!(e, Element::Screen(_))).unwrap().id().to_string();
+    let mut sp = spec(&[&format!("{first_screen}.center[1]")], Goal::Wavefront, None);
+    for (rays, field) in [(0, "rays"), (max + 1, "rays"), (max, "goal")] {
+        sp.rays = Some(rays);
+        let e = optimise(&dish, &sp, &mut |_, _| {}).unwrap_err();
+        assert_eq!(e.field, field, "{rays} rays: {e}");
+    }
+}
