@@ -486,3 +486,31 @@ fn ray_counts_outside_the_limits_are_refused_and_the_limit_is_not() {
         assert_eq!(e.field, field, "{rays} rays: {e}");
     }
 }
+
+#[test]
+fn rays_of_one_source_weigh_by_their_own_power() {
+    // A lamp shining every way 500 mm below a half-silvered paraboloid
+    // (reflectivity 0.5) and above a 200 mm screen: some rays reach the
+    // screen straight down, others after the mirror with half their power. Each ray's share of its
+    // source is wᵢ/Wₛ (the power-weighted mean square radius), not 1/nₛ.
+    let mut v: Value = serde_json::to_value(preset("paraboloid-f5")).unwrap();
+    v["elements"][0]["reflectivity"] = 0.5.into();
+    v["elements"][1]["size"] = 200.into();
+    v["sources"] = serde_json::json!([{ "kind": "point", "id": "bulb", "center": [0, 500], "direction_deg": 0,
+        "cone_half_angle_deg": 180, "rays": 20000, "pattern": "random", "power_w": 10 }]);
+    let l = parse_layout(&v.to_string()).unwrap();
+    let sp = OptimiseSpec { rays: Some(20000), ..spec(&["focus.center[1]"], Goal::Rms, None) };
+    let r = catoptric::design::optimise::residuals(&l, &sp).unwrap();
+    let scene = Scene::compile(&l);
+    let res = trace(&scene, TraceOptions { rays: Some(20000), ..Default::default() });
+    let h = &res.screens[0];
+    let a: Arrivals = (0..h.len()).filter(|&i| h.first[i]).map(|i| (h.u[i], h.v[i], h.weight[i])).collect();
+    let (lo, hi) = a.iter().fold((f64::INFINITY, 0.0f64), |(lo, hi), x| (lo.min(x.2), hi.max(x.2)));
+    assert!(hi == 2.0 * lo && lo > 0.0, "direct and reflected rays should both arrive: weights {lo}..{hi}");
+    let w: f64 = a.iter().map(|x| x.2).sum();
+    let (cu, cv) = (a.iter().map(|x| x.2 * x.0).sum::<f64>() / w, a.iter().map(|x| x.2 * x.1).sum::<f64>() / w);
+    check_source(&r, &a, 2, |i| {
+        let k = (a[i].2 / w).sqrt();
+        vec![k * (a[i].0 - cu), k * (a[i].1 - cv)]
+    }, "mixed weights");
+}

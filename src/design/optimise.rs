@@ -208,6 +208,9 @@ impl Problem<'_> {
         per * self.launched.iter().sum::<usize>()
     }
 
+    /// What a lost ray costs: for `rms` and `wavefront` each slot of a
+    /// source with no hits holds this over √(launched rays); for the
+    /// `intercept` it is the surrogate's largest distance, in half-sizes.
     fn lost(&self) -> f64 {
         match self.goal {
             Goal::Rms => self.half,
@@ -291,7 +294,7 @@ impl Problem<'_> {
                         if launched_power > 0.0 { w / launched_power } else { 1.0 / self.launched.iter().sum::<usize>().max(1) as f64 }
                     };
                     let inner = (1.0 - INTERCEPT_INSET) * self.half;
-                    let lost = INTERCEPT_MARGIN - 1.0 + INTERCEPT_INSET;
+                    let lost = self.lost();
                     for x in a.iter().take(slots) {
                         let outside = if self.circle {
                             (x.0.hypot(x.1) - inner).max(0.0)
