@@ -514,3 +514,35 @@ fn rays_of_one_source_weigh_by_their_own_power() {
         vec![k * (a[i].0 - cu), k * (a[i].1 - cv)]
     }, "mixed weights");
 }
+
+#[test]
+fn a_dark_beam_counts_each_ray_alike_in_the_intercept() {
+    // A 0 W beam (irradiance 0): no launched power to share, so every ray
+    // counts 1/(launched rays) (our choice); its rays are absorbed at the
+    // mirror (nothing left to carry), so each slot holds √(1/n)·1.1.
+    let mut l = preset("paraboloid-f5");
+    set_field(&mut l, "star.irradiance_w_m2", 0.0).unwrap();
+    let r = catoptric::design::optimise::residuals(&l, &spec(&["focus.center[1]"], Goal::Intercept, None)).unwrap();
+    let (by, launched) = arrivals_by_source(&l);
+    assert!(by[0].is_empty());
+    let price = (1.0 / launched[0] as f64).sqrt() * 1.1;
+    assert_eq!(r.len(), launched[0]);
+    assert!(r.iter().all(|&x| (x - price).abs() <= 1e-12 * price), "{:?} vs {price}", &r[..3]);
+}
+
+#[test]
+fn progress_counts_every_trace_and_reports_its_cost() {
+    // The progress callback numbers the evaluations 1, 2, 3, … and passes
+    // each one's cost; the first is the cost at the start (the residuals'
+    // sum of squares there).
+    let l = preset("sphere-f5");
+    let sp = spec(&["elements[0].profile.conic"], Goal::Wavefront, None);
+    let start: f64 = catoptric::design::optimise::residuals(&l, &sp).unwrap().iter().map(|x| x * x).sum();
+    let mut seen = Vec::new();
+    optimise(&l, &sp, &mut |n, cost| seen.push((n, cost))).unwrap();
+    assert!(seen.len() > 3, "{seen:?}");
+    for (k, &(n, _)) in seen.iter().enumerate() {
+        assert_eq!(n, k + 1);
+    }
+    assert!((seen[0].1 - start).abs() <= 1e-12 * start, "{} vs {start}", seen[0].1);
+}
