@@ -421,32 +421,48 @@ fn a_source_that_misses_the_screen_pays_a_fixed_price_per_ray() {
 #[test]
 fn intercept_residuals_measure_each_ray_beyond_the_inset_edge() {
     // The surrogate: traced with the screen twice its size, a ray at (u, v)
-    // costs √(w/P)·min(d/h, 1.1), d its distance outside the square of
-    // half-size 0.9h (h the real half-size), P the launched power; a ray
-    // that misses even the larger screen costs its source's mean ray
-    // share times 1.1. The 20 mm screen moved 12 mm off the focus.
-    let mut l = preset("paraboloid-f5");
-    set_field(&mut l, "focus.center[0]", 12.0).unwrap();
-    let r = catoptric::design::optimise::residuals(&l, &spec(&["focus.center[0]"], Goal::Intercept, None)).unwrap();
-    let mut big = l.clone();
-    set_field(&mut big, "focus.size", 40.0).unwrap();
-    let scene = Scene::compile(&big);
-    let res = trace(&scene, TraceOptions { rays: Some(RAYS), ..Default::default() });
-    let (by, launched) = arrivals_by_source(&big);
-    let p = res.power_by_source[0];
-    assert!(!by[0].is_empty() && by[0].len() <= launched[0]);
-    assert_eq!(r.len(), launched[0]);
-    let (h, inner) = (10.0, 9.0);
-    let a = &by[0];
-    check_source(&r, a, 1, |i| {
-        let d = (a[i].0.abs() - inner).max(0.0).hypot((a[i].1.abs() - inner).max(0.0));
-        vec![(a[i].2 / p).sqrt() * (d / h).min(1.1)]
-    }, "intercept");
-    assert!(r[..a.len()].iter().any(|&x| x > 0.0), "rays should lie beyond the inset edge");
-    // The source's mean ray power over the launched power.
-    let mean = (p / launched[0] as f64 / p).sqrt() * 1.1;
-    for &x in &r[a.len()..] {
-        assert!((x - mean).abs() <= 1e-12 * mean, "lost ray {x} vs {mean}");
+    // costs √(w/P)·min(d/h, 1.1), d its distance outside the square (or
+    // circle) of half-size 0.9h (h the real half-size), P the launched
+    // power; a ray that misses even the larger screen costs its source's
+    // mean ray share times 1.1. The 20 mm screen moved 12 mm off the focus
+    // (sharp), then also 30 mm along the axis (a 6 mm blur, so rays spread
+    // across u as well); square and round.
+    for (shape, along) in [("square", 0.0), ("square", 30.0), ("circle", 30.0)] {
+        let mut v: Value = serde_json::to_value(preset("paraboloid-f5")).unwrap();
+        v["elements"][1]["shape"] = shape.into();
+        let mut l = parse_layout(&v.to_string()).unwrap();
+        set_field(&mut l, "focus.center[0]", 12.0).unwrap();
+        set_field(&mut l, "focus.center[1]", along).unwrap();
+        let what = format!("{shape}, {along} mm along");
+        let r = catoptric::design::optimise::residuals(&l, &spec(&["focus.center[0]"], Goal::Intercept, None)).unwrap();
+        let mut big = l.clone();
+        set_field(&mut big, "focus.size", 40.0).unwrap();
+        let scene = Scene::compile(&big);
+        let res = trace(&scene, TraceOptions { rays: Some(RAYS), ..Default::default() });
+        let (by, launched) = arrivals_by_source(&big);
+        let p = res.power_by_source[0];
+        assert!(!by[0].is_empty() && by[0].len() <= launched[0], "{what}");
+        assert_eq!(r.len(), launched[0]);
+        let (h, inner) = (10.0, 9.0);
+        let a = &by[0];
+        check_source(&r, a, 1, |i| {
+            let (u, v) = (a[i].0, a[i].1);
+            let d = if shape == "circle" {
+                (u.hypot(v) - inner).max(0.0)
+            } else {
+                (u.abs() - inner).max(0.0).hypot((v.abs() - inner).max(0.0))
+            };
+            vec![(a[i].2 / p).sqrt() * (d / h).min(1.1)]
+        }, &what);
+        assert!(r[..a.len()].iter().any(|&x| x > 0.0), "{what}: rays should lie beyond the inset edge");
+        if along > 0.0 {
+            assert!(a.iter().any(|x| x.0.abs() > 1.0), "{what}: the blur should spread across u");
+        }
+        // The source's mean ray power over the launched power.
+        let mean = (p / launched[0] as f64 / p).sqrt() * 1.1;
+        for &x in &r[a.len()..] {
+            assert!((x - mean).abs() <= 1e-12 * mean, "{what}: lost ray {x} vs {mean}");
+        }
     }
 }
 
@@ -544,5 +560,8 @@ fn progress_counts_every_trace_and_reports_its_cost() {
     for (k, &(n, _)) in seen.iter().enumerate() {
         assert_eq!(n, k + 1);
     }
+    // Each outer step takes one Jacobian, of at least two traces per variable.
+    let r = optimise(&l, &sp, &mut |_, _| {}).unwrap();
+    assert!(r.iterations >= 1 && 2 * r.iterations < seen.len(), "{} iterations, {} traces", r.iterations, seen.len());
     assert!((seen[0].1 - start).abs() <= 1e-12 * start, "{} vs {start}", seen[0].1);
 }
