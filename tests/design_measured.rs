@@ -243,6 +243,27 @@ fn departure_rows_weigh_by_the_annulus_they_stand_for() {
     assert_eq!(strict, [ZoneVerdict::High, ZoneVerdict::Low, ZoneVerdict::High]);
 }
 
+/// The same weights when the first row's annulus is a thin ring (rows at
+/// 50, 50.4 and 60 mm: 50.2² − 50², 55.2² − 50.2², 60² − 55.2²), the fit
+/// solved here from its 2×2 weighted normal equations (same reference).
+#[test]
+fn a_thin_first_annulus_weighs_only_its_own_area() {
+    let rows = [[50.0, 0.0], [50.4, 0.0], [60.0, 100e-6]];
+    let w = [50.2f64 * 50.2 - 2500.0, 55.2 * 55.2 - 50.2 * 50.2, 3600.0 - 55.2 * 55.2];
+    let (mut s, mut sx, mut sxx, mut sy, mut sxy) = (0.0, 0.0, 0.0, 0.0, 0.0);
+    for (r, wi) in rows.iter().zip(w) {
+        let x = r[0] * r[0];
+        (s, sx, sxx, sy, sxy) = (s + wi, sx + wi * x, sxx + wi * x * x, sy + wi * r[1], sxy + wi * x * r[1]);
+    }
+    let det = s * sxx - sx * sx;
+    let (p, q) = ((sy * sxx - sx * sxy) / det, (s * sxy - sx * sy) / det);
+    let work = departures_needing_work(&rows, 5.0).unwrap();
+    for (wk, r) in work.iter().zip(rows) {
+        let e = (r[1] - p - q * r[0] * r[0]) * 1e6;
+        assert!((wk.surface_error_nm - e).abs() < 1e-6, "ρ {}: {} nm against {e} nm", wk.r_mm, wk.surface_error_nm);
+    }
+}
+
 /// The table needs two rows at least (piston and focus take two) and at
 /// most MAX_ROWS; each limit is met exactly. A documented input contract.
 #[test]
