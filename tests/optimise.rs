@@ -507,8 +507,9 @@ fn ray_counts_outside_the_limits_are_refused_and_the_limit_is_not() {
 fn rays_of_one_source_weigh_by_their_own_power() {
     // A lamp shining every way 500 mm below a half-silvered paraboloid
     // (reflectivity 0.5) and above a 200 mm screen: some rays reach the
-    // screen straight down, others after the mirror with half their power. Each ray's share of its
-    // source is wᵢ/Wₛ (the power-weighted mean square radius), not 1/nₛ.
+    // screen straight down, others after the mirror with half their
+    // power. Each ray's share of its source is wᵢ/Wₛ (the power-weighted
+    // mean square radius, our choice of objective as above), not 1/nₛ.
     let mut v: Value = serde_json::to_value(preset("paraboloid-f5")).unwrap();
     v["elements"][0]["reflectivity"] = 0.5.into();
     v["elements"][1]["size"] = 200.into();
@@ -548,9 +549,9 @@ fn a_dark_beam_counts_each_ray_alike_in_the_intercept() {
 
 #[test]
 fn progress_counts_every_trace_and_reports_its_cost() {
-    // The progress callback numbers the evaluations 1, 2, 3, … and passes
-    // each one's cost; the first is the cost at the start (the residuals'
-    // sum of squares there).
+    // Our contract: the progress callback numbers the evaluations 1, 2,
+    // 3, … and passes each one's cost; the first is the cost at the start
+    // (the residuals' sum of squares there).
     let l = preset("sphere-f5");
     let sp = spec(&["elements[0].profile.conic"], Goal::Wavefront, None);
     let start: f64 = catoptric::design::optimise::residuals(&l, &sp).unwrap().iter().map(|x| x * x).sum();

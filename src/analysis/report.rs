@@ -53,24 +53,20 @@ pub fn first_arrivals(h: &ScreenHits) -> (u64, f64) {
     let parts = super::over_chunks(h.weight.len(), |r| {
         let (w, f) = (&h.weight[r.clone()], h.first.get(r.start..r.end.min(h.first.len())).unwrap_or(&[]));
         let (mut n, mut l) = (0u64, [0.0; 4]);
+        // Every hit flagged (a trace's result): whole groups of four in a
+        // loop the compiler vectorises; the rest hit by hit (the same
+        // sums in the same order).
+        let mut done = 0;
         if f.len() == w.len() {
-            // Every hit flagged (a trace's result): the same sums, four
-            // hits at a time, which the compiler vectorises.
-            let (wg, fg) = (w.chunks_exact(4), f.chunks_exact(4));
-            let (wr, fr) = (wg.remainder(), fg.remainder());
-            for (wq, fq) in wg.zip(fg) {
+            for (wq, fq) in w.chunks_exact(4).zip(f.chunks_exact(4)) {
                 for j in 0..4 {
                     n += fq[j] as u64;
                     l[j] += if fq[j] { wq[j] } else { 0.0 };
                 }
             }
-            for (j, (&wk, &first)) in wr.iter().zip(fr).enumerate() {
-                n += first as u64;
-                l[j] += if first { wk } else { 0.0 };
-            }
-            return (n, l.iter().sum::<f64>());
+            done = w.len() - w.len() % 4;
         }
-        for (k, &wk) in w.iter().enumerate() {
+        for (k, &wk) in w.iter().enumerate().skip(done) {
             let first = f.get(k).copied().unwrap_or(true);
             n += first as u64;
             l[k & 3] += if first { wk } else { 0.0 };
