@@ -55,6 +55,27 @@ function boxes(page) {
   });
 }
 
+/**
+ * [`boxes`] once the layout has held still for a few frames: the readout
+ * strip's figures change as traces and analyses finish and may wrap onto
+ * another line, and the page refits the drawer to that a frame later, so
+ * a box read in between is half-way through a refit.
+ */
+async function steadyBoxes(page) {
+  const STILL_FRAMES = 5;
+  await page.waitForFunction((still) => {
+    const sig = ['canvas', 'drawer', 'readout', 'sun-caution']
+      .map((id) => { const b = document.getElementById(id).getBoundingClientRect(); return `${b.top},${b.height}`; })
+      .join('|') + document.getElementById('readout').textContent;
+    const s = (window.__steady ??= { sig: '', frames: 0 });
+    s.frames = s.sig === sig ? s.frames + 1 : 0;
+    s.sig = sig;
+    return s.frames >= still;
+  }, STILL_FRAMES, { polling: 'raf' });
+  await page.evaluate(() => { delete window.__steady; });
+  return boxes(page);
+}
+
 describe('the page at laptop sizes', () => {
   for (const [w, h] of SIZES) {
     test(`${w}×${h}: a sun layout with the drawer open keeps ${MIN_DRAWING} px of drawing; every tool in reach; the caution folds`, async () => {
@@ -63,7 +84,7 @@ describe('the page at laptop sizes', () => {
         await openPreset(page, 'solar-dish.json');
         await page.locator('#sun-caution').waitFor({ state: 'visible' });
         await openDrawer(page);
-        const b = await boxes(page);
+        const b = await steadyBoxes(page);
         const below = b.canvas.bottom - Math.max(b.canvas.top, b.caution.bottom);
         assert.ok(below >= MIN_DRAWING, `drawing below the caution: ${below} px`);
         // The caution is one line (with its toggle), over the drawing.
@@ -76,7 +97,7 @@ describe('the page at laptop sizes', () => {
         // Unfolding the caution overlays the drawing: the canvas does not move.
         await page.click('#caution-more');
         await page.waitForFunction(() => document.getElementById('sun-caution').dataset.expanded === 'true');
-        const c = await boxes(page);
+        const c = await steadyBoxes(page);
         assert.ok(c.caution.height > b.caution.height, 'unfolded, the caution shows more');
         // (Sub-pixel changes come from the readout's line wrapping settling.)
         assert.ok(Math.abs(c.canvas.top - b.canvas.top) < 1 && Math.abs(c.canvas.height - b.canvas.height) < 1,
