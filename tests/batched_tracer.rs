@@ -193,16 +193,29 @@ fn second_hits_on_an_off_axis_segment_and_beside_a_hole_are_kept() {
     // θ₀ + Δ, θ₀ + 2Δ, … while those lie on it, leaving along the chord
     // θ → θ + Δ, of direction angle 90° − θ − Δ/2. The batched tracer
     // predicts each return from the reflected line's second root and
-    // skips the mirror when that root is clearly off it; here the returns
-    // land on an off-axis segment (which the aperture's offset must place)
-    // and 5e-5 mm outside a central hole (inside the prediction's margin,
-    // about 1e-9 of the scene), so both must be kept.
+    // skips the mirror when that root is clearly off it (its margin is
+    // some 2.5e-4 mm here: 1e3 self-hit distances of 1e-9 of the scene).
+    // Here the returns land where they must be kept: on an off-axis
+    // segment (which the aperture's offset must place); 5e-5 mm outside a
+    // central hole; on the vertex of a mirror without a hole (within the
+    // margin of the axis); 0.8 mm from the axis beside a hole of 1 mm
+    // (closer than 1 mm, and than √2 hole radii); on a trough 1e-4 mm
+    // long, whose ends the returns lie within the margin of.
     let r = 100.0f64;
     let at = |deg: f64| [r * deg.to_radians().sin(), r * (1.0 - deg.to_radians().cos())];
     let leaving = |deg: f64, step: f64| 90.0 - deg - step / 2.0;
-    // (aperture diameter, offset, hole), entry chord start, step, hits.
     let edge = r * 10f64.to_radians().sin() - 5e-5;
-    for (diameter, offset, hole, from, step, hits) in [(58.0, 70.0, 0.0, 20.0, 20.0, 3u64), (160.0, 0.0, 2.0 * edge, -90.0, 50.0, 2)] {
+    let beside = (0.8 / r).asin().to_degrees();
+    // (aperture diameter, offset, hole, trough length), entry chord start,
+    // step, hits (each entry point off the mirror).
+    let cases = [
+        (58.0, 70.0, 0.0, None, 20.0, 20.0, 3u64),
+        (160.0, 0.0, 2.0 * edge, None, -90.0, 50.0, 2),
+        (160.0, 0.0, 0.0, None, -60.0, 30.0, 3),
+        (160.0, 0.0, 1.0, None, beside - 60.0, 30.0, 3),
+        (160.0, 0.0, 0.0, Some(1e-4), -60.0, 40.0, 2),
+    ];
+    for (diameter, offset, hole, length, from, step, hits) in cases {
         let last = from + step * hits as f64;
         let (a_in, a_out) = (leaving(from, step), leaving(last, step));
         let dir = |a: f64| [a.to_radians().sin(), a.to_radians().cos()];
@@ -210,20 +223,52 @@ fn second_hits_on_an_off_axis_segment_and_beside_a_hole_are_kept() {
         let (p1, d1) = (at(last), dir(a_out));
         let text = layout(
             &[
-                mirror("sphere", [0.0, 0.0], 0.0, Some(r), 0.0, diameter, offset, hole, None),
+                mirror("sphere", [0.0, 0.0], 0.0, Some(r), 0.0, diameter, offset, hole, length),
                 screen("catch", [p1[0] + 40.0 * d1[0], p1[1] + 40.0 * d1[1]], a_out + 180.0, 2.0, "circle", true),
             ],
             &[beam("chord", [p0[0] - 20.0 * d0[0], p0[1] - 20.0 * d0[1]], a_in, 1e-5, 7, "hex")],
         );
         let sc = scene(&text);
         let reference = trace_reference(&sc, opts(None, 1));
-        let what = format!("offset {offset}, hole {hole}");
+        let what = format!("offset {offset}, hole {hole}, length {length:?}, returns from {from}° by {step}°");
         let n = reference.rays_launched;
         assert_eq!(reference.screens[0].len() as u64, n, "{what}: every ray leaves along the predicted chord");
         assert_eq!(reference.surface_hits, n * (hits + 1), "{what}: {hits} mirror hits and the screen per ray");
         for (&u, &v) in reference.screens[0].u.iter().zip(&reference.screens[0].v) {
             assert!(u.hypot(v) < 1e-3, "{what}: hit ({u}, {v}) mm from the chord's line");
         }
+        for k in Kernel::available() {
+            let o = TraceOptions { kernel: Some(k), ..opts(None, 2) };
+            same(&trace(&sc, o), &reference, &format!("{what}, kernel {}", k.name()));
+        }
+    }
+}
+
+#[test]
+fn returns_all_over_a_deep_bowl_match_the_reference() {
+    // A lamp inside a deep concave sphere (the aperture reaches 72° from
+    // the vertex), with and without a central hole, aimed along the wall:
+    // a ray inside a sphere keeps its distance from the centre at every
+    // reflection (elementary geometry), so these near-grazing rays meet
+    // the bowl again and again, at points spread over it and out of the
+    // layout's plane, before leaving through its mouth or the hole. The
+    // batched tracer's prediction that a reflected ray cannot come back
+    // must never drop one of those returns (common practice: the scalar
+    // tracer is the oracle, and its exact solve finds every return).
+    let cases = [(20.0, [-77.8, 45.5], 145.0, 25.0), (0.0, [-77.8, 45.5], 145.0, 25.0), (20.0, [60.0, 40.0], 215.0, 40.0)];
+    for (hole, centre, aim, half) in cases {
+        let text = layout(
+            &[
+                mirror("bowl", [0.0, 0.0], 0.0, Some(100.0), 0.0, 190.0, 0.0, hole, None),
+                screen("lid", [0.0, 160.0], 180.0, 400.0, "square", true),
+            ],
+            &[lamp("inside", centre, aim, half, 4000, 1.0)],
+        );
+        let sc = scene(&text);
+        let reference = trace_reference(&sc, opts(None, 1));
+        let what = format!("hole {hole}, lamp at {centre:?}");
+        let (n, mirror_hits) = (reference.rays_launched, reference.surface_hits - reference.screens[0].len() as u64);
+        assert!(2 * mirror_hits > 3 * n, "{what}: the rays come back ({mirror_hits} mirror hits for {n} rays)");
         for k in Kernel::available() {
             let o = TraceOptions { kernel: Some(k), ..opts(None, 2) };
             same(&trace(&sc, o), &reference, &format!("{what}, kernel {}", k.name()));
