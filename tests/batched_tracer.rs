@@ -250,23 +250,34 @@ fn returns_all_over_a_deep_bowl_match_the_reference() {
     // the vertex), with and without a central hole, aimed along the wall:
     // a ray inside a sphere keeps its distance from the centre at every
     // reflection (elementary geometry), so these near-grazing rays meet
-    // the bowl again and again, at points spread over it and out of the
-    // layout's plane, before leaving through its mouth or the hole. The
-    // batched tracer's prediction that a reflected ray cannot come back
-    // must never drop one of those returns (common practice: the scalar
-    // tracer is the oracle, and its exact solve finds every return).
-    let cases = [(20.0, [-77.8, 45.5], 145.0, 25.0), (0.0, [-77.8, 45.5], 145.0, 25.0), (20.0, [60.0, 40.0], 215.0, 40.0)];
-    for (hole, centre, aim, half) in cases {
+    // the bowl again and again (in the ellipsoids about as often), at
+    // points spread over it and out of the layout's plane, before leaving
+    // through its mouth or the hole. The batched tracer's prediction that
+    // a reflected ray cannot come back must never drop one of those
+    // returns (common practice: the scalar tracer is the oracle, and its
+    // exact solve finds every return).
+    //
+    // (conic constant, aperture, hole, lamp position, aim, cone
+    // half-angle): a sphere, and a prolate and an oblate ellipsoid, whose
+    // returns test the conic terms of the prediction.
+    let cases = [
+        (0.0, 190.0, 20.0, [-77.8, 45.5], 145.0, 25.0),
+        (0.0, 190.0, 0.0, [-77.8, 45.5], 145.0, 25.0),
+        (0.0, 190.0, 20.0, [60.0, 40.0], 215.0, 40.0),
+        (-0.5, 190.0, 20.0, [-70.0, 40.0], 150.0, 25.0),
+        (0.6, 150.0, 0.0, [55.0, 35.0], 215.0, 30.0),
+    ];
+    for (conic, diameter, hole, centre, aim, half) in cases {
         let text = layout(
             &[
-                mirror("bowl", [0.0, 0.0], 0.0, Some(100.0), 0.0, 190.0, 0.0, hole, None),
+                mirror("bowl", [0.0, 0.0], 0.0, Some(100.0), conic, diameter, 0.0, hole, None),
                 screen("lid", [0.0, 160.0], 180.0, 400.0, "square", true),
             ],
             &[lamp("inside", centre, aim, half, 4000, 1.0)],
         );
         let sc = scene(&text);
         let reference = trace_reference(&sc, opts(None, 1));
-        let what = format!("hole {hole}, lamp at {centre:?}");
+        let what = format!("conic {conic}, hole {hole}, lamp at {centre:?}");
         let (n, mirror_hits) = (reference.rays_launched, reference.surface_hits - reference.screens[0].len() as u64);
         assert!(2 * mirror_hits > 3 * n, "{what}: the rays come back ({mirror_hits} mirror hits for {n} rays)");
         for k in Kernel::available() {
