@@ -566,3 +566,90 @@ fn progress_counts_every_trace_and_reports_its_cost() {
     assert!(r.iterations >= 1 && 2 * r.iterations < seen.len(), "{} iterations, {} traces", r.iterations, seen.len());
     assert!((seen[0].1 - start).abs() <= 1e-12 * start, "{} vs {start}", seen[0].1);
 }
+
+// ---- The Jacobian the search takes (finite differences), against the
+// derivatives worked from a plain trace. ----
+
+/// The sphere-f5 preset with its screen `along` mm up its axis (the
+/// screen looks along +z, so center[1] moves by `along`) and `size` mm
+/// wide, and its hits there: (u, v, p = du/dw, q = dv/dw, weight).
+fn shifted_screen(along: f64, size: f64) -> (Layout, Vec<[f64; 5]>) {
+    let mut l = preset("sphere-f5");
+    set_field(&mut l, "focus.center[1]", along).unwrap();
+    set_field(&mut l, "focus.size", size).unwrap();
+    let res = trace(&Scene::compile(&l), TraceOptions { rays: Some(RAYS), ..Default::default() });
+    let h = &res.screens[0];
+    let hits = (0..h.len()).map(|i| [h.u[i], h.v[i], h.du[i] / h.dw[i], h.dv[i] / h.dw[i], h.weight[i]]).collect();
+    (l, hits)
+}
+
+/// The rms residuals' derivatives by the screen's shift s along its axis,
+/// every ray arriving: a ray's (u, v) moves by s·(p, q) (a straight line),
+/// the weighted centroid by s·(p̄, q̄), so its pair of slots √(wᵢ/W)·(uᵢ −
+/// ū, vᵢ − v̄) changes at √(wᵢ/W)·(pᵢ − p̄, qᵢ − q̄) (elementary calculus).
+fn shift_column(hits: &[[f64; 5]]) -> Vec<f64> {
+    let w: f64 = hits.iter().map(|x| x[4]).sum();
+    let (mp, mq) = (hits.iter().map(|x| x[4] * x[2]).sum::<f64>() / w, hits.iter().map(|x| x[4] * x[3]).sum::<f64>() / w);
+    hits.iter().flat_map(|x| {
+        let k = (x[4] / w).sqrt();
+        [k * (x[2] - mp), k * (x[3] - mq)]
+    }).collect()
+}
+
+fn assert_column(got: &[f64], want: &[f64], what: &str) {
+    assert_eq!(got.len(), want.len(), "{what}: slots");
+    let scale = want.iter().fold(0.0f64, |m, x| m.max(x.abs()));
+    assert!(scale > 0.0, "{what}: a column of zeros tests nothing");
+    for (i, (g, e)) in got.iter().zip(want).enumerate() {
+        assert!((g - e).abs() <= 1e-7 * scale, "{what}: slot {i}: {g} vs {e}");
+    }
+}
+
+#[test]
+fn the_jacobian_of_a_screen_shift_is_each_rays_centred_slope() {
+    // The screen 20 mm before and after the focus (a converging and a
+    // diverging spot, some 4 mm across on a 20 mm screen): every ray
+    // arrives at both finite-difference steps, and the central difference
+    // of these linear residuals is their derivative.
+    for along in [20.0, -20.0] {
+        let (l, hits) = shifted_screen(along, 20.0);
+        assert_eq!(hits.len(), arrivals_by_source(&l).1[0], "every ray arrives");
+        let j = catoptric::design::optimise::jacobian(&l, &spec(&["focus.center[1]"], Goal::Rms, None)).unwrap();
+        assert_eq!(j.len(), 1);
+        assert_column(&j[0], &shift_column(&hits), &format!("screen {along} mm along"));
+    }
+}
+
+#[test]
+fn a_ray_at_the_screens_edge_gets_a_one_sided_difference() {
+    // The screen's edge put half a finite-difference step (FD_REL of the
+    // shift, as the search takes it) outside the outermost ray: stepping
+    // one way loses that ray, so the derivative is the one-sided
+    // difference on the other side, where the hits are those at the
+    // start. Before the focus the spot grows as the screen moves up (the
+    // ray is lost on the step up), after it the spot shrinks (lost on the
+    // step down): both one-sided forms.
+    use catoptric::design::optimise::FD_REL;
+    for along in [20.0, -20.0] {
+        let (_, hits) = shifted_screen(along, 20.0);
+        let h = FD_REL * f64::max(along.abs(), 1.0);
+        // The ray farthest out in the square's sense, and how fast it moves
+        // out as the screen moves up.
+        let reach = |x: &[f64; 5]| if x[0].abs() >= x[1].abs() { (x[0].abs(), x[0].signum() * x[2]) } else { (x[1].abs(), x[1].signum() * x[3]) };
+        let (m, out) = hits.iter().map(reach).fold((0.0, 0.0), |a, b| if b.0 > a.0 { b } else { a });
+        assert!(out.abs() > 1e-3, "the outermost ray moves ({out})");
+        let size = 2.0 * (m + 0.5 * h * out.abs());
+        let (l, at_start) = shifted_screen(along, size);
+        assert_eq!(at_start.len(), hits.len(), "every ray arrives at the start");
+        let count = |s: f64| shifted_screen(along + s, size).1.len();
+        let (up, down) = (count(h), count(-h));
+        let what = format!("screen {along} mm along");
+        if out > 0.0 {
+            assert!(up < hits.len() && down == hits.len(), "{what}: lost on the step up only ({up}, {down} of {})", hits.len());
+        } else {
+            assert!(down < hits.len() && up == hits.len(), "{what}: lost on the step down only ({up}, {down} of {})", hits.len());
+        }
+        let j = catoptric::design::optimise::jacobian(&l, &spec(&["focus.center[1]"], Goal::Rms, None)).unwrap();
+        assert_column(&j[0], &shift_column(&at_start), &what);
+    }
+}

@@ -386,6 +386,16 @@ pub fn residuals(layout: &Layout, spec: &OptimiseSpec) -> Result<Vec<f64>, Input
     Ok(problem.evaluate(&start).r.iter().copied().collect())
 }
 
+/// The finite-difference Jacobian the search takes at the layout as it
+/// is: one column per varied field, the derivatives of [`residuals`] by
+/// that field's value. Errors as [`optimise`]'s.
+pub fn jacobian(layout: &Layout, spec: &OptimiseSpec) -> Result<Vec<Vec<f64>>, InputError> {
+    let mut quiet = |_: usize, _: f64| {};
+    let (problem, start) = problem(layout, spec, &mut quiet)?;
+    let j = problem.jacobian().unwrap_or_else(|| DMatrix::zeros(problem.slots(), start.len()));
+    Ok(j.column_iter().map(|c| c.iter().copied().collect()).collect())
+}
+
 /// Checks a request and sets up its least-squares problem; also returns
 /// the variables' values in `layout`.
 fn problem<'a>(
