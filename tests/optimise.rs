@@ -653,3 +653,91 @@ fn a_ray_at_the_screens_edge_gets_a_one_sided_difference() {
         assert_column(&j[0], &shift_column(&at_start), &what);
     }
 }
+
+#[test]
+fn when_both_steps_lose_a_ray_the_step_shrinks_to_a_central_difference() {
+    // Tilting a round screen about its centre moves the rim of a
+    // converging spot out on one side and in on the other, so a screen
+    // edge within one finite-difference step of the outermost rays loses
+    // a ray whichever way the tilt steps. The search then takes the steps
+    // ten times smaller (common practice for a derivative across a
+    // discontinuity; our rule: up to four tries), where no ray is lost and
+    // the central difference holds. The column must be the residuals'
+    // derivative by the tilt, here from a central difference with every
+    // ray arriving (a screen 5× as wide) at a step of its own (elementary
+    // calculus: the residuals are smooth in the tilt while the hits stay
+    // the same).
+    use catoptric::design::optimise::{residuals, FD_REL};
+    let tilt0 = 0.0;
+    let h = FD_REL * f64::max(tilt0, 1.0);
+    let at = |tilt: f64, size: f64| {
+        let mut l = preset("sphere-f5");
+        set_field(&mut l, "focus.center[1]", 20.0).unwrap();
+        set_field(&mut l, "focus.axis_deg", tilt).unwrap();
+        set_field(&mut l, "focus.size", size).unwrap();
+        if let Element::Screen(s) = &mut l.elements[1] {
+            s.shape = catoptric::layout::ScreenShape::Circle;
+        }
+        l
+    };
+    // The outermost reach (from the screen's centre) of the hits at a tilt.
+    let reach = |tilt: f64| {
+        let res = trace(&Scene::compile(&at(tilt, 20.0)), TraceOptions { rays: Some(RAYS), ..Default::default() });
+        let h = &res.screens[0];
+        (0..h.len()).map(|i| h.u[i].hypot(h.v[i])).fold(0.0f64, f64::max)
+    };
+    let (r0, r_up, r_down) = (reach(tilt0), reach(tilt0 + h), reach(tilt0 - h));
+    let r_small = reach(tilt0 + 0.1 * h).max(reach(tilt0 - 0.1 * h)).max(r0);
+    // Both full steps reach farther out than any of the smaller ones.
+    let lo = r_small;
+    let hi = r_up.min(r_down);
+    assert!(hi > lo, "a gap between the steps' reaches ({lo} .. {hi})");
+    let size = lo + hi; // twice the midpoint: the half-width lies in the gap
+    let count = |tilt: f64| arrivals_by_source(&at(tilt, size)).0[0].len();
+    let n = count(tilt0);
+    assert_eq!(n, arrivals_by_source(&at(tilt0, 20.0)).0[0].len(), "every ray arrives at the start");
+    let (up, down) = (count(tilt0 + h), count(tilt0 - h));
+    assert!(up < n && down < n, "both full steps lose a ray ({up}, {down} of {n})");
+    assert!(count(tilt0 + 0.1 * h) == n && count(tilt0 - 0.1 * h) == n, "the steps a tenth as long lose none");
+    let j = catoptric::design::optimise::jacobian(&at(tilt0, size), &spec(&["focus.axis_deg"], Goal::Rms, None)).unwrap();
+    let d = 7.3 * h;
+    let r = |tilt: f64| residuals(&at(tilt, 5.0 * size), &spec(&["focus.axis_deg"], Goal::Rms, None)).unwrap();
+    let want: Vec<f64> = r(tilt0 + d).iter().zip(r(tilt0 - d)).map(|(p, m)| (p - m) / (2.0 * d)).collect();
+    let scale = want.iter().fold(0.0f64, |m, x| m.max(x.abs()));
+    assert!(scale > 0.0, "the tilt moves the spot");
+    assert_eq!(j[0].len(), want.len());
+    // A central difference over a tenth of 10⁻⁶° carries rounding of
+    // some 5·10⁻⁶ of the column's scale; a step that never shrank gives
+    // a column of zeros (no usable difference).
+    for (i, (g, e)) in j[0].iter().zip(&want).enumerate() {
+        assert!((g - e).abs() <= 3e-5 * scale, "slot {i}: {g} vs {e}");
+    }
+}
+
+#[test]
+fn the_step_scales_with_the_variable() {
+    // The finite-difference step is FD_REL of the variable's size (at
+    // least FD_REL): for a mirror radius of 2000 mm a step of 2·10⁻³ mm,
+    // whose central difference is accurate to (h/R)² ≈ 10⁻¹² in
+    // truncation and some 10⁻¹⁰ in rounding (common practice for
+    // choosing a difference step: Numerical Recipes, 3rd ed., §5.7). The
+    // column must match the derivative by the radius, here from a central
+    // difference over ±0.05 mm (the residuals are smooth in the radius
+    // while every ray arrives), to 10⁻⁷ of its scale.
+    use catoptric::design::optimise::residuals;
+    let at = |radius: f64| {
+        let mut l = preset("sphere-f5");
+        set_field(&mut l, "focus.center[1]", 20.0).unwrap();
+        set_field(&mut l, "primary.profile.radius", radius).unwrap();
+        l
+    };
+    let r0 = 2000.0;
+    let sp = spec(&["primary.profile.radius"], Goal::Rms, None);
+    let j = catoptric::design::optimise::jacobian(&at(r0), &sp).unwrap();
+    let d = 0.05;
+    let want: Vec<f64> = residuals(&at(r0 + d), &sp).unwrap().iter().zip(residuals(&at(r0 - d), &sp).unwrap()).map(|(p, m)| (p - m) / (2.0 * d)).collect();
+    let scale = want.iter().fold(0.0f64, |m, x| m.max(x.abs()));
+    assert!(scale > 0.0, "the radius moves the spot");
+    let err = j[0].iter().zip(&want).map(|(g, e)| (g - e).abs()).fold(0.0f64, f64::max) / scale;
+    assert!(err <= 1e-7, "largest difference {err} of the column's scale");
+}
