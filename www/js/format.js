@@ -134,7 +134,7 @@ export function fmtPos(mm, scale, sig = 5) {
 /** Labels, units and hover explanations of report keys. */
 const INFO = {
   rays_launched: ['launched', 'rays', 'Rays launched by all sources in the last trace'],
-  rays_escaped: ['escaped', 'rays', 'Rays that left the scene without being absorbed'],
+  rays_escaped: ['escaped', 'rays', 'Rays that left the scene without being absorbed (including rays that crossed a see-through screen)'],
   rays_absorbed: ['absorbed', 'rays', 'Rays stopped by a mirror back, an opaque screen or the bounce limit'],
   hits: ['hits', '', 'Rays arriving on the sensitive face of the screen'],
   power_w: ['power', 'W', 'Power carried by the rays that reached the screen'],
