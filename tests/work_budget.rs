@@ -155,3 +155,25 @@ fn the_cap_is_shared_between_chunks_in_proportion_to_their_rays() {
         assert_eq!(trace(&sc, opts(threads, cap)).limit, Some(Limit::TooManyHits { cap }), "{threads} threads");
     }
 }
+
+#[test]
+fn a_trace_recording_exactly_its_cap_is_kept_and_one_hit_more_is_not() {
+    // The cap is a most, not a least (our rule): a trace of one chunk whose
+    // rays each cross one screen once records exactly as many hits as
+    // rays; a cap of that many keeps them all, one fewer stops the trace.
+    // (The per-ray floor of the shares, MIN_HITS_PER_RAY, is then above
+    // the cap and does not apply: a chunk's share is at most the cap.)
+    let sc = catoptric::Scene::compile(&catoptric::bench_scenes::paraboloid_f4());
+    let base = TraceOptions { rays: Some(3000), ..Default::default() };
+    let free = trace(&sc, base);
+    let n = free.screens[0].len() as u64;
+    assert_eq!(n, free.rays_launched, "every ray arrives once");
+    assert!(n < 16_384, "one chunk ({n} rays)");
+    for threads in [1, 2] {
+        let at = |cap: u64| trace(&sc, TraceOptions { threads: Some(threads), max_hits: Some(cap), ..base });
+        let exact = at(n);
+        assert_eq!(exact.limit, None, "{threads} threads: a cap of exactly the hits");
+        assert_eq!(exact.screens[0].len() as u64, n);
+        assert_eq!(at(n - 1).limit, Some(Limit::TooManyHits { cap: n - 1 }), "{threads} threads: one fewer");
+    }
+}
