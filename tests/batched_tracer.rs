@@ -415,3 +415,32 @@ fn a_trace_too_large_to_write_in_place_merges_chunk_buffers_identically() {
         same(&trace(&sc, opts(None, threads)), &one, &format!("{threads} threads"));
     }
 }
+
+#[test]
+fn marginal_rays_of_a_deep_sphere_return_to_it_across_the_axis() {
+    // A beam down the axis of a sphere of radius 100 mm opened to 160 mm:
+    // a ray at height h reflects to cross the axis R − R/(2 cos θ) above
+    // the vertex (sin θ = h/R; spherical aberration, elementary geometry),
+    // so the outer rays (from about h = 70 mm) cross it low and meet the
+    // bowl again on the far side. Their second root lies across the
+    // aperture, while the point as far behind the first hit lies well
+    // outside it: the return prediction must look ahead along the
+    // reflected ray. The same bowl a thousand times smaller too (the
+    // geometry has no scale; the tracer's tolerances follow the scene's
+    // size), where the line's quadratic coefficients exceed 1. Bit for bit
+    // with the reference (common practice: the scalar tracer as oracle).
+    for scale in [1.0, 1e-3] {
+        let text = layout(
+            &[mirror("bowl", [0.0, 0.0], 0.0, Some(100.0 * scale), 0.0, 160.0 * scale, 0.0, 0.0, None)],
+            &[beam("star", [0.0, 150.0 * scale], 180.0, 160.0 * scale, 3000, "hex")],
+        );
+        let sc = scene(&text);
+        let reference = trace_reference(&sc, opts(None, 1));
+        let (hits, rays) = (reference.surface_hits, reference.rays_launched);
+        assert!(hits > rays + 100, "scale {scale}: the outer rays should meet the bowl twice ({hits} hits, {rays} rays)");
+        for k in Kernel::available() {
+            let o = TraceOptions { kernel: Some(k), ..opts(None, 1) };
+            same(&trace(&sc, o), &reference, &format!("scale {scale}, kernel {}", k.name()));
+        }
+    }
+}
