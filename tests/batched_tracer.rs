@@ -421,7 +421,7 @@ fn marginal_rays_of_a_deep_sphere_return_to_it_across_the_axis() {
     // A beam down the axis of a sphere of radius 100 mm opened to 160 mm:
     // a ray at height h reflects to cross the axis R − R/(2 cos θ) above
     // the vertex (sin θ = h/R; spherical aberration, elementary geometry),
-    // so the outer rays (from about h = 70 mm) cross it low and meet the
+    // so the outer rays (from about h = 67 mm) cross it low and meet the
     // bowl again on the far side. Their second root lies across the
     // aperture, while the point as far behind the first hit lies well
     // outside it: the return prediction must look ahead along the

@@ -168,7 +168,7 @@ fn a_trace_recording_exactly_its_cap_is_kept_and_one_hit_more_is_not() {
     let free = trace(&sc, base);
     let n = free.screens[0].len() as u64;
     assert_eq!(n, free.rays_launched, "every ray arrives once");
-    assert!(n < 16_384, "one chunk ({n} rays)");
+    assert!(n < catoptric::trace::CHUNK as u64, "one chunk ({n} rays)");
     for threads in [1, 2] {
         let at = |cap: u64| trace(&sc, TraceOptions { threads: Some(threads), max_hits: Some(cap), ..base });
         let exact = at(n);
