@@ -902,10 +902,10 @@ fn reflect_conic_body(rec: &Rec, cr: &ConicRec, k: u32, max_bounces: u32, eps: f
     }
     // …the new direction…
     let (lrx, lry, lrz) = (&mut b.s1[..n], &mut b.s2[..n], &mut b.s3[..n]);
+    conic_normals(cr, [hx, hy, hz], [&mut *lrx, &mut *lry, &mut *lrz]);
     for i in 0..n {
         let m = best[i] == k;
-        let (px, py, pz) = (hx[i], hy[i], hz[i]);
-        let (nx, ny, nz) = unit(if cr.extruded { 0.0 } else { -cr.c * px }, -cr.c * py, 1.0 - cr.kappa * pz);
+        let (nx, ny, nz) = (lrx[i], lry[i], lrz[i]);
         let (ldx, ldy, ldz) = f.dir_to_local(dx[i], dy[i], dz[i]);
         let dn = ldx * nx + ldy * ny + ldz * nz;
         let s = 2.0 * dn;
@@ -1016,6 +1016,46 @@ fn pick_u64(m: bool, a: u64, b: u64) -> u64 {
 fn pick_u32(m: bool, a: u32, b: u32) -> u32 {
     let mask = (m as u32).wrapping_neg();
     (a & mask) | (b & !mask)
+}
+
+/// The conic's unit normals at local points `p` into `out`, as [`unit`]
+/// rounds them. In a loop of its own: with the reflection in the same
+/// loop, the wasm build's compiler left the whole loop scalar, and on its
+/// own it still judged the root and division not worth two lanes, so the
+/// wasm build spells the pairs out (the same operations in the same
+/// order, so the same bits).
+#[inline(always)]
+fn conic_normals(cr: &ConicRec, p: [&[f64]; 3], out: [&mut [f64]; 3]) {
+    let [px, py, pz] = p;
+    let [nx, ny, nz] = out;
+    let n = px.len().min(py.len()).min(pz.len()).min(nx.len()).min(ny.len()).min(nz.len());
+    #[allow(unused_mut)]
+    let mut done = 0;
+    #[cfg(all(target_arch = "wasm32", target_feature = "simd128"))]
+    {
+        use core::arch::wasm32::{f64x2_add, f64x2_div, f64x2_mul, f64x2_splat, f64x2_sqrt, f64x2_sub, v128_load, v128_store};
+        let (mc, mk, one) = (f64x2_splat(-cr.c), f64x2_splat(cr.kappa), f64x2_splat(1.0));
+        let (xs, zero) = (!cr.extruded, f64x2_splat(0.0));
+        while done + 2 <= n {
+            let i = done;
+            // SAFETY: i + 1 < n, within every slice (n is the shortest);
+            // v128 loads and stores need no alignment.
+            unsafe {
+                let x = if xs { f64x2_mul(mc, v128_load(px.as_ptr().add(i).cast())) } else { zero };
+                let y = f64x2_mul(mc, v128_load(py.as_ptr().add(i).cast()));
+                let z = f64x2_sub(one, f64x2_mul(mk, v128_load(pz.as_ptr().add(i).cast())));
+                let len = f64x2_sqrt(f64x2_add(f64x2_add(f64x2_mul(x, x), f64x2_mul(y, y)), f64x2_mul(z, z)));
+                let inv = f64x2_div(one, len);
+                v128_store(nx.as_mut_ptr().add(i).cast(), f64x2_mul(x, inv));
+                v128_store(ny.as_mut_ptr().add(i).cast(), f64x2_mul(y, inv));
+                v128_store(nz.as_mut_ptr().add(i).cast(), f64x2_mul(z, inv));
+            }
+            done += 2;
+        }
+    }
+    for i in done..n {
+        (nx[i], ny[i], nz[i]) = unit(if cr.extruded { 0.0 } else { -cr.c * px[i] }, -cr.c * py[i], 1.0 - cr.kappa * pz[i]);
+    }
 }
 
 /// (x, y, z) scaled to unit length, as `geometry::unit` rounds it.

@@ -2,10 +2,12 @@
 //!
 //! `session` owns the page's working layout and hands results to JS as
 //! typed arrays over wasm memory; `bench` runs the throughput benchmark
-//! inside the browser or Node; `sun` sweeps a day for the day view.
+//! inside the browser or Node; `check` holds its batched tracer to the
+//! scalar reference there; `sun` sweeps a day for the day view.
 
 mod analysis;
 mod bench;
+mod check;
 mod design;
 mod psf;
 mod session;
