@@ -80,11 +80,14 @@ impl Clear {
             }
         }
     }
-    /// Same test as `Aperture::contains`, branch-free.
+    /// Same test as `Aperture::contains`, branch-free, for an aperture
+    /// known to be a strip (`STRIP`, which must equal `self.strip`) or a
+    /// disk: a loop over many rays then makes one of the two tests (a
+    /// vectorised loop would otherwise make both and pick one).
     #[inline(always)]
-    pub fn contains(&self, x: f64, y: f64) -> bool {
+    pub fn contains_as<const STRIP: bool>(&self, x: f64, y: f64) -> bool {
         let dy = y - self.offset;
-        if self.strip {
+        if STRIP {
             let a = dy.abs();
             (a <= self.outer) & (a >= self.inner) & (x.abs() <= self.half_length)
         } else {
@@ -94,15 +97,15 @@ impl Clear {
     }
 
     /// (x, y) lies more than `margin` outside the clear aperture (beyond
-    /// the rim or inside the hole), so `contains` fails there and at any
+    /// the rim or inside the hole), so `contains_as` fails there and at any
     /// point within `margin` of it. NaN coordinates are never clearly
-    /// outside.
+    /// outside. `STRIP` as for [`Clear::contains_as`].
     #[inline(always)]
-    pub fn clearly_outside(&self, x: f64, y: f64, margin: f64) -> bool {
+    pub fn clearly_outside<const STRIP: bool>(&self, x: f64, y: f64, margin: f64) -> bool {
         let dy = y - self.offset;
         let (out, inn) = (self.outer_len + margin, self.inner_len - margin);
         let hole = |q: f64| (inn > 0.0) & (q < inn * inn);
-        if self.strip {
+        if STRIP {
             let a = dy.abs();
             (a > out) | hole(a * a) | (x.abs() > self.half_length + margin)
         } else {

@@ -506,7 +506,7 @@ fn conic_roots(f: PlaneFrame, cr: &ConicRec, o: (f64, f64, f64), d: (f64, f64, f
 /// `t_best`: (hit, t from `t0`, the local hit point).
 #[inline(always)]
 #[allow(clippy::too_many_arguments)]
-fn conic_nearest(
+fn conic_nearest<const STRIP: bool>(
     f: PlaneFrame,
     cr: &ConicRec,
     eps: f64,
@@ -520,8 +520,8 @@ fn conic_nearest(
     let ((lx, ly, lz), (ldx, ldy, ldz)) = f.ray_to_local(o, d, t0);
     let (t_min, t_max) = (eps - t0, t_best - t0);
     // The sag branch through the vertex has (1+K)c·z < 1.
-    let v1 = (r1 > t_min) & (r1 < t_max) & (kap * (lz + r1 * ldz) < 1.0) & cr.clear.contains(lx + r1 * ldx, ly + r1 * ldy);
-    let v2 = (r2 > t_min) & (r2 < t_max) & (kap * (lz + r2 * ldz) < 1.0) & cr.clear.contains(lx + r2 * ldx, ly + r2 * ldy);
+    let v1 = (r1 > t_min) & (r1 < t_max) & (kap * (lz + r1 * ldz) < 1.0) & cr.clear.contains_as::<STRIP>(lx + r1 * ldx, ly + r1 * ldy);
+    let v2 = (r2 > t_min) & (r2 < t_max) & (kap * (lz + r2 * ldz) < 1.0) & cr.clear.contains_as::<STRIP>(lx + r2 * ldx, ly + r2 * ldy);
     let a1 = if v1 { r1 } else { f64::INFINITY };
     let a2 = if v2 { r2 } else { f64::INFINITY };
     let t = if a2 < a1 { a2 } else { a1 };
@@ -571,10 +571,16 @@ fn sparse(
 
 #[inline(always)]
 fn conic_body(r: &Rec, cr: &ConicRec, k: u32, eps: f64, kept: usize, b: &mut Batch, n: usize) -> usize {
+    if cr.clear.strip { conic_rays::<true>(r, cr, k, eps, kept, b, n) } else { conic_rays::<false>(r, cr, k, eps, kept, b, n) }
+}
+
+/// [`conic_body`] for a strip (`STRIP`) or a disk aperture.
+#[inline(always)]
+fn conic_rays<const STRIP: bool>(r: &Rec, cr: &ConicRec, k: u32, eps: f64, kept: usize, b: &mut Batch, n: usize) -> usize {
     let f = r.frame;
     if kept * SPARSE < n {
         return sparse(b, n, k, |o, d, t0, t_best| {
-            let (hit, t, p) = conic_nearest(f, cr, eps, o, d, t0, t_best, conic_roots(f, cr, o, d, t0));
+            let (hit, t, p) = conic_nearest::<STRIP>(f, cr, eps, o, d, t0, t_best, conic_roots(f, cr, o, d, t0));
             (hit, t0 + t, p)
         });
     }
@@ -595,7 +601,7 @@ fn conic_body(r: &Rec, cr: &ConicRec, k: u32, eps: f64, kept: usize, b: &mut Bat
     let (root1, root2) = (&b.s1[..n], &b.s2[..n]);
     for i in 0..n {
         let t0 = t0s[i];
-        let (on, t, (px, py, pz)) = conic_nearest(f, cr, eps, (ox[i], oy[i], oz[i]), (dx[i], dy[i], dz[i]), t0, tb[i], (root1[i], root2[i]));
+        let (on, t, (px, py, pz)) = conic_nearest::<STRIP>(f, cr, eps, (ox[i], oy[i], oz[i]), (dx[i], dy[i], dz[i]), t0, tb[i], (root1[i], root2[i]));
         let hit = (keep[i] != 0) & on;
         hits += hit as usize;
         ntb[i] = pick(hit, t0 + t, tb[i]);
@@ -876,6 +882,17 @@ fn cross_body(rec: &Rec, k: u32, opaque: bool, b: &mut Batch, n: usize) {
 #[inline(always)]
 #[allow(clippy::too_many_arguments)]
 fn reflect_conic_body(rec: &Rec, cr: &ConicRec, k: u32, max_bounces: u32, eps: f64, predict: bool, b: &mut Batch, n: usize) {
+    if cr.clear.strip {
+        reflect_rays::<true>(rec, cr, k, max_bounces, eps, predict, b, n)
+    } else {
+        reflect_rays::<false>(rec, cr, k, max_bounces, eps, predict, b, n)
+    }
+}
+
+/// [`reflect_conic_body`] for a strip (`STRIP`) or a disk aperture.
+#[inline(always)]
+#[allow(clippy::too_many_arguments)]
+fn reflect_rays<const STRIP: bool>(rec: &Rec, cr: &ConicRec, k: u32, max_bounces: u32, eps: f64, predict: bool, b: &mut Batch, n: usize) {
     let f = rec.frame;
     let (c, kap) = (cr.c, cr.kappa);
     let xs = if cr.extruded { 0.0 } else { 1.0 };
@@ -932,7 +949,7 @@ fn reflect_conic_body(rec: &Rec, cr: &ConicRec, k: u32, max_bounces: u32, eps: f
         let t2 = -2.0 * qb / qa;
         let (qx, qy, qz) = (px + rx * t2, py + ry * t2, pz + rz * t2);
         let margin = near + SECOND_ROOT_REL * t2.abs();
-        let off = cr.clear.clearly_outside(qx, qy, margin) | (kap * qz > 1.0 + SECOND_ROOT_REL);
+        let off = cr.clear.clearly_outside::<STRIP>(qx, qy, margin) | (kap * qz > 1.0 + SECOND_ROOT_REL);
         let gone = (t2 < -near) | (t2.abs() == f64::INFINITY) | ((t2 > near) & off);
         gone_col[i] = if gone { 1.0 } else { 0.0 };
     }
