@@ -493,3 +493,52 @@ fn a_general_mirror_beyond_or_behind_a_nearer_crossing_is_traced_like_the_refere
         same(&trace(&sc, opts(None, 2)), &reference, name);
     }
 }
+
+#[test]
+fn the_element_a_ray_skips_is_the_one_it_just_left() {
+    // After a flat mirror or a screen, a ray is told to skip that element
+    // on its next leg (it cannot meet it again before something turns
+    // it), and only that one: the next element on its path must stay in
+    // reach, whether the other rays of its batch met the same element or
+    // crossed a screen in the same round. Two periscopes (two flat
+    // mirrors at 45°, law of reflection: Hecht, Optics, ch. 4) with the
+    // elements numbered so that a mixed-up number (2 | 1, 3 | 1) is the
+    // next element on the path; element 0 is a screen off to the side
+    // that nothing meets. Every ray that enters the periscope reaches its
+    // last screen, and bit for bit with the scalar reference (common
+    // practice).
+    let flat = |id: &str, at: [f64; 2], axis: f64| mirror(id, at, axis, None, 0.0, 30.0, 0.0, 0.0, None);
+    let aside = screen("aside", [500.0, 500.0], 0.0, 1.0, "circle", false);
+    let last = |id: &str| screen(id, [60.0, 100.0], 180.0, 60.0, "circle", false);
+    // (a) elements: aside, in (1), out (2), top (3): in → out → top.
+    let a = layout(
+        &[aside.clone(), flat("in", [0.0, 0.0], 45.0), flat("out", [60.0, 0.0], -45.0), last("top")],
+        &[beam("star", [0.0, 100.0], 180.0, 10.0, 500, "hex")],
+    );
+    // (b) a wider beam: its rim misses "in" and crosses the see-through
+    // "floor" (2) in the same round as the rest reflect off "in" (1);
+    // then out (3), top (4).
+    let b = layout(
+        &[
+            aside,
+            flat("in", [0.0, 0.0], 45.0),
+            screen("floor", [0.0, -20.0], 0.0, 80.0, "circle", false),
+            flat("out", [60.0, 0.0], -45.0),
+            last("top"),
+        ],
+        &[beam("star", [0.0, 100.0], 180.0, 40.0, 2000, "hex")],
+    );
+    for (name, text, top) in [("one beam", a, 3), ("beam and rim", b, 4)] {
+        let sc = scene(&text);
+        let reference = trace_reference(&sc, opts(None, 1));
+        let on = |k: usize| sc.screen_ids.iter().position(|s| *s == sc.elements[k].id).map_or(0, |i| reference.screens[i].len());
+        let (rays, reached) = (reference.rays_launched as usize, on(top));
+        if name == "one beam" {
+            assert_eq!(reached, rays, "{name}: every ray reaches the top screen");
+        } else {
+            let floor = on(2);
+            assert!(floor > rays / 4 && reached > rays / 8 && floor + reached == rays, "{name}: {floor} on the floor, {reached} at the top of {rays}");
+        }
+        same(&trace(&sc, opts(None, 2)), &reference, name);
+    }
+}
