@@ -11,12 +11,14 @@ use wasm_bindgen::prelude::*;
 /// counts when absent) by the batched tracer and by the reference, and
 /// returns how many of the results' values differ in any bit: the
 /// counters, each screen's hit count, then every recorded value (NaN
-/// equals NaN). An unreadable layout is an error naming what is wrong.
+/// equals NaN). An unreadable layout or a ray count outside the page's
+/// range is an error naming what is wrong.
 #[wasm_bindgen]
 pub fn kernel_check(layout_json: &str, rays: Option<u32>) -> Result<u32, JsError> {
+    let rays = super::session::check_rays(rays)?;
     let layout = parse_layout(layout_json).map_err(|e| JsError::new(&e.to_string()))?;
     let scene = Scene::compile(&layout);
-    let opts = TraceOptions { rays: rays.map(|n| n as usize), ..Default::default() };
+    let opts = TraceOptions { rays, ..Default::default() };
     Ok(differences(&trace(&scene, opts), &trace_reference(&scene, opts)))
 }
 

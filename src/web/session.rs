@@ -79,7 +79,7 @@ fn input_error(e: crate::InputError) -> JsError {
 }
 
 /// Checks a page-given rays-per-source count.
-fn check_rays(rays: Option<u32>) -> Result<Option<usize>, JsError> {
+pub(super) fn check_rays(rays: Option<u32>) -> Result<Option<usize>, JsError> {
     match rays {
         Some(n) if n == 0 || n as u64 > MAX_RAYS_PER_SOURCE => {
             Err(JsError::new(&format!("rays per source: must be between 1 and {MAX_RAYS_PER_SOURCE} (got {n})")))

@@ -39,6 +39,9 @@ for (const file of presets) {
   });
 }
 
-test('a layout that does not parse is refused with a message', () => {
-  assert.throws(() => glue.kernel_check('{"version": 1', 100), /./);
+test('bad input is refused with a message naming what is wrong', () => {
+  assert.throws(() => glue.kernel_check('{"version": 1', 100), /not valid JSON/);
+  assert.throws(() => glue.kernel_check('{}', 100), /format/);
+  const text = readFileSync(join(WWW, 'presets', presets[0]), 'utf8');
+  assert.throws(() => glue.kernel_check(text, 0), /rays per source/);
 });
